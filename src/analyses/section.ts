@@ -1,0 +1,78 @@
+/**
+ * The single-cross-section question: at a given holdup or flow fraction, how do the two phases
+ * share a channel? Exports `analyseSection` (typed input → typed summary, SI units) used by the
+ * `section` command and by the report. Calls the physics; does no I/O.
+ */
+import { flowFractionAt, holdupForFlowFraction, area, type RectSection, type TwoPhaseState } from '../physics/section.js';
+import { velocityMaximum, type VelocityMaximum } from '../physics/field.js';
+import { StratiflowError } from '../errors.js';
+
+export interface SectionQuery {
+  section: RectSection;
+  muA: number;
+  muB: number;
+  /** Exactly one of holdup and flowFraction. */
+  holdup?: number;
+  flowFraction?: number;
+  /** Total flow of both phases, m³/s; when given, velocities and gradient are absolute. */
+  totalFlow?: number;
+}
+
+export interface SectionSummary {
+  holdup: number;
+  flowFraction: number;
+  viscosityRatio: number;
+  aspectRatio: number;
+  /** Flow per unit pressure gradient, m⁴/(Pa·s). */
+  qPerGradient: { a: number; b: number };
+  /** dφ/dα and dα/dφ. */
+  dFlowFractionDHoldup: number;
+  dHoldupDFlowFraction: number;
+  /** Pressure gradient per unit total flow, Pa·s/m⁴ (hydraulic resistance per length). */
+  resistancePerLength: number;
+  /** Pressure gradient, Pa/m, and mean velocity of each phase, m/s, at `totalFlow` (or per unit gradient, m²/(Pa·s)). */
+  gradient: number | null;
+  meanVelocity: { a: number; b: number };
+  velocityPerGradient: boolean;
+  maximum: VelocityMaximum;
+}
+
+export function analyseSection(query: SectionQuery): SectionSummary {
+  const { section, muA, muB } = query;
+  const check = (ok: boolean, field: string, message: string) => {
+    if (!ok) throw new StratiflowError('bad-option', message, { field });
+  };
+  check(section.width > 0, '--width', 'must be a positive length');
+  check(section.depth > 0, '--depth', 'must be a positive length');
+  check(muA > 0, '--mu-a', 'must be a positive viscosity');
+  check(muB > 0, '--mu-b', 'must be a positive viscosity');
+  check((query.holdup === undefined) !== (query.flowFraction === undefined), '--holdup', 'give exactly one of --holdup and --flow-fraction');
+  if (query.holdup !== undefined) check(query.holdup > 0 && query.holdup < 1, '--holdup', 'must lie strictly between 0 and 1');
+  if (query.flowFraction !== undefined) check(query.flowFraction > 0 && query.flowFraction < 1, '--flow-fraction', 'must lie strictly between 0 and 1');
+  if (query.totalFlow !== undefined) check(query.totalFlow > 0, '--flow', 'must be a positive flow');
+
+  const state: TwoPhaseState =
+    query.holdup !== undefined
+      ? flowFractionAt(section, muA, muB, query.holdup)
+      : holdupForFlowFraction(section, muA, muB, query.flowFraction!);
+  const k = state.kA + state.kB;
+  const gradient = query.totalFlow !== undefined ? query.totalFlow / k : null;
+  const g = gradient ?? 1;
+  const areaA = state.holdup * area(section);
+  const areaB = (1 - state.holdup) * area(section);
+  const maximum = velocityMaximum(section, state.holdup, muA, muB);
+  return {
+    holdup: state.holdup,
+    flowFraction: query.flowFraction ?? state.flowFraction,
+    viscosityRatio: muA / muB,
+    aspectRatio: section.width / section.depth,
+    qPerGradient: { a: state.kA, b: state.kB },
+    dFlowFractionDHoldup: state.dFlowFraction,
+    dHoldupDFlowFraction: 1 / state.dFlowFraction,
+    resistancePerLength: 1 / k,
+    gradient,
+    meanVelocity: { a: (g * state.kA) / areaA, b: (g * state.kB) / areaB },
+    velocityPerGradient: gradient === null,
+    maximum: { ...maximum, u: maximum.u * g },
+  };
+}

@@ -1,0 +1,60 @@
+/**
+ * The stratiflow command line: builds the commander program from one module per command and
+ * turns known errors into one line and an exit status. Exports `main(argv)` → exit status.
+ */
+import { Command, CommanderError } from 'commander';
+import { StratiflowError } from '../errors.js';
+import { registerSection } from './section.js';
+import { registerSolve } from './solve.js';
+import { registerSchema } from './schema.js';
+import { registerFluids } from './fluids.js';
+import { registerMake } from './make.js';
+
+export interface CommandContext {
+  /** Standard output and error writers, replaceable in tests. */
+  out: (text: string) => void;
+  err: (text: string) => void;
+}
+
+export type Registrar = (program: Command, context: CommandContext) => void;
+
+const COMMANDS: Registrar[] = [registerSection, registerSolve, registerMake, registerSchema, registerFluids];
+
+export function buildProgram(context: CommandContext): Command {
+  const program = new Command('stratiflow')
+    .description('Two-phase stratified flow in parallel microfluidic extraction chips.')
+    .version('0.1.0')
+    .showHelpAfterError(false)
+    .exitOverride()
+    .configureOutput({
+      writeOut: (s) => context.out(s),
+      writeErr: (s) => context.err(s),
+      outputError: (s, write) => write(s.replace(/^error: /, 'stratiflow: ')),
+    });
+  for (const register of COMMANDS) register(program, context);
+  return program;
+}
+
+export async function main(argv: string[], context: CommandContext = defaultContext()): Promise<number> {
+  const program = buildProgram(context);
+  try {
+    await program.parseAsync(argv);
+    return 0;
+  } catch (error) {
+    if (error instanceof CommanderError) {
+      if (error.code === 'commander.helpDisplayed' || error.code === 'commander.version' || error.exitCode === 0) return 0;
+      return 2;
+    }
+    if (error instanceof StratiflowError) {
+      context.err(`stratiflow: ${error.format()}\n`);
+      return error.exitStatus;
+    }
+    const message = error instanceof Error ? error.message : String(error);
+    context.err(`stratiflow: internal error: ${message}\n`);
+    return 70;
+  }
+}
+
+function defaultContext(): CommandContext {
+  return { out: (s) => process.stdout.write(s), err: (s) => process.stderr.write(s) };
+}

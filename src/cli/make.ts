@@ -1,0 +1,106 @@
+/**
+ * `stratiflow make ladder|tree`: write a generated layout file (YAML or JSON by extension).
+ */
+import type { Command } from 'commander';
+import { stringify } from 'yaml';
+import { ladderLayout, treeLayout, LADDER_DEFAULTS, TREE_DEFAULTS, type CommonOptions } from '../layout/generate.js';
+import { choiceOption, numberOption, quantityOption } from './options.js';
+import { writeFileAtomic } from './io.js';
+import { optionError } from '../errors.js';
+import type { CommandContext } from './main.js';
+
+type Raw = Record<string, string | undefined>;
+
+function common(o: Raw, defaults: CommonOptions): Partial<CommonOptions> {
+  const q = (key: string, flag: string, dim: Parameters<typeof quantityOption>[2]) => quantityOption(o[key], flag, dim, true);
+  const size = (prefix: string, base: { width: number; depth: number; length: number }) => ({
+    width: q(`${prefix}Width`, `--${prefix}-width`, 'length') ?? base.width,
+    depth: q('depth', '--depth', 'length') ?? base.depth,
+    length: q(`${prefix}Length`, `--${prefix}-length`, 'length') ?? base.length,
+  });
+  const drive = (phase: 'A' | 'B') => {
+    const p = q(`pressure${phase}`, `--pressure-${phase.toLowerCase()}`, 'pressure');
+    const f = q(`flow${phase}`, `--flow-${phase.toLowerCase()}`, 'flow');
+    if (p !== undefined && f !== undefined) throw optionError(`--flow-${phase.toLowerCase()}`, `give either --pressure-${phase.toLowerCase()} or --flow-${phase.toLowerCase()}`);
+    return f !== undefined ? { flow: f } : { pressure: p ?? (defaults.drive[phase] as { pressure: number }).pressure };
+  };
+  const tubeDiameter = q('tubeDiameter', '--tube-diameter', 'length');
+  const tubeLength = q('tubeLength', '--tube-length', 'length');
+  return {
+    name: o.name ?? defaults.name,
+    phaseA: { ...defaults.phaseA, viscosity: q('muA', '--mu-a', 'viscosity') ?? defaults.phaseA.viscosity },
+    phaseB: { ...defaults.phaseB, viscosity: q('muB', '--mu-b', 'viscosity') ?? defaults.phaseB.viscosity },
+    interfacialTension: q('tension', '--tension', 'tension') ?? defaults.interfacialTension,
+    drive: { A: drive('A'), B: drive('B') },
+    contactor: { ...size('contactor', defaults.contactor), orientation: choiceOption(o.orientation ?? 'side', '--orientation', ['side', 'stacked'] as const) },
+    feed: size('feed', defaults.feed),
+    drain: size('drain', defaults.drain),
+    tubing: tubeDiameter !== undefined || tubeLength !== undefined ? { diameter: tubeDiameter ?? 250e-6, length: tubeLength ?? 0.3 } : undefined,
+  };
+}
+
+function commonFlags(cmd: Command): Command {
+  return cmd
+    .option('--out <file>', 'layout file to write (.yaml, .yml or .json)')
+    .option('--name <text>', 'chip name')
+    .option('--mu-a <viscosity>', 'viscosity of phase A')
+    .option('--mu-b <viscosity>', 'viscosity of phase B')
+    .option('--tension <tension>', 'interfacial tension between A and B')
+    .option('--pressure-a <pressure>', 'inlet pressure of phase A')
+    .option('--pressure-b <pressure>', 'inlet pressure of phase B')
+    .option('--flow-a <flow>', 'inlet flow of phase A (instead of a pressure)')
+    .option('--flow-b <flow>', 'inlet flow of phase B (instead of a pressure)')
+    .option('--depth <length>', 'etch depth of all channels')
+    .option('--contactor-width <length>', 'contactor width')
+    .option('--contactor-length <length>', 'contactor length')
+    .option('--orientation <side|stacked>', 'layers in the contactors', 'side')
+    .option('--feed-width <length>', 'width of the feed channels into each merge')
+    .option('--feed-length <length>', 'length of the feed channels')
+    .option('--drain-width <length>', 'width of the outlet arms after each split')
+    .option('--drain-length <length>', 'length of the outlet arms')
+    .option('--pitch <length>', 'distance between neighbouring contactors')
+    .option('--tube-diameter <length>', 'tubing to each inlet and outlet: inner diameter')
+    .option('--tube-length <length>', 'tubing to each inlet and outlet: length');
+}
+
+function emit(context: CommandContext, layout: object, out: string | undefined): void {
+  const text = out?.endsWith('.json') ? JSON.stringify(layout, null, 2) + '\n' : stringify(layout, { lineWidth: 0 });
+  if (out) writeFileAtomic(out, text);
+  else context.out(text);
+}
+
+export function registerMake(program: Command, context: CommandContext): void {
+  const make = program.command('make').description('Write a generated layout file for a numbered-up chip.');
+  commonFlags(make.command('ladder').description('N contactors in a row between two distribution and two collection manifolds.'))
+    .option('--contactors <n>', 'number of contactors', '16')
+    .option('--manifold-width <length>', 'manifold width')
+    .option('--inlets <end|middle>', 'where the inlets join the distribution manifolds', 'end')
+    .option('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds', 'opposite')
+    .action((o: Raw) => {
+      const contactors = numberOption(o.contactors, '--contactors')!;
+      if (!Number.isInteger(contactors) || contactors < 1 || contactors > 100000) throw optionError('--contactors', 'must be a whole number from 1 to 100000');
+      emit(context, ladderLayout({
+        ...common(o, LADDER_DEFAULTS),
+        contactors,
+        pitch: quantityOption(o.pitch, '--pitch', 'length', true) ?? LADDER_DEFAULTS.pitch,
+        manifold: { width: quantityOption(o.manifoldWidth, '--manifold-width', 'length', true) ?? LADDER_DEFAULTS.manifold.width, depth: quantityOption(o.depth, '--depth', 'length', true) ?? LADDER_DEFAULTS.manifold.depth },
+        inletAt: choiceOption(o.inlets, '--inlets', ['end', 'middle'] as const),
+        outletAt: choiceOption(o.outlets, '--outlets', ['same', 'opposite', 'middle'] as const),
+      }), o.out);
+    });
+  commonFlags(make.command('tree').description('2^k contactors fed and drained by bifurcating trees.'))
+    .option('--levels <k>', 'number of bifurcation levels (2^k contactors)', '4')
+    .option('--branch-width <length>', 'width of the root branch')
+    .option('--branch-scale <factor>', 'width factor from one level to the next', '0.8')
+    .action((o: Raw) => {
+      const levels = numberOption(o.levels, '--levels')!;
+      if (!Number.isInteger(levels) || levels < 0 || levels > 14) throw optionError('--levels', 'must be a whole number from 0 to 14');
+      emit(context, treeLayout({
+        ...common(o, TREE_DEFAULTS),
+        levels,
+        pitch: quantityOption(o.pitch, '--pitch', 'length', true) ?? TREE_DEFAULTS.pitch,
+        branch: { ...TREE_DEFAULTS.branch, width: quantityOption(o.branchWidth, '--branch-width', 'length', true) ?? TREE_DEFAULTS.branch.width, depth: quantityOption(o.depth, '--depth', 'length', true) ?? TREE_DEFAULTS.branch.depth },
+        branchScale: numberOption(o.branchScale, '--branch-scale')!,
+      }), o.out);
+    });
+}

@@ -1,0 +1,31 @@
+/**
+ * Reading command-line values: quantities with units, numbers in a range, choices. Every failure
+ * names the option. Exports `quantityOption`, `numberOption`, `choiceOption`.
+ */
+import { parseQuantity, type Dimension } from '../units/quantity.js';
+import { optionError } from '../errors.js';
+
+export function quantityOption(value: unknown, option: string, dimension: Dimension): number;
+export function quantityOption(value: unknown, option: string, dimension: Dimension, optional: true): number | undefined;
+export function quantityOption(value: unknown, option: string, dimension: Dimension, optional = false): number | undefined {
+  if (value === undefined) {
+    if (optional) return undefined;
+    throw optionError(option, 'is required');
+  }
+  return parseQuantity(value, dimension, { field: option });
+}
+
+export function numberOption(value: unknown, option: string, optional = false): number | undefined {
+  if (value === undefined) {
+    if (optional) return undefined;
+    throw optionError(option, 'is required');
+  }
+  const n = Number(value);
+  if (typeof value !== 'string' || value.trim() === '' || !Number.isFinite(n)) throw optionError(option, `"${String(value)}" is not a number`);
+  return n;
+}
+
+export function choiceOption<T extends string>(value: unknown, option: string, choices: readonly T[]): T {
+  if (typeof value === 'string' && (choices as readonly string[]).includes(value)) return value as T;
+  throw optionError(option, `must be one of ${choices.join(', ')}`);
+}

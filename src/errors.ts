@@ -1,0 +1,68 @@
+/**
+ * Typed errors of stratiflow. Every failure a user can cause is one of these, with a stable
+ * code, an exit status, and a one-line `format()` that names the file, element and field.
+ * The CLI prints `format()` and exits; nothing else escapes as a stack trace.
+ */
+
+export type ErrorCode =
+  | 'bad-option' // a command-line value is missing, malformed or out of range
+  | 'bad-unit' // a quantity string with an unknown unit or one of the wrong dimension
+  | 'bad-layout' // the layout file breaks the schema or the topology rules
+  | 'bad-file' // a file cannot be read or parsed
+  | 'no-convergence' // the network solve did not settle
+  | 'infeasible'; // a target cannot be met
+
+const EXIT_STATUS: Record<ErrorCode, number> = {
+  'bad-option': 2,
+  'bad-unit': 2,
+  'bad-layout': 2,
+  'bad-file': 2,
+  'no-convergence': 4,
+  infeasible: 3,
+};
+
+export interface ErrorPlace {
+  file?: string;
+  element?: string;
+  field?: string;
+}
+
+export class StratiflowError extends Error {
+  readonly code: ErrorCode;
+  readonly place: ErrorPlace;
+
+  constructor(code: ErrorCode, message: string, place: ErrorPlace = {}) {
+    super(message);
+    this.name = 'StratiflowError';
+    this.code = code;
+    this.place = place;
+  }
+
+  get exitStatus(): number {
+    return EXIT_STATUS[this.code];
+  }
+
+  /** One line: `file: element: field: message`, leaving out the parts that are unknown. */
+  format(): string {
+    const { file, element, field } = this.place;
+    return [file, element, field, this.message].filter((s) => s !== undefined && s !== '').join(': ');
+  }
+}
+
+/** Several problems found in one pass (the layout loader collects all it can before failing). */
+export class StratiflowErrors extends StratiflowError {
+  readonly problems: StratiflowError[];
+
+  constructor(problems: StratiflowError[]) {
+    super(problems[0]?.code ?? 'bad-layout', problems.map((p) => p.format()).join('\n'));
+    this.problems = problems;
+  }
+
+  override format(): string {
+    return this.problems.map((p) => p.format()).join('\n');
+  }
+}
+
+export function optionError(option: string, message: string): StratiflowError {
+  return new StratiflowError('bad-option', message, { field: option });
+}

@@ -1,0 +1,156 @@
+/**
+ * Topology of a chip: the graph (graphlib), the roles of segments (feed, contactor, outlet arm,
+ * plain), and the checks that make a chip solvable. Exports `chipGraph`, `contactorOf`,
+ * `checkTopology` (throws every problem found, each naming its element), `splitWindowOf`.
+ */
+import { Graph } from '@dagrejs/graphlib';
+import { StratiflowError, StratiflowErrors } from '../errors.js';
+import type { Chip, ChipNode, ChipSegment, SplitNode } from './model.js';
+
+export function chipGraph(chip: Chip): Graph {
+  const g = new Graph({ multigraph: true, directed: true });
+  for (const n of chip.nodes) g.setNode(n.id, n);
+  for (const s of chip.segments) if (g.hasNode(s.from) && g.hasNode(s.to)) g.setEdge(s.from, s.to, s, s.id);
+  return g;
+}
+
+/** A contactor is a segment that starts at a merge: it carries the stratified co-flow. */
+export function isContactor(chip: Chip, segment: ChipSegment): boolean {
+  return chip.nodes.some((n) => n.id === segment.from && n.kind === 'merge');
+}
+
+/**
+ * The allowed range of p_B − p_A at a split, Pa. An explicit window (on the split, then the chip)
+ * wins; otherwise the Young–Laplace pressure of an interface spanning the dimension d that the
+ * interface spans in the contactor (the depth for side-by-side layers), pinned at the splitter
+ * edge with contact angles between the receding and advancing limits, measured through phase A:
+ *   Δp ∈ [2γ cos θ_adv / d, 2γ cos θ_rec / d]
+ * (Young–Laplace for a cylindrical meniscus in a slot of width d, de Gennes, Brochard-Wyart &
+ * Quéré, Capillarity and Wetting Phenomena, 2004, §1.2 and §3.1 on pinning between the
+ * receding and advancing angles; the factor 2 is the slot's curvature 2cosθ/d).
+ */
+export function splitWindowOf(chip: Chip, split: SplitNode, spannedDimension: number): [number, number] | undefined {
+  if (split.window) return split.window;
+  if (chip.splitWindow) return chip.splitWindow;
+  if (chip.interfacialTension === undefined || !chip.contactAngle) return undefined;
+  const g = chip.interfacialTension;
+  return [(2 * g * Math.cos(chip.contactAngle.advancing)) / spannedDimension, (2 * g * Math.cos(chip.contactAngle.receding)) / spannedDimension];
+}
+
+/** The dimension the interface spans in a rectangular contactor. */
+export function spannedDimension(segment: ChipSegment): number {
+  const s = segment.section;
+  if (s.shape !== 'rect') return NaN;
+  return s.orientation === 'side' ? s.depth : s.width;
+}
+
+export function checkTopology(chip: Chip): void {
+  const problems: StratiflowError[] = [];
+  const fail = (element: string, message: string, field?: string) =>
+    problems.push(new StratiflowError('bad-layout', message, { file: chip.source, element, field }));
+
+  const nodeById = new Map<string, ChipNode>();
+  for (const n of chip.nodes) {
+    if (nodeById.has(n.id)) fail(`node ${n.id}`, 'duplicate id', 'id');
+    nodeById.set(n.id, n);
+  }
+  const segmentById = new Map<string, ChipSegment>();
+  for (const s of chip.segments) {
+    if (segmentById.has(s.id) || nodeById.has(s.id)) fail(`segment ${s.id}`, 'duplicate id', 'id');
+    segmentById.set(s.id, s);
+    for (const end of ['from', 'to'] as const) {
+      if (!nodeById.has(s[end])) fail(`segment ${s.id}`, `unknown node "${s[end]}"`, end);
+    }
+    if (s.from === s.to) fail(`segment ${s.id}`, 'starts and ends at the same node', 'to');
+  }
+
+  const arrivingAt = new Map<string, ChipSegment[]>();
+  const leavingFrom = new Map<string, ChipSegment[]>();
+  for (const s of chip.segments) {
+    if (!arrivingAt.has(s.to)) arrivingAt.set(s.to, []);
+    if (!leavingFrom.has(s.from)) leavingFrom.set(s.from, []);
+    arrivingAt.get(s.to)!.push(s);
+    leavingFrom.get(s.from)!.push(s);
+  }
+  const arriving = (id: string) => arrivingAt.get(id) ?? [];
+  const leaving = (id: string) => leavingFrom.get(id) ?? [];
+  const startsAtMerge = (s: ChipSegment) => nodeById.get(s.from)?.kind === 'merge';
+  for (const n of chip.nodes) {
+    const element = `node ${n.id}`;
+    if (n.kind === 'merge') {
+      for (const [i, segId] of n.inlets.entries()) {
+        const s = segmentById.get(segId);
+        if (!s) fail(element, `unknown segment "${segId}"`, `inlets.${i}`);
+        else if (s.to !== n.id) fail(element, `segment "${segId}" does not end at this merge`, `inlets.${i}`);
+        else if (startsAtMerge(s)) fail(element, `segment "${segId}" is itself a contactor; a merge needs two single-phase inlets`, `inlets.${i}`);
+      }
+      if (n.inlets[0] === n.inlets[1]) fail(element, 'the two inlets must be different segments', 'inlets');
+      if (arriving(n.id).length !== 2) fail(element, `a merge needs exactly two arriving segments (its inlets), found ${arriving(n.id).length}`, 'inlets');
+      const out = leaving(n.id);
+      if (out.length !== 1) fail(element, `a merge needs exactly one leaving segment (the contactor), found ${out.length}`);
+      else if (out[0]!.section.shape !== 'rect') fail(`segment ${out[0]!.id}`, 'a contactor must be rectangular', 'shape');
+    }
+    if (n.kind === 'split') {
+      const into = arriving(n.id);
+      if (into.length !== 1 || !startsAtMerge(into[0]!)) fail(element, 'a split needs exactly one arriving segment, a contactor that starts at a merge');
+      for (const [i, segId] of n.outlets.entries()) {
+        const s = segmentById.get(segId);
+        if (!s) fail(element, `unknown segment "${segId}"`, `outlets.${i}`);
+        else if (s.from !== n.id) fail(element, `segment "${segId}" does not start at this split`, `outlets.${i}`);
+      }
+      if (n.outlets[0] === n.outlets[1]) fail(element, 'the two outlets must be different segments', 'outlets');
+      if (leaving(n.id).length !== 2) fail(element, `a split needs exactly two leaving segments (its outlets), found ${leaving(n.id).length}`, 'outlets');
+      if (!n.window && !chip.splitWindow && (chip.interfacialTension === undefined || !chip.contactAngle)) {
+        fail(element, 'no pressure window: give interfacialTension and contactAngleA, or splitWindow', 'window');
+      }
+    }
+    if (n.kind === 'inlet' || n.kind === 'outlet') {
+      if (arriving(n.id).length + leaving(n.id).length === 0) fail(element, `an ${n.kind} must have a segment`);
+    }
+  }
+  for (const s of chip.segments) {
+    const to = nodeById.get(s.to);
+    if (to?.kind === 'merge' && !to.inlets.includes(s.id)) fail(`segment ${s.id}`, `ends at merge "${to.id}" but is not one of its inlets`, 'to');
+    const from = nodeById.get(s.from);
+    if (from?.kind === 'split' && !from.outlets.includes(s.id)) fail(`segment ${s.id}`, `starts at split "${from.id}" but is not one of its outlets`, 'from');
+  }
+
+  const references = chip.nodes.filter((n) => n.kind === 'outlet' || (n.kind === 'inlet' && n.pressure !== undefined));
+  if (references.length === 0) fail('chip', 'no pressure reference: give at least one outlet or one inlet with a pressure');
+
+  if (problems.length === 0) {
+    const g = chipGraph(chip);
+    for (const component of components(g)) {
+      const hasOutlet = component.some((id) => nodeById.get(id)?.kind === 'outlet' || (nodeById.get(id) as { pressure?: number }).pressure !== undefined);
+      if (!hasOutlet) fail(`node ${component[0]}`, `has no path to an outlet (nor do ${component.length - 1} nodes connected to it)`);
+    }
+  }
+  if (problems.length > 0) throw new StratiflowErrors(problems);
+}
+
+/**
+ * Connected components, ignoring direction. Iterative: graphlib's recursive version overflows
+ * the call stack on the long chains of a large ladder.
+ */
+export function components(g: Graph): string[][] {
+  const seen = new Set<string>();
+  const result: string[][] = [];
+  for (const start of g.nodes()) {
+    if (seen.has(start)) continue;
+    const component: string[] = [];
+    const stack = [start];
+    seen.add(start);
+    while (stack.length) {
+      const v = stack.pop()!;
+      component.push(v);
+      for (const w of g.neighbors(v) ?? []) {
+        if (!seen.has(w)) {
+          seen.add(w);
+          stack.push(w);
+        }
+      }
+    }
+    result.push(component);
+  }
+  return result;
+}

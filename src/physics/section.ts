@@ -1,0 +1,217 @@
+/**
+ * Cross-sections as the network sees them: geometry, single-phase conductance, and the
+ * two-phase holdup ↔ flow-fraction relation with its inversion.
+ * Exports the section types, `conductance`, `flowFractionAt`, `holdupForFlowFraction` (robust,
+ * bracketed) and `HoldupTable` (the fast path for many inversions on one geometry and fluid pair).
+ * SI units only; no I/O.
+ */
+import { rectConductance, tubeConductance } from './singlePhase.js';
+import { twoLayerFlow } from './twoLayer.js';
+
+export type Orientation = 'side' | 'stacked';
+
+export interface RectSection {
+  shape: 'rect';
+  width: number;
+  depth: number;
+  /** `side`: layers side by side across the width; `stacked`: one above the other across the depth. */
+  orientation: Orientation;
+}
+
+export interface TubeSection {
+  shape: 'tube';
+  diameter: number;
+}
+
+export type Section = RectSection | TubeSection;
+
+export function area(section: Section): number {
+  return section.shape === 'rect' ? section.width * section.depth : (Math.PI * section.diameter ** 2) / 4;
+}
+
+export function hydraulicDiameter(section: Section): number {
+  return section.shape === 'rect'
+    ? (2 * section.width * section.depth) / (section.width + section.depth)
+    : section.diameter;
+}
+
+/** Single-phase conductance k (Q = k·G), m⁴/(Pa·s). */
+export function conductance(section: Section, mu: number): number {
+  return section.shape === 'rect' ? rectConductance(section.width, section.depth, mu) : tubeConductance(section.diameter, mu);
+}
+
+/** The dimension the layers lie across and the one the interface spans. */
+export function layerAxes(section: RectSection): { across: number; along: number } {
+  return section.orientation === 'side'
+    ? { across: section.width, along: section.depth }
+    : { across: section.depth, along: section.width };
+}
+
+export interface TwoPhaseState {
+  holdup: number;
+  flowFraction: number;
+  /** dφ/dα. */
+  dFlowFraction: number;
+  kA: number;
+  kB: number;
+  dkA: number;
+  dkB: number;
+}
+
+/** Flow fraction φ = k_A/(k_A + k_B) at holdup α, with dφ/dα = (k_A' k_B − k_A k_B')/(k_A + k_B)². */
+export function flowFractionAt(section: RectSection, muA: number, muB: number, holdup: number): TwoPhaseState {
+  const r = twoLayerFlow({ ...layerAxes(section), holdup, muA, muB });
+  const k = r.kA + r.kB;
+  return {
+    holdup,
+    flowFraction: r.kA / k,
+    dFlowFraction: (r.dkA * r.kB - r.kA * r.dkB) / (k * k),
+    kA: r.kA,
+    kB: r.kB,
+    dkA: r.dkA,
+    dkB: r.dkB,
+  };
+}
+
+/** Settles when a Newton step in α is below this (the flow fraction is then exact to rounding). */
+const HOLDUP_STEP_TOLERANCE = 1e-13;
+const MAX_POLISH_STEPS = 60;
+
+/**
+ * The holdup that carries flow fraction φ. φ(α) is strictly increasing from 0 to 1, so the root is
+ * bracketed by [0, 1]; Newton steps with the exact derivative are taken while they stay inside
+ * the bracket, bisection otherwise (the "rtsafe" safeguard of Press et al., Numerical Recipes,
+ * 3rd ed., 2007, §9.4). `guess` and `bracket` let a caller start close.
+ */
+export function holdupForFlowFraction(
+  section: RectSection,
+  muA: number,
+  muB: number,
+  flowFraction: number,
+  guess = 0.5,
+  bracket: [number, number] = [0, 1],
+): TwoPhaseState {
+  let [lo, hi] = bracket;
+  let alpha = Math.min(Math.max(guess, lo + 0.01 * (hi - lo)), hi - 0.01 * (hi - lo));
+  let state = flowFractionAt(section, muA, muB, alpha);
+  for (let i = 0; i < MAX_POLISH_STEPS; i++) {
+    const f = state.flowFraction - flowFraction;
+    if (f > 0) hi = alpha;
+    else lo = alpha;
+    let next = alpha - f / state.dFlowFraction;
+    if (!(next > lo && next < hi) || !Number.isFinite(next)) next = 0.5 * (lo + hi);
+    const step = Math.abs(next - alpha);
+    // Correct k to the final α by first order; the error is O(step²).
+    if (step < HOLDUP_STEP_TOLERANCE * Math.max(alpha, 1 - alpha) || hi - lo < 4e-16) {
+      return shiftState(state, next);
+    }
+    alpha = next;
+    state = flowFractionAt(section, muA, muB, alpha);
+  }
+  return state;
+}
+
+function shiftState(state: TwoPhaseState, alpha: number): TwoPhaseState {
+  const d = alpha - state.holdup;
+  return {
+    ...state,
+    holdup: alpha,
+    flowFraction: state.flowFraction + state.dFlowFraction * d,
+    kA: state.kA + state.dkA * d,
+    kB: state.kB + state.dkB * d,
+  };
+}
+
+/** Number of table intervals; nodes cluster toward α = 0 and 1 where φ ∝ α². */
+const TABLE_INTERVALS = 160;
+/** Largest Newton step (in α) that one polish may take before it is repeated. */
+const ONE_STEP_LIMIT = 1e-6;
+
+/**
+ * Fast repeated inversion on one geometry and fluid pair: a monotone table of (α, φ, dφ/dα)
+ * built once at Chebyshev–Lobatto nodes, a cubic Hermite guess (monotone because the exact node
+ * derivatives are positive), then a Newton polish with one full series evaluation. The guess is
+ * good to ~1e-8 in α, so one Newton step lands at rounding accuracy; larger steps are repeated.
+ */
+export class HoldupTable {
+  readonly section: RectSection;
+  readonly muA: number;
+  readonly muB: number;
+  private readonly alpha: Float64Array;
+  private readonly phi: Float64Array;
+  private readonly slope: Float64Array;
+
+  constructor(section: RectSection, muA: number, muB: number, intervals = TABLE_INTERVALS) {
+    this.section = section;
+    this.muA = muA;
+    this.muB = muB;
+    this.alpha = new Float64Array(intervals + 1);
+    this.phi = new Float64Array(intervals + 1);
+    this.slope = new Float64Array(intervals + 1);
+    for (let j = 0; j <= intervals; j++) {
+      const a = 0.5 * (1 - Math.cos((Math.PI * j) / intervals));
+      this.alpha[j] = a;
+      if (j === 0 || j === intervals) {
+        this.phi[j] = j === 0 ? 0 : 1;
+        this.slope[j] = 0;
+      } else {
+        const s = flowFractionAt(section, muA, muB, a);
+        this.phi[j] = s.flowFraction;
+        this.slope[j] = s.dFlowFraction;
+      }
+    }
+  }
+
+  /** Holdup for flow fraction φ in (0, 1), exact to rounding, with k_A, k_B and derivatives. */
+  solve(flowFraction: number): TwoPhaseState {
+    const j = this.interval(flowFraction);
+    const guess = this.hermiteInverse(j, flowFraction);
+    const state = flowFractionAt(this.section, this.muA, this.muB, guess);
+    const step = -(state.flowFraction - flowFraction) / state.dFlowFraction;
+    if (Math.abs(step) < ONE_STEP_LIMIT && guess + step > 0 && guess + step < 1) {
+      return shiftState(state, guess + step);
+    }
+    return holdupForFlowFraction(this.section, this.muA, this.muB, flowFraction, guess, [this.alpha[j]!, this.alpha[j + 1]!]);
+  }
+
+  private interval(phi: number): number {
+    let lo = 0;
+    let hi = this.phi.length - 1;
+    while (hi - lo > 1) {
+      const mid = (lo + hi) >> 1;
+      if (this.phi[mid]! <= phi) lo = mid;
+      else hi = mid;
+    }
+    return lo;
+  }
+
+  /** Solves the cubic Hermite p(α) = φ on interval j by safeguarded Newton. */
+  private hermiteInverse(j: number, phi: number): number {
+    const a0 = this.alpha[j]!;
+    const a1 = this.alpha[j + 1]!;
+    const h = a1 - a0;
+    const p0 = this.phi[j]!;
+    const p1 = this.phi[j + 1]!;
+    const m0 = this.slope[j]! * h;
+    const m1 = this.slope[j + 1]! * h;
+    let lo = 0;
+    let hi = 1;
+    let t = p1 > p0 ? (phi - p0) / (p1 - p0) : 0.5;
+    for (let i = 0; i < 40; i++) {
+      const t2 = t * t;
+      const t3 = t2 * t;
+      const value = (2 * t3 - 3 * t2 + 1) * p0 + (t3 - 2 * t2 + t) * m0 + (-2 * t3 + 3 * t2) * p1 + (t3 - t2) * m1 - phi;
+      const deriv = (6 * t2 - 6 * t) * p0 + (3 * t2 - 4 * t + 1) * m0 + (-6 * t2 + 6 * t) * p1 + (3 * t2 - 2 * t) * m1;
+      if (value > 0) hi = t;
+      else lo = t;
+      let next = t - value / deriv;
+      if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+      if (Math.abs(next - t) < 1e-15) {
+        t = next;
+        break;
+      }
+      t = next;
+    }
+    return Math.min(Math.max(a0 + t * h, a0 + 1e-300), a1);
+  }
+}

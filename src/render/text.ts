@@ -1,0 +1,76 @@
+/**
+ * Plain-text and CSV renderings of a solved chip: the per-contactor table, the summary and the
+ * warnings, plus the usual safety cautions. Exports `chipText`, `contactorCsv`, `SAFETY_NOTES`,
+ * `textTable`. Pure: data in, string out.
+ */
+import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
+import { DISPLAY, fmt } from '../units/format.js';
+
+export const SAFETY_NOTES = [
+  'Pressurised chips, fittings and tubing can fail suddenly: stay below the rating of the weakest part, ramp pressures up slowly, and wear eye protection near a pressurised chip.',
+  'Organic solvents and aqueous two-phase components may be flammable, toxic or irritant: handle them in a fume hood as their safety data sheets require.',
+  'These figures are model predictions for planning; they do not replace your lab safety rules, local codes, or the judgement of a qualified person.',
+];
+
+/** Left-aligned first column, right-aligned others, padded to the widest cell. */
+export function textTable(header: string[], rows: string[][]): string {
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
+  return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
+}
+
+const flow = (q: number) => fmt(q * DISPLAY.flow.factor);
+const percent = (v: number | null) => (v === null ? '–' : `${(100 * v).toFixed(2)}`);
+
+export const CONTACTOR_COLUMNS: Array<{ title: string; csv: string; value: (r: ContactorResult) => string }> = [
+  { title: '#', csv: 'index', value: (r) => String(r.index) },
+  { title: 'contactor', csv: 'contactor', value: (r) => r.id },
+  { title: 'A µL/min', csv: 'flowA_uL_min', value: (r) => flow(r.flowA) },
+  { title: 'B µL/min', csv: 'flowB_uL_min', value: (r) => flow(r.flowB) },
+  { title: 'A/B', csv: 'flowRatio', value: (r) => fmt(r.flowRatio) },
+  { title: 'holdup A', csv: 'holdupA', value: (r) => fmt(r.holdupA, 5) },
+  { title: 'vA mm/s', csv: 'velocityA_mm_s', value: (r) => fmt(r.velocityA * 1e3) },
+  { title: 'vB mm/s', csv: 'velocityB_mm_s', value: (r) => fmt(r.velocityB * 1e3) },
+  { title: 'tA s', csv: 'residenceA_s', value: (r) => fmt(r.residenceA) },
+  { title: 'tB s', csv: 'residenceB_s', value: (r) => fmt(r.residenceB) },
+  { title: 'Δp kPa', csv: 'pressureDrop_kPa', value: (r) => fmt(r.pressureDrop / 1e3) },
+  { title: 'outlet', csv: 'outletState', value: (r) => r.state },
+  { title: 'pure A %', csv: 'purityA_percent', value: (r) => percent(r.purityA) },
+  { title: 'pure B %', csv: 'purityB_percent', value: (r) => percent(r.purityB) },
+];
+
+function csvCell(s: string): string {
+  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+export function contactorCsv(solution: ChipSolution): string {
+  const rows = solution.contactors.map((r) => CONTACTOR_COLUMNS.map((c) => csvCell(c.value(r))).join(','));
+  return [CONTACTOR_COLUMNS.map((c) => c.csv).join(','), ...rows].join('\n') + '\n';
+}
+
+export function chipText(name: string, s: ChipSolution): string {
+  const out: string[] = [];
+  out.push(`${name}: ${s.contactors.length} contactors — ${s.converged ? `solved in ${s.iterations} Newton steps (mass residual ${s.residual.toExponential(1)} of throughput)` : `NOT CONVERGED: ${s.message ?? ''}`}`);
+  out.push('');
+  out.push(textTable(CONTACTOR_COLUMNS.map((c) => c.title), s.contactors.map((r) => CONTACTOR_COLUMNS.map((c) => c.value(r)))));
+  out.push('');
+  const { summary } = s;
+  const sp = summary.spread;
+  out.push('summary');
+  out.push(`  throughput A, B        ${flow(summary.throughputA)}, ${flow(summary.throughputB)} µL/min (ratio A/B ${fmt(summary.throughputA / summary.throughputB)})`);
+  out.push(`  total flow per contactor  min ${flow(sp.total.min)}, max ${flow(sp.total.max)} µL/min; max/min ${fmt(sp.total.ratio)}, CV ${(100 * sp.total.cv).toFixed(3)}%`);
+  out.push(`  flow A per contactor      max/min ${fmt(sp.flowA.ratio)}, CV ${(100 * sp.flowA.cv).toFixed(3)}%`);
+  out.push(`  flow B per contactor      max/min ${fmt(sp.flowB.ratio)}, CV ${(100 * sp.flowB.cv).toFixed(3)}%`);
+  out.push(`  holdup A                  ${fmt(sp.holdup.min, 5)} … ${fmt(sp.holdup.max, 5)}, CV ${(100 * sp.holdup.cv).toFixed(3)}%`);
+  for (const inlet of summary.inlets) out.push(`  inlet ${inlet.id} (${inlet.phase})  ${fmt(inlet.pressure / 1e3)} kPa, ${flow(inlet.flow)} µL/min`);
+  for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${fmt(outlet.pressure / 1e3)} kPa, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
+  const pinned = s.splits.filter((x) => x.state === 'pinned').length;
+  out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmt(Math.min(...s.splits.map((x) => x.margin)))} Pa` : ''}`);
+  out.push('');
+  out.push(s.warnings.length ? 'warnings' : 'warnings: none');
+  for (const w of s.warnings) out.push(`  - ${w}`);
+  out.push('');
+  out.push('cautions');
+  for (const note of SAFETY_NOTES) out.push(`  - ${note}`);
+  return out.join('\n') + '\n';
+}

@@ -1,0 +1,551 @@
+/**
+ * The nonlinear network solve: Newton's method with a consistent Jacobian on port pressures,
+ * contactor holdups and split leak flows, with backtracking line search, an outer loop that
+ * settles phase compositions (carried along the actual flow direction) and split states
+ * (pinned or leaking at a window limit). Exports `solveNetwork` and the solution types.
+ *
+ * Equations (SI):
+ *   plain segment   Q = (p_from − p_to) / (r0·μ(x)), μ(x) = x μ_A + (1 − x) μ_B: the homogeneous
+ *                   (flow-weighted, by volume) viscosity after Cicchitti et al. (1960), which for a
+ *                   single phase is Hagen–Poiseuille / the rectangular-duct series;
+ *   contactor lane  Q_near = d_near k_near(α)/L, Q_far = d_far k_far(α)/L, with the constraint
+ *                   d_near = d_far (both layers feel one pressure gradient), k from twoLayerFlow;
+ *   split           pinned: leak ℓ = 0 (any Δ inside the window);
+ *                   leaking: Δ = p_B − p_A held at the window limit, ℓ free (continuous model);
+ *   every free port conserves volume: Σ inflow − Σ outflow + injection = 0.
+ * Per-phase conservation follows because compositions are carried with the flow.
+ */
+import { twoLayerFlow } from '../physics/twoLayer.js';
+import { HoldupTable } from '../physics/section.js';
+import { TripletBuilder, factorize, SingularMatrixError, SparseLuSymbolic, type LinearFactor, type SparseMatrix } from './linear.js';
+import { SOLVER_DEFAULTS, type SolverOptions } from './defaults.js';
+import type { ContactorElement, Network, SplitElement } from '../network/assemble.js';
+
+export type SplitState = 'pinned' | 'high' | 'low';
+
+export interface NetworkSolution {
+  converged: boolean;
+  iterations: number;
+  rounds: number;
+  /** Largest port mass residual relative to the smaller phase throughput. */
+  residual: number;
+  /** Pressure of every port, Pa. */
+  pressure: Float64Array;
+  /** Near-lane holdup of every contactor (index as network.contactors). */
+  holdup: Float64Array;
+  /** Leak flow of every split, far → near port, m³/s. */
+  leak: Float64Array;
+  splitStates: SplitState[];
+  /** Fraction of A in what leaves each port. */
+  composition: Float64Array;
+  /** Flow of every plain element (from → to) and both lanes of every contactor, m³/s. */
+  plainFlow: Float64Array;
+  plainComposition: Float64Array;
+  laneFlow: Float64Array; // [near0, far0, near1, far1, ...]
+  laneComposition: Float64Array;
+  /** Not settled: node ids with the largest residuals, split ids that kept switching. */
+  unsettled: string[];
+  message?: string;
+}
+
+export interface WarmStart {
+  pressure: Float64Array;
+  holdup: Float64Array;
+  leak: Float64Array;
+  splitStates: SplitState[];
+  composition: Float64Array;
+}
+
+const tableCache = new Map<string, HoldupTable>();
+
+function tableFor(c: ContactorElement, muNear: number, muFar: number): HoldupTable {
+  const key = `${c.section.width}|${c.section.depth}|${c.section.orientation}|${muNear}|${muFar}`;
+  let table = tableCache.get(key);
+  if (!table) {
+    table = new HoldupTable(c.section, muNear, muFar);
+    if (tableCache.size > 256) tableCache.clear();
+    tableCache.set(key, table);
+  }
+  return table;
+}
+
+export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: WarmStart): NetworkSolution {
+  const opt = { ...SOLVER_DEFAULTS, ...options };
+  const { ports, plains, contactors, splits } = net;
+  const { A, B } = net.chip.phases;
+  const muA = A.viscosity;
+  const muB = B.viscosity;
+  const mix = (x: number) => x * muA + (1 - x) * muB;
+
+  // Unknowns: free port pressures | contactor holdups | split leaks | free port compositions.
+  const unknownOf = new Int32Array(ports.length).fill(-1);
+  let freePorts = 0;
+  for (const [i, p] of ports.entries()) if (p.fixed === undefined) unknownOf[i] = freePorts++;
+  const alphaAt = freePorts;
+  const leakAt = alphaAt + contactors.length;
+  const compAt = leakAt + splits.length;
+  const n = compAt + freePorts;
+
+  const x = new Float64Array(n);
+  const states: SplitState[] = splits.map(() => 'pinned');
+  const fixedMean = mean(ports.filter((p) => p.fixed !== undefined).map((p) => p.fixed!));
+  const composition = new Float64Array(ports.length);
+  if (warm) {
+    for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = warm.pressure[i]!;
+    x.set(warm.holdup, alphaAt);
+    x.set(warm.leak, leakAt);
+    warm.splitStates.forEach((st, i) => (states[i] = st));
+    composition.set(warm.composition);
+  } else {
+    for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = fixedMean;
+    for (let c = 0; c < contactors.length; c++) x[alphaAt + c] = 0.5;
+    for (const [i, p] of ports.entries()) composition[i] = p.nominal;
+  }
+  for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = composition[i]!;
+  // Compositions are unknowns of their own only once some port is not pure or a split leaks;
+  // until then they stay at their nominal values and their rows are identities.
+  let withComposition = warm !== undefined && (!allPure(composition) || states.some((st) => st !== 'pinned'));
+
+  const pressureOf = (v: Float64Array, port: number) => {
+    const u = unknownOf[port]!;
+    return u >= 0 ? v[u]! : ports[port]!.fixed!;
+  };
+  const compositionOf = (v: Float64Array, port: number) => {
+    const u = unknownOf[port]!;
+    return u >= 0 ? v[compAt + u]! : ports[port]!.supplies ?? ports[port]!.nominal;
+  };
+
+  const plainFlow = new Float64Array(plains.length);
+  const plainComposition = new Float64Array(plains.length);
+  const laneFlow = new Float64Array(2 * contactors.length);
+  const laneComposition = new Float64Array(2 * contactors.length);
+  const F = new Float64Array(n);
+  const anchor = new Float64Array(n);
+  const builder = new TripletBuilder(n);
+  let regularisation = 0;
+  const fixedPressures = ports.filter((p) => p.fixed !== undefined).map((p) => p.fixed!);
+  /** Pa per unit holdup: 1e-12 of the largest applied pressure difference. */
+  const holdupRegularisation = 1e-12 * Math.max(1, Math.max(...fixedPressures) - Math.min(...fixedPressures));
+
+  /**
+   * Residuals, and the Jacobian when `jacobian` is set. `freezeHoldup` replaces each lane
+   * constraint by α = const (used for the first, linear, step).
+   */
+  const evaluate = (v: Float64Array, jacobian: boolean, freezeHoldup: boolean) => {
+    F.fill(0);
+    if (jacobian) builder.clear();
+    const J = (row: number, col: number, value: number) => {
+      if (jacobian && row >= 0 && col >= 0) builder.add(row, col, value);
+    };
+    const massRow = (port: number) => unknownOf[port]!;
+    const aRow = (port: number) => (withComposition && unknownOf[port]! >= 0 ? compAt + unknownOf[port]! : -1);
+    const pCol = (port: number) => unknownOf[port]!;
+    const xCol = (port: number) => (withComposition && unknownOf[port]! >= 0 ? compAt + unknownOf[port]! : -1);
+
+    /**
+     * Stamps a flow Q from → to that carries the composition of port `up`: into the volume rows
+     * and (with compositions) the phase-A rows. Its partial derivatives are dQ/dp_from = g,
+     * dQ/dp_to = −g, dQ/d(extra unknown) = dExtra and dQ/dx_up = dMu (through the viscosity).
+     */
+    const stamp = (from: number, to: number, q: number, up: number, g: number, extra: number, dExtra: number, dMu: number, other?: { from: number; to: number; up: number; dMu: number }) => {
+      const xu = compositionOf(v, up);
+      const rf = massRow(from);
+      const rt = massRow(to);
+      if (rf >= 0) F[rf] -= q;
+      if (rt >= 0) F[rt] += q;
+      const af = aRow(from);
+      const at = aRow(to);
+      if (af >= 0) F[af] -= q * xu;
+      if (at >= 0) F[at] += q * xu;
+      if (!jacobian) return;
+      const partial = (col: number, d: number, dA: number) => {
+        if (col < 0) return;
+        J(rf, col, -d);
+        J(rt, col, d);
+        J(af, col, -dA);
+        J(at, col, dA);
+      };
+      partial(pCol(from), g, g * xu);
+      partial(pCol(to), -g, -g * xu);
+      if (extra >= 0) partial(extra, dExtra, dExtra * xu);
+      // Both ends' composition columns are stamped (one with 0) so the pattern does not depend
+      // on the flow direction and the symbolic factorisation can be reused.
+      if (withComposition) {
+        partial(xCol(from), up === from ? dMu : 0, up === from ? q + xu * dMu : 0);
+        partial(xCol(to), up === to ? dMu : 0, up === to ? q + xu * dMu : 0);
+        // A lane also feels the viscosity of the other lane, through the shared interface.
+        if (other) {
+          partial(xCol(other.from), other.up === other.from ? other.dMu : 0, other.up === other.from ? xu * other.dMu : 0);
+          partial(xCol(other.to), other.up === other.to ? other.dMu : 0, other.up === other.to ? xu * other.dMu : 0);
+        }
+      }
+    };
+
+    for (const [i, p] of ports.entries()) {
+      if (p.injection === 0) continue;
+      const r = massRow(i);
+      if (r >= 0) F[r] += p.injection;
+      const ar = aRow(i);
+      if (ar >= 0) F[ar] += p.injection * (p.supplies ?? 1);
+    }
+    for (const [e, el] of plains.entries()) {
+      const dp = pressureOf(v, el.from) - pressureOf(v, el.to);
+      const up = dp >= 0 ? el.from : el.to;
+      const xu = compositionOf(v, up);
+      const mu = mix(xu);
+      const g = 1 / (el.r0 * mu);
+      const q = dp * g;
+      plainFlow[e] = q;
+      plainComposition[e] = xu;
+      stamp(el.from, el.to, q, up, g, -1, 0, (-q * (muA - muB)) / mu);
+    }
+    for (const [c, el] of contactors.entries()) {
+      const alpha = v[alphaAt + c]!;
+      const L = el.segment.length;
+      const dn = pressureOf(v, el.nearIn) - pressureOf(v, el.nearOut);
+      const df = pressureOf(v, el.farIn) - pressureOf(v, el.farOut);
+      const upNear = dn >= 0 ? el.nearIn : el.nearOut;
+      const upFar = df >= 0 ? el.farIn : el.farOut;
+      const xn = compositionOf(v, upNear);
+      const xf = compositionOf(v, upFar);
+      const muN = mix(xn);
+      const muF = mix(xf);
+      const r = twoLayerFlow({ across: el.across, along: el.along, holdup: alpha, muA: muN, muB: muF });
+      const qn = (dn * r.kA) / L;
+      const qf = (df * r.kB) / L;
+      laneFlow[2 * c] = qn;
+      laneFlow[2 * c + 1] = qf;
+      laneComposition[2 * c] = xn;
+      laneComposition[2 * c + 1] = xf;
+      const col = alphaAt + c;
+      // Lane viscosities depend on lane compositions. k_i(α; cμ_n, cμ_f) = k_i/c gives
+      // μ_n ∂k/∂μ_n + μ_f ∂k/∂μ_f = −k, so one difference quotient in μ_n yields both slopes.
+      let dkAdMuN = 0;
+      let dkAdMuF = 0;
+      let dkBdMuN = 0;
+      let dkBdMuF = 0;
+      if (withComposition && jacobian) {
+        const h = 1e-6;
+        const rp = twoLayerFlow({ across: el.across, along: el.along, holdup: alpha, muA: muN * (1 + h), muB: muF });
+        dkAdMuN = (rp.kA - r.kA) / (muN * h);
+        dkBdMuN = (rp.kB - r.kB) / (muN * h);
+        dkAdMuF = (-r.kA - muN * dkAdMuN) / muF;
+        dkBdMuF = (-r.kB - muN * dkBdMuN) / muF;
+      }
+      const dMix = muA - muB;
+      stamp(el.nearIn, el.nearOut, qn, upNear, r.kA / L, col, (dn * r.dkA) / L, (dn * dkAdMuN * dMix) / L, { from: el.farIn, to: el.farOut, up: upFar, dMu: (dn * dkAdMuF * dMix) / L });
+      stamp(el.farIn, el.farOut, qf, upFar, r.kB / L, col, (df * r.dkB) / L, (df * dkBdMuF * dMix) / L, { from: el.nearIn, to: el.nearOut, up: upNear, dMu: (df * dkBdMuN * dMix) / L });
+      if (freezeHoldup) {
+        F[col] = 0;
+        J(col, col, el.scale);
+      } else {
+        // A stagnant contactor (no pressure drop) leaves α undetermined; the tiny pull toward
+        // the last iterate keeps it defined and vanishes as the iteration settles.
+        // A contactor whose drop is lost in rounding carries no flow worth resolving: its
+        // holdup is held where it is.
+        const pull = holdupRegularisation * el.scale;
+        const stagnant = Math.max(Math.abs(dn), Math.abs(df)) < holdupRegularisation;
+        const s = stagnant ? 0 : el.scale;
+        F[col] = s * (dn - df) + pull * (alpha - anchor[col]!);
+        J(col, pCol(el.nearIn), s);
+        J(col, pCol(el.nearOut), -s);
+        J(col, pCol(el.farIn), -s);
+        J(col, pCol(el.farOut), s);
+        J(col, col, pull);
+      }
+    }
+    for (const [s, sp] of splits.entries()) {
+      const col = leakAt + s;
+      const leak = v[col]!;
+      stamp(sp.far, sp.near, leak, leak >= 0 ? sp.far : sp.near, 0, col, 1, 0);
+      const sign = sp.nearPhase === 'A' ? 1 : -1;
+      const scale = sp.contactor.scale;
+      if (states[s] === 'pinned') {
+        F[col] = leak;
+        J(col, col, 1);
+        J(col, pCol(sp.far), 0);
+        J(col, pCol(sp.near), 0);
+      } else {
+        const limit = states[s] === 'high' ? sp.window[1] : sp.window[0];
+        F[col] = scale * (sign * (pressureOf(v, sp.far) - pressureOf(v, sp.near)) - limit);
+        J(col, pCol(sp.far), sign * scale);
+        J(col, pCol(sp.near), -sign * scale);
+        J(col, col, 0);
+      }
+    }
+    for (let u = 0; u < freePorts; u++) {
+      const row = compAt + u;
+      if (withComposition) {
+        // A stagnant port has no composition of its own: a tiny pull toward the last value keeps it defined.
+        F[row] += regularisation * (v[row]! - anchor[row]!);
+        J(row, row, regularisation);
+      } else {
+        F[row] = 0;
+        J(row, row, 1);
+      }
+    }
+  };
+
+  /** What the inlets deliver of each phase, m³/s; the smaller sets the tolerance. */
+  const flowReference = (): number => {
+    const delivered = { A: 0, B: 0 };
+    const outflow = new Float64Array(ports.length);
+    for (const [e, el] of plains.entries()) {
+      outflow[el.from] += plainFlow[e]!;
+      outflow[el.to] -= plainFlow[e]!;
+    }
+    for (const [i, p] of ports.entries()) {
+      if (p.node.kind === 'inlet') delivered[p.node.phase] += Math.max(0, p.fixed !== undefined ? outflow[i]! : p.injection);
+    }
+    const positive = [delivered.A, delivered.B].filter((q) => q > 0);
+    return positive.length ? Math.min(...positive) : 1e-300;
+  };
+
+  const residualNorms = (): { worst: number; all: number } => {
+    let worst = 0;
+    let all = 0;
+    for (let i = 0; i < n; i++) {
+      const a = Math.abs(F[i]!);
+      worst = Math.max(worst, a);
+      all += a * a;
+    }
+    return { worst, all: Math.sqrt(all) };
+  };
+
+  let iterations = 0;
+  let symbolic: SparseLuSymbolic | undefined;
+  let symbolicPattern: SparseMatrix | undefined;
+  const newtonStep = (freezeHoldup: boolean): Float64Array => {
+    evaluate(x, true, freezeHoldup);
+    const matrix = builder.toCsc();
+    let factor: LinearFactor;
+    if (opt.linear === 'dense') factor = factorize(matrix, 'dense');
+    else {
+      if (!symbolic || !samePattern(symbolicPattern!, matrix)) {
+        symbolic = new SparseLuSymbolic(matrix);
+        symbolicPattern = matrix;
+      }
+      factor = symbolic.factor(matrix);
+    }
+    const rhs = new Float64Array(n);
+    for (let i = 0; i < n; i++) rhs[i] = -F[i]!;
+    return factor.solve(rhs);
+  };
+
+  const unsettled: string[] = [];
+  const finish = (converged: boolean, rounds: number, message?: string): NetworkSolution => {
+    evaluate(x, false, false);
+    const pressure = new Float64Array(ports.length);
+    const finalComposition = new Float64Array(ports.length);
+    for (let i = 0; i < ports.length; i++) {
+      pressure[i] = pressureOf(x, i);
+      finalComposition[i] = compositionOf(x, i);
+    }
+    let mass = 0;
+    for (let u = 0; u < freePorts; u++) mass = Math.max(mass, Math.abs(F[u]!), withComposition ? Math.abs(F[compAt + u]!) : 0);
+    return {
+      converged,
+      iterations,
+      rounds,
+      residual: mass / flowReference(),
+      pressure,
+      holdup: x.slice(alphaAt, leakAt),
+      leak: x.slice(leakAt, compAt),
+      splitStates: [...states],
+      composition: finalComposition,
+      plainFlow: plainFlow.slice(),
+      plainComposition: plainComposition.slice(),
+      laneFlow: laneFlow.slice(),
+      laneComposition: laneComposition.slice(),
+      unsettled,
+      message,
+    };
+  };
+
+  try {
+    if (!warm) {
+      // Start: lanes as independent resistors at α = 0.5 (a linear solve), then α from the
+      // lane flow fractions through the holdup table (one Picard step).
+      const step = newtonStep(true);
+      for (let i = 0; i < compAt; i++) x[i] += step[i]!;
+      iterations++;
+      evaluate(x, false, true);
+      for (const [c, el] of contactors.entries()) {
+        const qn = laneFlow[2 * c]!;
+        const qf = laneFlow[2 * c + 1]!;
+        if (qn * qf > 0) {
+          const table = tableFor(el, mix(laneComposition[2 * c]!), mix(laneComposition[2 * c + 1]!));
+          x[alphaAt + c] = table.solve(qn / (qn + qf)).holdup;
+        }
+      }
+    }
+
+    for (let round = 1; round <= opt.maxStateRounds; round++) {
+      let settled = false;
+      for (let k = 0; k < opt.maxNewtonIterations; k++) {
+        anchor.set(x);
+        evaluate(x, false, false);
+        const reference = flowReference();
+        regularisation = 1e-10 * reference / Math.max(1e-300, Math.abs(fixedMean) + 1);
+        const before = residualNorms();
+        if (before.worst <= opt.relativeTolerance * reference) {
+          settled = true;
+          break;
+        }
+        const step = newtonStep(false);
+        iterations++;
+        // Each holdup step is kept inside (0, 1) on its own (a stagnant contactor can ask for a
+        // huge one without that shortening everybody else's step).
+        for (let c = 0; c < contactors.length; c++) {
+          const a = x[alphaAt + c]!;
+          const da = step[alphaAt + c]!;
+          step[alphaAt + c] = Math.min(opt.holdupBoundaryFraction * (1 - a), Math.max(-opt.holdupBoundaryFraction * a, da));
+        }
+        let t = 1;
+        const start = x.slice();
+        for (;;) {
+          for (let i = 0; i < n; i++) x[i] = start[i]! + t * step[i]!;
+          for (let i = compAt; i < n; i++) x[i] = Math.min(1, Math.max(0, x[i]!));
+          evaluate(x, false, false);
+          if (residualNorms().all <= (1 - 1e-4 * t) * before.all || t <= opt.minStep) break;
+          t /= 2;
+        }
+      }
+      if (!settled) {
+        unsettled.push(...worstPorts(F, unknownOf, ports, compAt, 5));
+        return finish(false, round, `Newton iteration did not settle within ${opt.maxNewtonIterations} steps`);
+      }
+      let changed = false;
+      if (!withComposition) {
+        const propagated = propagatedCompositions(net, x, pressureOf, plainFlow, laneFlow, leakAt);
+        if (propagated.some((c, i) => Math.abs(c - compositionOf(x, i)) > 1e-12)) {
+          withComposition = true;
+          for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = propagated[i]!;
+          changed = true;
+        }
+      }
+      const switched = updateSplitStates(splits, states, x, leakAt, pressureOf, opt.windowSlack);
+      if (switched.length > 0 && !withComposition) {
+        withComposition = true;
+        changed = true;
+      }
+      if (!changed && switched.length === 0) return finish(true, round);
+      if (round === opt.maxStateRounds) {
+        unsettled.push(...switched.map((sp) => `split ${sp.node.id}`));
+        return finish(false, round, 'split states kept switching between pinned and leaking');
+      }
+    }
+  } catch (error) {
+    if (error instanceof SingularMatrixError) {
+      unsettled.push(describeUnknown(error.index, unknownOf, ports, contactors, splits, alphaAt, leakAt, compAt));
+      return finish(false, 0, `the linear system is singular at ${unsettled[unsettled.length - 1]}`);
+    }
+    throw error;
+  }
+  return finish(false, opt.maxStateRounds, 'no convergence');
+}
+
+function samePattern(a: SparseMatrix, b: SparseMatrix): boolean {
+  if (a.n !== b.n || a.rowIdx.length !== b.rowIdx.length) return false;
+  for (let j = 0; j <= a.n; j++) if (a.colPtr[j] !== b.colPtr[j]) return false;
+  for (let k = 0; k < a.rowIdx.length; k++) if (a.rowIdx[k] !== b.rowIdx[k]) return false;
+  return true;
+}
+
+function allPure(composition: Float64Array): boolean {
+  return composition.every((c) => c < 1e-12 || c > 1 - 1e-12);
+}
+
+function mean(values: number[]): number {
+  return values.length ? values.reduce((a, b) => a + b, 0) / values.length : 0;
+}
+
+function worstPorts(F: Float64Array, unknownOf: Int32Array, ports: Network['ports'], compAt: number, count: number): string[] {
+  const rows = [...unknownOf.entries()].filter(([, u]) => u >= 0).map(([i, u]) => ({ id: ports[i]!.node.id, r: Math.max(Math.abs(F[u]!), Math.abs(F[compAt + u]!)) }));
+  rows.sort((a, b) => b.r - a.r);
+  return [...new Set(rows.slice(0, count).map((r) => `node ${r.id}`))];
+}
+
+function describeUnknown(index: number, unknownOf: Int32Array, ports: Network['ports'], contactors: ContactorElement[], splits: SplitElement[], alphaAt: number, leakAt: number, compAt: number): string {
+  if (index >= compAt) index -= compAt;
+  else if (index >= leakAt) return `split ${splits[index - leakAt]?.node.id}`;
+  if (index >= alphaAt) return `contactor ${contactors[index - alphaAt]?.segment.id}`;
+  const port = [...unknownOf].indexOf(index);
+  return `node ${ports[port]?.node.id ?? index}`;
+}
+
+/**
+ * Carries phase compositions along the actual flow: each port's outflow is the flow-weighted
+ * mix of its inflows (boundary ports supply their own liquid). Sweeps until nothing changes.
+ * Used to start the composition unknowns once the nominal compositions no longer hold.
+ */
+function propagatedCompositions(net: Network, x: Float64Array, pressureOf: (v: Float64Array, p: number) => number, plainFlow: Float64Array, laneFlow: Float64Array, leakAt: number): Float64Array {
+  const { ports, plains, contactors, splits } = net;
+  const composition = Float64Array.from(ports, (p) => p.nominal);
+  const order = ports.map((_, i) => i).sort((a, b) => pressureOf(x, b) - pressureOf(x, a));
+  const inflow: Array<Array<[number, number]>> = ports.map(() => []); // [upstream port, flow]
+  const link = (from: number, to: number, q: number) => {
+    if (q > 0) inflow[to]!.push([from, q]);
+    else if (q < 0) inflow[from]!.push([to, -q]);
+  };
+  plains.forEach((el, e) => link(el.from, el.to, plainFlow[e]!));
+  contactors.forEach((el, c) => {
+    link(el.nearIn, el.nearOut, laneFlow[2 * c]!);
+    link(el.farIn, el.farOut, laneFlow[2 * c + 1]!);
+  });
+  splits.forEach((sp, s) => link(sp.far, sp.near, x[leakAt + s]!));
+  for (let sweep = 0; sweep < ports.length + 1; sweep++) {
+    let changed = false;
+    for (const i of order) {
+      const port = ports[i]!;
+      let value: number;
+      if (port.fixed !== undefined) value = port.supplies ?? port.nominal;
+      else {
+        let q = 0;
+        let qa = 0;
+        if (port.injection > 0) {
+          q += port.injection;
+          qa += port.injection * (port.supplies ?? 1);
+        }
+        for (const [from, f] of inflow[i]!) {
+          q += f;
+          qa += f * composition[from]!;
+        }
+        value = q > 0 ? qa / q : composition[i]!;
+      }
+      if (Math.abs(value - composition[i]!) > 1e-15) {
+        composition[i] = value;
+        changed = true;
+      }
+    }
+    if (!changed) break;
+  }
+  return composition;
+}
+
+/**
+ * Pinned splits whose Δ = p_B − p_A left the window start to leak at the limit they crossed;
+ * leaking splits whose leak runs the wrong way pin again. Returns the splits that switched.
+ */
+function updateSplitStates(splits: SplitElement[], states: SplitState[], x: Float64Array, leakAt: number, pressureOf: (v: Float64Array, p: number) => number, slack: number): SplitElement[] {
+  const switched: SplitElement[] = [];
+  for (const [s, sp] of splits.entries()) {
+    const sign = sp.nearPhase === 'A' ? 1 : -1;
+    const delta = sign * (pressureOf(x, sp.far) - pressureOf(x, sp.near));
+    const [low, high] = sp.window;
+    const margin = slack * (1 + Math.abs(high) + Math.abs(low));
+    // A leak at the high limit carries B toward A's outlet: far → near when the near side is A.
+    const leakTowardA = sign * x[leakAt + s]!;
+    let next = states[s]!;
+    if (next === 'pinned') {
+      if (delta > high + margin) next = 'high';
+      else if (delta < low - margin) next = 'low';
+    } else if (next === 'high' && leakTowardA < 0) next = 'pinned';
+    else if (next === 'low' && leakTowardA > 0) next = 'pinned';
+    if (next !== states[s]) {
+      states[s] = next;
+      switched.push(sp);
+    }
+  }
+  return switched;
+}

@@ -1,0 +1,124 @@
+/**
+ * Square sparse matrices in compressed sparse column (CSC) form, and `TripletBuilder`, which
+ * collects (row, column, value) entries in any order and compresses them. Exports `SparseMatrix`,
+ * `TripletBuilder` and `columnMaxAbs`. Knows nothing about networks or factorisations.
+ */
+
+/** An n×n matrix in CSC form: the entries of column j are `rowIdx/values[colPtr[j] .. colPtr[j+1])`. */
+export interface SparseMatrix {
+  n: number;
+  colPtr: Int32Array;
+  rowIdx: Int32Array;
+  values: Float64Array;
+}
+
+const INITIAL_CAPACITY = 64;
+
+/**
+ * Collects matrix entries one at a time. `toCsc` sums duplicates and sorts the rows of each
+ * column, so the result depends only on the set of entries, not on the order they were added.
+ * An entry added with value 0 stays in the pattern: an assembler that adds the same entries at
+ * every Newton iteration gets the same pattern every time, whatever the values.
+ */
+export class TripletBuilder {
+  readonly n: number;
+  private rows: Int32Array;
+  private cols: Int32Array;
+  private vals: Float64Array;
+  private count = 0;
+
+  constructor(n: number) {
+    if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix size must be a whole number ≥ 0, got ${n}`);
+    this.n = n;
+    this.rows = new Int32Array(INITIAL_CAPACITY);
+    this.cols = new Int32Array(INITIAL_CAPACITY);
+    this.vals = new Float64Array(INITIAL_CAPACITY);
+  }
+
+  /** Number of entries added since construction or the last `clear()`, duplicates included. */
+  get size(): number {
+    return this.count;
+  }
+
+  add(row: number, col: number, value: number): void {
+    if (!(row >= 0 && row < this.n && col >= 0 && col < this.n) || !Number.isInteger(row) || !Number.isInteger(col)) {
+      throw new RangeError(`entry (${row}, ${col}) is outside the ${this.n}×${this.n} matrix`);
+    }
+    if (this.count === this.rows.length) this.grow();
+    this.rows[this.count] = row;
+    this.cols[this.count] = col;
+    this.vals[this.count] = value;
+    this.count++;
+  }
+
+  /** Forgets all entries and keeps the storage, for the next assembly of the same system. */
+  clear(): void {
+    this.count = 0;
+  }
+
+  toCsc(): SparseMatrix {
+    const { n, count, rows, cols, vals } = this;
+    // Bucket the entries by row first; walking rows in order then fills each column with its
+    // rows ascending, and the duplicates of an entry arrive one after another.
+    const rowPtr = new Int32Array(n + 1);
+    for (let t = 0; t < count; t++) rowPtr[rows[t] + 1]++;
+    for (let i = 0; i < n; i++) rowPtr[i + 1] += rowPtr[i];
+    const next = rowPtr.slice(0, n);
+    const byRow = new Int32Array(count);
+    for (let t = 0; t < count; t++) byRow[next[rows[t]]++] = t;
+
+    const lastRow = new Int32Array(n).fill(-1);
+    const colPtr = new Int32Array(n + 1);
+    for (let i = 0; i < n; i++) {
+      for (let s = rowPtr[i]; s < rowPtr[i + 1]; s++) {
+        const j = cols[byRow[s]];
+        if (lastRow[j] !== i) {
+          lastRow[j] = i;
+          colPtr[j + 1]++;
+        }
+      }
+    }
+    for (let j = 0; j < n; j++) colPtr[j + 1] += colPtr[j];
+
+    const nnz = colPtr[n];
+    const rowIdx = new Int32Array(nnz);
+    const values = new Float64Array(nnz);
+    const fill = colPtr.slice(0, n);
+    lastRow.fill(-1);
+    for (let i = 0; i < n; i++) {
+      for (let s = rowPtr[i]; s < rowPtr[i + 1]; s++) {
+        const t = byRow[s];
+        const j = cols[t];
+        if (lastRow[j] === i) {
+          values[fill[j] - 1] += vals[t];
+        } else {
+          lastRow[j] = i;
+          rowIdx[fill[j]] = i;
+          values[fill[j]] = vals[t];
+          fill[j]++;
+        }
+      }
+    }
+    return { n, colPtr, rowIdx, values };
+  }
+
+  private grow(): void {
+    const capacity = 2 * this.rows.length;
+    const rows = new Int32Array(capacity);
+    const cols = new Int32Array(capacity);
+    const vals = new Float64Array(capacity);
+    rows.set(this.rows);
+    cols.set(this.cols);
+    vals.set(this.vals);
+    this.rows = rows;
+    this.cols = cols;
+    this.vals = vals;
+  }
+}
+
+/** Largest |a_ij| in column j (0 for an empty column); the scale against which pivots are judged. */
+export function columnMaxAbs(a: SparseMatrix, j: number): number {
+  let max = 0;
+  for (let p = a.colPtr[j]; p < a.colPtr[j + 1]; p++) max = Math.max(max, Math.abs(a.values[p]));
+  return max;
+}

@@ -1,0 +1,36 @@
+/**
+ * Formatting of SI values for reports and tables. Exports `fmt` and the display units used in
+ * tables. Reports convert here and nowhere else.
+ */
+
+export interface DisplayUnit {
+  symbol: string;
+  /** SI value × factor = displayed value. */
+  factor: number;
+}
+
+export const DISPLAY = {
+  length: { symbol: 'µm', factor: 1e6 },
+  lengthMm: { symbol: 'mm', factor: 1e3 },
+  flow: { symbol: 'µL/min', factor: 6e10 },
+  pressure: { symbol: 'kPa', factor: 1e-3 },
+  pressureDifference: { symbol: 'Pa', factor: 1 },
+  viscosity: { symbol: 'mPa·s', factor: 1e3 },
+  tension: { symbol: 'mN/m', factor: 1e3 },
+  velocity: { symbol: 'mm/s', factor: 1e3 },
+  time: { symbol: 's', factor: 1 },
+  resistancePerLength: { symbol: 'Pa·s/m⁴', factor: 1 },
+} satisfies Record<string, DisplayUnit>;
+
+/** A number to `digits` significant digits without exponent noise for ordinary magnitudes. */
+export function fmt(value: number | null | undefined, digits = 4): string {
+  if (value === null || value === undefined || !Number.isFinite(value)) return '–';
+  if (value === 0) return '0';
+  const abs = Math.abs(value);
+  if (abs >= 1e-3 && abs < 1e6) return Number(value.toPrecision(digits)).toString();
+  return value.toExponential(digits - 1);
+}
+
+export function show(value: number, unit: DisplayUnit, digits = 4): string {
+  return `${fmt(value * unit.factor, digits)} ${unit.symbol}`;
+}
