@@ -9,6 +9,11 @@ import { registerSolve } from './solve.js';
 import { registerSchema } from './schema.js';
 import { registerFluids } from './fluids.js';
 import { registerMake } from './make.js';
+import { registerDraw } from './draw.js';
+import { registerWindow } from './window.js';
+import { registerTune } from './tune.js';
+import { registerTolerance } from './tolerance.js';
+import { registerExtract } from './extract.js';
 
 export interface CommandContext {
   /** Standard output and error writers, replaceable in tests. */
@@ -18,7 +23,18 @@ export interface CommandContext {
 
 export type Registrar = (program: Command, context: CommandContext) => void;
 
-const COMMANDS: Registrar[] = [registerSection, registerSolve, registerMake, registerSchema, registerFluids];
+const COMMANDS: Registrar[] = [
+  registerSection,
+  registerSolve,
+  registerDraw,
+  registerWindow,
+  registerTune,
+  registerTolerance,
+  registerExtract,
+  registerMake,
+  registerSchema,
+  registerFluids,
+];
 
 export function buildProgram(context: CommandContext): Command {
   const program = new Command('stratiflow')
