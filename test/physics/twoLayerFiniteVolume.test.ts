@@ -1,7 +1,7 @@
 /**
  * The two-layer series of src/physics/twoLayer.ts against an independent second method: the
  * finite-volume solver of test/support/finiteDifference.ts (no Fourier series, interface on cell
- * faces, harmonic-mean viscosity, conjugate gradients). About 2 s in all.
+ * faces, harmonic-mean viscosity, conjugate gradients). Under a second on two cores.
  */
 import { describe, expect, it } from 'vitest';
 import { twoLayerFlow } from '../../src/physics/twoLayer.js';
