@@ -137,7 +137,7 @@ export function solveChip(chip: Chip, options: SolverOptions = {}, warm?: WarmSt
 
 export function warmStartFrom(solved: SolvedChip): WarmStart {
   const { raw } = solved;
-  return { pressure: raw.pressure, holdup: raw.holdup, leak: raw.leak, splitStates: raw.splitStates, composition: raw.composition };
+  return { pressure: raw.pressure, holdup: raw.holdup, leak: raw.leak, splitStates: raw.splitStates, crossover: raw.crossover, feedStates: raw.feedStates, composition: raw.composition };
 }
 
 function leakStateName(state: SplitState): LeakState {
@@ -272,6 +272,12 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     if (capillary !== null && capillary > FLOW_REGIME_LIMITS.capillary) warnings.push(`contactor ${el.segment.id}: capillary number ${capillary.toPrecision(3)} is above ${FLOW_REGIME_LIMITS.capillary}; the interface may not stay flat`);
     if (bond !== null && bond > FLOW_REGIME_LIMITS.bond && el.section.orientation === 'side') warnings.push(`contactor ${el.segment.id}: Bond number ${bond.toPrecision(3)} is above ${FLOW_REGIME_LIMITS.bond}; gravity may tilt the interface`);
     if (qn + qf < 0) warnings.push(`contactor ${el.segment.id}: flow runs backwards, from the split to the merge`);
+    const feed = raw.feedStates[c]!;
+    if (feed !== 'open') {
+      const filling = (feed === 'nearFills') === nearIsA ? 'A' : 'B';
+      const starved = filling === 'A' ? 'B' : 'A';
+      warnings.push(`contactor ${el.segment.id}: phase ${starved} does not enter; ${filling} fills the channel and pushes ${formatFlow(Math.abs(raw.crossover[c]!))} back into the ${starved} feed at merge ${el.segment.from}`);
+    }
   });
 
   for (const seg of segmentById.values()) {

@@ -142,36 +142,35 @@ export function assembleNetwork(chip: Chip): Network {
 }
 
 /**
- * Nominal composition: inlets supply their phase and everything flows from → to. Settled by
- * repeated sweeps (each sweep moves the information at least one element downstream), so it
- * needs no ordering and tolerates loops.
+ * Nominal composition: inlets supply their phase and everything flows from → to; a port takes
+ * the mean of what arrives. Ports are settled in topological order (Kahn's algorithm), so each
+ * is visited once; ports on a loop, which have no such order, keep 0.5.
  */
 function propagateNominal(ports: Port[], plains: PlainElement[], contactors: ContactorElement[]): void {
-  const known = ports.map((p) => p.supplies !== undefined && p.node.kind === 'inlet');
-  for (const [i, p] of ports.entries()) if (known[i]) p.nominal = p.supplies!;
-  for (let sweep = 0; sweep < ports.length + 1; sweep++) {
-    let changed = false;
-    const sum = new Float64Array(ports.length);
-    const count = new Float64Array(ports.length);
-    const feed = (to: number, from: number) => {
-      if (!known[from]) return;
-      sum[to] += ports[from]!.nominal;
-      count[to] += 1;
-    };
-    for (const e of plains) feed(e.to, e.from);
-    for (const c of contactors) {
-      feed(c.nearOut, c.nearIn);
-      feed(c.farOut, c.farIn);
+  const downstream: number[][] = ports.map(() => []);
+  const upstream: number[][] = ports.map(() => []);
+  const link = (from: number, to: number) => {
+    downstream[from]!.push(to);
+    upstream[to]!.push(from);
+  };
+  for (const e of plains) link(e.from, e.to);
+  for (const c of contactors) {
+    link(c.nearIn, c.nearOut);
+    link(c.farIn, c.farOut);
+  }
+  const waiting = upstream.map((list) => list.length);
+  const queue: number[] = [];
+  ports.forEach((p, i) => {
+    if (p.node.kind === 'inlet') p.nominal = p.supplies!;
+    if (waiting[i] === 0) queue.push(i);
+  });
+  for (let head = 0; head < queue.length; head++) {
+    const i = queue[head]!;
+    const port = ports[i]!;
+    const from = upstream[i]!;
+    if (port.node.kind !== 'inlet' && from.length > 0) {
+      port.nominal = from.reduce((sum, j) => sum + ports[j]!.nominal, 0) / from.length;
     }
-    for (const [i, p] of ports.entries()) {
-      if (p.node.kind === 'inlet' || count[i] === 0) continue;
-      const value = sum[i]! / count[i]!;
-      if (!known[i] || Math.abs(value - p.nominal) > 1e-15) {
-        p.nominal = value;
-        known[i] = true;
-        changed = true;
-      }
-    }
-    if (!changed) break;
+    for (const j of downstream[i]!) if (--waiting[j]! === 0) queue.push(j);
   }
 }

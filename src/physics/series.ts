@@ -14,6 +14,20 @@ const BERNOULLI = [1 / 6, -1 / 30, 1 / 42, -1 / 30, 5 / 66, -691 / 2730];
  * omitted term is below 1e-16 of the result for s ≤ 6.
  */
 export function oddPowerTail(s: number, N: number): number {
+  const key = s * 1e9 + N;
+  let value = tailCache.get(key);
+  if (value === undefined) {
+    value = computeOddPowerTail(s, N);
+    if (tailCache.size > 4096) tailCache.clear();
+    tailCache.set(key, value);
+  }
+  return value;
+}
+
+/** The series evaluator asks for the same few tails again and again. */
+const tailCache = new Map<number, number>();
+
+function computeOddPowerTail(s: number, N: number): number {
   let direct = 0;
   let n = N;
   for (let k = 0; k < 16; k++, n += 2) direct += n ** -s;

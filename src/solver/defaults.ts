@@ -12,8 +12,6 @@ export const SOLVER_DEFAULTS = {
   minStep: 1 / 1024,
   /** Fraction of the distance to α = 0 or 1 that one step may cover. */
   holdupBoundaryFraction: 0.9,
-  /** A split leaves its window when Δ passes a limit by more than this (Pa) plus a relative part. */
-  windowSlack: 1e-9,
   linear: 'sparse' as 'sparse' | 'dense',
 };
 

@@ -22,6 +22,19 @@ import { SOLVER_DEFAULTS, type SolverOptions } from './defaults.js';
 import type { ContactorElement, Network, SplitElement } from '../network/assemble.js';
 
 export type SplitState = 'pinned' | 'high' | 'low';
+/**
+ * A contactor is `open` while both phases enter it. When the network starves one feed, that
+ * phase's layer thins to nothing: the other phase fills the channel (`nearFills` or `farFills`)
+ * and pushes back into the starved feed line at the merge.
+ */
+export type FeedState = 'open' | 'nearFills' | 'farFills';
+
+/** A row counts as settled within this multiple of its rounding floor. */
+const ROUNDING_FLOOR_FACTOR = 16;
+/** Holdup at which a starved contactor is held (a layer of 1e-6 of the width remains). */
+const STARVED_EDGE = 1e-6;
+/** Holdup within this of 0 or 1 after a stalled Newton iteration marks a starved feed. */
+const STARVING = 1e-3;
 
 export interface NetworkSolution {
   converged: boolean;
@@ -36,6 +49,9 @@ export interface NetworkSolution {
   /** Leak flow of every split, far → near port, m³/s. */
   leak: Float64Array;
   splitStates: SplitState[];
+  /** Flow from the near to the far feed at every merge (non-zero only when a feed is starved), m³/s. */
+  crossover: Float64Array;
+  feedStates: FeedState[];
   /** Fraction of A in what leaves each port. */
   composition: Float64Array;
   /** Flow of every plain element (from → to) and both lanes of every contactor, m³/s. */
@@ -53,6 +69,8 @@ export interface WarmStart {
   holdup: Float64Array;
   leak: Float64Array;
   splitStates: SplitState[];
+  crossover: Float64Array;
+  feedStates: FeedState[];
   composition: Float64Array;
 }
 
@@ -83,11 +101,13 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   for (const [i, p] of ports.entries()) if (p.fixed === undefined) unknownOf[i] = freePorts++;
   const alphaAt = freePorts;
   const leakAt = alphaAt + contactors.length;
-  const compAt = leakAt + splits.length;
+  const crossAt = leakAt + splits.length;
+  const compAt = crossAt + contactors.length;
   const n = compAt + freePorts;
 
   const x = new Float64Array(n);
   const states: SplitState[] = splits.map(() => 'pinned');
+  const feedStates: FeedState[] = contactors.map(() => 'open');
   const fixedMean = mean(ports.filter((p) => p.fixed !== undefined).map((p) => p.fixed!));
   const composition = new Float64Array(ports.length);
   if (warm) {
@@ -95,6 +115,8 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     x.set(warm.holdup, alphaAt);
     x.set(warm.leak, leakAt);
     warm.splitStates.forEach((st, i) => (states[i] = st));
+    x.set(warm.crossover, crossAt);
+    warm.feedStates.forEach((st, i) => (feedStates[i] = st));
     composition.set(warm.composition);
   } else {
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = fixedMean;
@@ -104,7 +126,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = composition[i]!;
   // Compositions are unknowns of their own only once some port is not pure or a split leaks;
   // until then they stay at their nominal values and their rows are identities.
-  let withComposition = warm !== undefined && (!allPure(composition) || states.some((st) => st !== 'pinned'));
+  let withComposition = warm !== undefined && (!allPure(composition) || states.some((st) => st !== 'pinned') || feedStates.some((st) => st !== 'open'));
 
   const pressureOf = (v: Float64Array, port: number) => {
     const u = unknownOf[port]!;
@@ -120,12 +142,16 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   const laneFlow = new Float64Array(2 * contactors.length);
   const laneComposition = new Float64Array(2 * contactors.length);
   const F = new Float64Array(n);
+  /** Rounding floor of each mass row, m³/s: the residual double precision can reach there. */
+  const noise = new Float64Array(n);
   const anchor = new Float64Array(n);
   const builder = new TripletBuilder(n);
   let regularisation = 0;
   const fixedPressures = ports.filter((p) => p.fixed !== undefined).map((p) => p.fixed!);
-  /** Pa per unit holdup: 1e-12 of the largest applied pressure difference. */
-  const holdupRegularisation = 1e-12 * Math.max(1, Math.max(...fixedPressures) - Math.min(...fixedPressures));
+  /** The largest applied pressure difference, Pa (at least 1 Pa). */
+  const pressureScale = Math.max(1, Math.max(...fixedPressures) - Math.min(...fixedPressures));
+  /** Pa per unit holdup. */
+  const holdupRegularisation = 1e-12 * pressureScale;
 
   /**
    * Residuals, and the Jacobian when `jacobian` is set. `freezeHoldup` replaces each lane
@@ -133,6 +159,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
    */
   const evaluate = (v: Float64Array, jacobian: boolean, freezeHoldup: boolean) => {
     F.fill(0);
+    noise.fill(0);
     if (jacobian) builder.clear();
     const J = (row: number, col: number, value: number) => {
       if (jacobian && row >= 0 && col >= 0) builder.add(row, col, value);
@@ -153,33 +180,47 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       const rt = massRow(to);
       if (rf >= 0) F[rf] -= q;
       if (rt >= 0) F[rt] += q;
+      // Rounding of p_from − p_to: what no iteration can remove from these rows.
+      const rounding = g * (Math.abs(pressureOf(v, from)) + Math.abs(pressureOf(v, to))) * Number.EPSILON;
+      if (rf >= 0) noise[rf] += rounding;
+      if (rt >= 0) noise[rt] += rounding;
       const af = aRow(from);
       const at = aRow(to);
       if (af >= 0) F[af] -= q * xu;
       if (at >= 0) F[at] += q * xu;
+      if (af >= 0) noise[af] += rounding * xu;
+      if (at >= 0) noise[at] += rounding * xu;
       if (!jacobian) return;
-      const partial = (col: number, d: number, dA: number) => {
-        if (col < 0) return;
-        J(rf, col, -d);
-        J(rt, col, d);
-        J(af, col, -dA);
-        J(at, col, dA);
-      };
-      partial(pCol(from), g, g * xu);
-      partial(pCol(to), -g, -g * xu);
-      if (extra >= 0) partial(extra, dExtra, dExtra * xu);
+      partial(rf, rt, af, at, pCol(from), g, g * xu);
+      partial(rf, rt, af, at, pCol(to), -g, -g * xu);
+      if (extra >= 0) partial(rf, rt, af, at, extra, dExtra, dExtra * xu);
       // Both ends' composition columns are stamped (one with 0) so the pattern does not depend
       // on the flow direction and the symbolic factorisation can be reused.
       if (withComposition) {
-        partial(xCol(from), up === from ? dMu : 0, up === from ? q + xu * dMu : 0);
-        partial(xCol(to), up === to ? dMu : 0, up === to ? q + xu * dMu : 0);
+        partial(rf, rt, af, at, xCol(from), up === from ? dMu : 0, up === from ? q + xu * dMu : 0);
+        partial(rf, rt, af, at, xCol(to), up === to ? dMu : 0, up === to ? q + xu * dMu : 0);
         // A lane also feels the viscosity of the other lane, through the shared interface.
         if (other) {
-          partial(xCol(other.from), other.up === other.from ? other.dMu : 0, other.up === other.from ? xu * other.dMu : 0);
-          partial(xCol(other.to), other.up === other.to ? other.dMu : 0, other.up === other.to ? xu * other.dMu : 0);
+          partial(rf, rt, af, at, xCol(other.from), other.up === other.from ? other.dMu : 0, other.up === other.from ? xu * other.dMu : 0);
+          partial(rf, rt, af, at, xCol(other.to), other.up === other.to ? other.dMu : 0, other.up === other.to ? xu * other.dMu : 0);
         }
       }
     };
+    /** Explicit zeros keep a contactor row's pattern the same in every state. */
+    function zeroPressureEntries(row: number, el: ContactorElement): void {
+      J(row, pCol(el.nearIn), 0);
+      J(row, pCol(el.nearOut), 0);
+      J(row, pCol(el.farIn), 0);
+      J(row, pCol(el.farOut), 0);
+    }
+    /** dQ/d(col) = d into the volume rows and dA into the phase-A rows of both ends. */
+    function partial(rf: number, rt: number, af: number, at: number, col: number, d: number, dA: number): void {
+      if (col < 0) return;
+      J(rf, col, -d);
+      J(rt, col, d);
+      J(af, col, -dA);
+      J(at, col, dA);
+    }
 
     for (const [i, p] of ports.entries()) {
       if (p.injection === 0) continue;
@@ -235,39 +276,66 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       const dMix = muA - muB;
       stamp(el.nearIn, el.nearOut, qn, upNear, r.kA / L, col, (dn * r.dkA) / L, (dn * dkAdMuN * dMix) / L, { from: el.farIn, to: el.farOut, up: upFar, dMu: (dn * dkAdMuF * dMix) / L });
       stamp(el.farIn, el.farOut, qf, upFar, r.kB / L, col, (df * r.dkB) / L, (df * dkBdMuF * dMix) / L, { from: el.nearIn, to: el.nearOut, up: upNear, dMu: (df * dkBdMuN * dMix) / L });
-      if (freezeHoldup) {
-        F[col] = 0;
-        J(col, col, el.scale);
+      const cc = crossAt + c;
+      const cross = v[cc]!;
+      stamp(el.nearIn, el.farIn, cross, cross >= 0 ? el.nearIn : el.farIn, 0, cc, 1, 0);
+      const feed = feedStates[c]!;
+      if (feed !== 'open') {
+        // Starved feed: α held at its edge, and the merge is one liquid: p_far = p_near there.
+        const edge = feed === 'nearFills' ? 1 - STARVED_EDGE : STARVED_EDGE;
+        F[col] = el.scale * pressureScale * (alpha - edge);
+        J(col, col, el.scale * pressureScale);
+        zeroPressureEntries(col, el);
+        F[cc] = el.scale * (pressureOf(v, el.farIn) - pressureOf(v, el.nearIn));
+        J(cc, pCol(el.farIn), el.scale);
+        J(cc, pCol(el.nearIn), -el.scale);
+        J(cc, cc, 0);
       } else {
-        // A stagnant contactor (no pressure drop) leaves α undetermined; the tiny pull toward
-        // the last iterate keeps it defined and vanishes as the iteration settles.
-        // A contactor whose drop is lost in rounding carries no flow worth resolving: its
-        // holdup is held where it is.
-        const pull = holdupRegularisation * el.scale;
-        const stagnant = Math.max(Math.abs(dn), Math.abs(df)) < holdupRegularisation;
-        const s = stagnant ? 0 : el.scale;
-        F[col] = s * (dn - df) + pull * (alpha - anchor[col]!);
-        J(col, pCol(el.nearIn), s);
-        J(col, pCol(el.nearOut), -s);
-        J(col, pCol(el.farIn), -s);
-        J(col, pCol(el.farOut), s);
-        J(col, col, pull);
+        F[cc] = cross;
+        J(cc, cc, 1);
+        J(cc, pCol(el.farIn), 0);
+        J(cc, pCol(el.nearIn), 0);
+        if (freezeHoldup) {
+          F[col] = 0;
+          J(col, col, el.scale);
+          zeroPressureEntries(col, el);
+        } else {
+          // A contactor whose drop is lost in rounding carries no flow worth resolving: its
+          // holdup is held where it is by a tiny pull toward the last iterate.
+          const pull = holdupRegularisation * el.scale;
+          const stagnant = Math.max(Math.abs(dn), Math.abs(df)) < holdupRegularisation;
+          const w = stagnant ? 0 : el.scale;
+          F[col] = w * (dn - df) + pull * (alpha - anchor[col]!);
+          J(col, pCol(el.nearIn), w);
+          J(col, pCol(el.nearOut), -w);
+          J(col, pCol(el.farIn), -w);
+          J(col, pCol(el.farOut), w);
+          J(col, col, pull);
+        }
       }
     }
     for (const [s, sp] of splits.entries()) {
       const col = leakAt + s;
       const leak = v[col]!;
       stamp(sp.far, sp.near, leak, leak >= 0 ? sp.far : sp.near, 0, col, 1, 0);
+      // Semismooth form of the split's complementarity (pinned inside the window with no leak,
+      // or held at a limit while the leak runs toward the other phase's outlet):
+      //   Δ = clamp(Δ + ℓ_A/κ, low, high),  ℓ_A = sign·ℓ the leak toward A's outlet, κ the scale.
+      // Newton on it switches between the branches by itself (an active-set method).
       const sign = sp.nearPhase === 'A' ? 1 : -1;
       const scale = sp.contactor.scale;
-      if (states[s] === 'pinned') {
-        F[col] = leak;
-        J(col, col, 1);
+      const delta = sign * (pressureOf(v, sp.far) - pressureOf(v, sp.near));
+      const trial = delta + (sign * leak) / scale;
+      const [low, high] = sp.window;
+      if (trial > low && trial < high) {
+        states[s] = 'pinned';
+        F[col] = -sign * leak;
+        J(col, col, -sign);
         J(col, pCol(sp.far), 0);
         J(col, pCol(sp.near), 0);
       } else {
-        const limit = states[s] === 'high' ? sp.window[1] : sp.window[0];
-        F[col] = scale * (sign * (pressureOf(v, sp.far) - pressureOf(v, sp.near)) - limit);
+        states[s] = trial >= high ? 'high' : 'low';
+        F[col] = scale * (delta - (trial >= high ? high : low));
         J(col, pCol(sp.far), sign * scale);
         J(col, pCol(sp.near), -sign * scale);
         J(col, col, 0);
@@ -299,6 +367,18 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     }
     const positive = [delivered.A, delivered.B].filter((q) => q > 0);
     return positive.length ? Math.min(...positive) : 1e-300;
+  };
+
+  /**
+   * Every row within the tolerance, or (for mass rows) within a small multiple of its rounding
+   * floor: with highly conductive manifolds at high pressure, g·(p_i − p_j) cannot be resolved
+   * below ε·g·(|p_i| + |p_j|), whatever the iteration does.
+   */
+  const settledRows = (tolerance: number): boolean => {
+    for (let i = 0; i < n; i++) {
+      if (Math.abs(F[i]!) > Math.max(tolerance, ROUNDING_FLOOR_FACTOR * noise[i]!)) return false;
+    }
+    return true;
   };
 
   const residualNorms = (): { worst: number; all: number } => {
@@ -350,7 +430,9 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       residual: mass / flowReference(),
       pressure,
       holdup: x.slice(alphaAt, leakAt),
-      leak: x.slice(leakAt, compAt),
+      leak: x.slice(leakAt, crossAt),
+      crossover: x.slice(crossAt, compAt),
+      feedStates: [...feedStates],
       splitStates: [...states],
       composition: finalComposition,
       plainFlow: plainFlow.slice(),
@@ -368,6 +450,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       // lane flow fractions through the holdup table (one Picard step).
       const step = newtonStep(true);
       for (let i = 0; i < compAt; i++) x[i] += step[i]!;
+      for (let c = 0; c < contactors.length; c++) x[alphaAt + c] = 0.5;
       iterations++;
       evaluate(x, false, true);
       for (const [c, el] of contactors.entries()) {
@@ -378,17 +461,19 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
           x[alphaAt + c] = table.solve(qn / (qn + qf)).holdup;
         }
       }
+      if (starveFeeds(net, x, alphaAt, feedStates, laneFlow, plainFlow) > 0) withComposition = true;
     }
 
     for (let round = 1; round <= opt.maxStateRounds; round++) {
       let settled = false;
-      for (let k = 0; k < opt.maxNewtonIterations; k++) {
+      let stalls = 0;
+      for (let k = 0; k < opt.maxNewtonIterations && stalls < 4; k++) {
         anchor.set(x);
         evaluate(x, false, false);
         const reference = flowReference();
         regularisation = 1e-10 * reference / Math.max(1e-300, Math.abs(fixedMean) + 1);
         const before = residualNorms();
-        if (before.worst <= opt.relativeTolerance * reference) {
+        if (settledRows(opt.relativeTolerance * reference)) {
           settled = true;
           break;
         }
@@ -406,12 +491,22 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
         for (;;) {
           for (let i = 0; i < n; i++) x[i] = start[i]! + t * step[i]!;
           for (let i = compAt; i < n; i++) x[i] = Math.min(1, Math.max(0, x[i]!));
+          for (let i = alphaAt; i < leakAt; i++) x[i] = Math.min(1 - STARVED_EDGE / 16, Math.max(STARVED_EDGE / 16, x[i]!));
           evaluate(x, false, false);
           if (residualNorms().all <= (1 - 1e-4 * t) * before.all || t <= opt.minStep) break;
           t /= 2;
         }
+        stalls = t <= opt.minStep ? stalls + 1 : 0;
+
       }
       if (!settled) {
+        // No solution with every feed open: starve the feeds whose holdup ran to an edge.
+        evaluate(x, false, false);
+        const starved = starveFeeds(net, x, alphaAt, feedStates, laneFlow, plainFlow);
+        if (starved > 0 && round < opt.maxStateRounds) {
+          withComposition = true;
+          continue;
+        }
         unsettled.push(...worstPorts(F, unknownOf, ports, compAt, 5));
         return finish(false, round, `Newton iteration did not settle within ${opt.maxNewtonIterations} steps`);
       }
@@ -424,15 +519,15 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
           changed = true;
         }
       }
-      const switched = updateSplitStates(splits, states, x, leakAt, pressureOf, opt.windowSlack);
-      if (switched.length > 0 && !withComposition) {
+      if (reopenFeeds(x, alphaAt, crossAt, feedStates) > 0) changed = true;
+      if (!withComposition && states.some((st) => st !== 'pinned')) {
         withComposition = true;
         changed = true;
       }
-      if (!changed && switched.length === 0) return finish(true, round);
+      if (!changed) return finish(true, round);
       if (round === opt.maxStateRounds) {
-        unsettled.push(...switched.map((sp) => `split ${sp.node.id}`));
-        return finish(false, round, 'split states kept switching between pinned and leaking');
+        unsettled.push(...contactors.filter((_, c) => feedStates[c] !== 'open').map((el) => `merge ${el.segment.from}`));
+        return finish(false, round, 'feeds kept switching between open and starved');
       }
     }
   } catch (error) {
@@ -443,6 +538,56 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     throw error;
   }
   return finish(false, opt.maxStateRounds, 'no convergence');
+}
+
+/**
+ * Open feeds become starved where the holdup ran to an edge or one lane runs against the
+ * contactor's net flow (no two-layer state can carry that); returns how many.
+ */
+function starveFeeds(net: Network, x: Float64Array, alphaAt: number, feedStates: FeedState[], laneFlow: Float64Array, plainFlow: Float64Array): number {
+  let count = 0;
+  /** Net flow that plain segments bring into each port, m³/s. */
+  const fed = new Float64Array(net.ports.length);
+  net.plains.forEach((el, e) => {
+    fed[el.to] += plainFlow[e]!;
+    fed[el.from] -= plainFlow[e]!;
+  });
+  const fedInto = (port: number) => fed[port]!;
+  feedStates.forEach((state, c) => {
+    const alpha = x[alphaAt + c]!;
+    if (state !== 'open') return;
+    const el = net.contactors[c]!;
+    const qn = laneFlow[2 * c]!;
+    const qf = laneFlow[2 * c + 1]!;
+    const total = qn + qf;
+    // A feed that runs away from the merge while the contactor runs forward is starved.
+    const farStarved = alpha > 1 - STARVING || qf * total < 0 || fedInto(el.farIn) * total < 0;
+    const nearStarved = alpha < STARVING || qn * total < 0 || fedInto(el.nearIn) * total < 0;
+    if (farStarved && !nearStarved) feedStates[c] = 'nearFills';
+    else if (nearStarved && !farStarved) feedStates[c] = 'farFills';
+    else return;
+    x[alphaAt + c] = feedStates[c] === 'nearFills' ? 1 - STARVED_EDGE : STARVED_EDGE;
+    count++;
+  });
+  return count;
+}
+
+/**
+ * A starved feed whose crossover runs the wrong way (the starved phase now pushes into the
+ * merge) opens again; returns how many did.
+ */
+function reopenFeeds(x: Float64Array, alphaAt: number, crossAt: number, feedStates: FeedState[]): number {
+  let count = 0;
+  feedStates.forEach((state, c) => {
+    const cross = x[crossAt + c]!;
+    if ((state === 'nearFills' && cross < 0) || (state === 'farFills' && cross > 0)) {
+      feedStates[c] = 'open';
+      x[crossAt + c] = 0;
+      x[alphaAt + c] = state === 'nearFills' ? 1 - 10 * STARVING : 10 * STARVING;
+      count++;
+    }
+  });
+  return count;
 }
 
 function samePattern(a: SparseMatrix, b: SparseMatrix): boolean {
@@ -467,7 +612,9 @@ function worstPorts(F: Float64Array, unknownOf: Int32Array, ports: Network['port
 }
 
 function describeUnknown(index: number, unknownOf: Int32Array, ports: Network['ports'], contactors: ContactorElement[], splits: SplitElement[], alphaAt: number, leakAt: number, compAt: number): string {
+  const crossAt = leakAt + splits.length;
   if (index >= compAt) index -= compAt;
+  else if (index >= crossAt) return `merge ${contactors[index - crossAt]?.segment.from}`;
   else if (index >= leakAt) return `split ${splits[index - leakAt]?.node.id}`;
   if (index >= alphaAt) return `contactor ${contactors[index - alphaAt]?.segment.id}`;
   const port = [...unknownOf].indexOf(index);
@@ -494,6 +641,8 @@ function propagatedCompositions(net: Network, x: Float64Array, pressureOf: (v: F
     link(el.farIn, el.farOut, laneFlow[2 * c + 1]!);
   });
   splits.forEach((sp, s) => link(sp.far, sp.near, x[leakAt + s]!));
+  const crossAt = leakAt + splits.length;
+  contactors.forEach((el, c) => link(el.nearIn, el.farIn, x[crossAt + c]!));
   for (let sweep = 0; sweep < ports.length + 1; sweep++) {
     let changed = false;
     for (const i of order) {
@@ -521,31 +670,4 @@ function propagatedCompositions(net: Network, x: Float64Array, pressureOf: (v: F
     if (!changed) break;
   }
   return composition;
-}
-
-/**
- * Pinned splits whose Δ = p_B − p_A left the window start to leak at the limit they crossed;
- * leaking splits whose leak runs the wrong way pin again. Returns the splits that switched.
- */
-function updateSplitStates(splits: SplitElement[], states: SplitState[], x: Float64Array, leakAt: number, pressureOf: (v: Float64Array, p: number) => number, slack: number): SplitElement[] {
-  const switched: SplitElement[] = [];
-  for (const [s, sp] of splits.entries()) {
-    const sign = sp.nearPhase === 'A' ? 1 : -1;
-    const delta = sign * (pressureOf(x, sp.far) - pressureOf(x, sp.near));
-    const [low, high] = sp.window;
-    const margin = slack * (1 + Math.abs(high) + Math.abs(low));
-    // A leak at the high limit carries B toward A's outlet: far → near when the near side is A.
-    const leakTowardA = sign * x[leakAt + s]!;
-    let next = states[s]!;
-    if (next === 'pinned') {
-      if (delta > high + margin) next = 'high';
-      else if (delta < low - margin) next = 'low';
-    } else if (next === 'high' && leakTowardA < 0) next = 'pinned';
-    else if (next === 'low' && leakTowardA > 0) next = 'pinned';
-    if (next !== states[s]) {
-      states[s] = next;
-      switched.push(sp);
-    }
-  }
-  return switched;
 }
