@@ -187,6 +187,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
 
   const contactorRows: ContactorResult[] = [];
   const splitResults: SplitResult[] = [];
+  const regime = { reynolds: [] as Array<[string, number]>, capillary: [] as Array<[string, number]>, bond: [] as Array<[string, number]> };
   const splitOfContactor = new Map(splits.map((s, i) => [s.contactor, i]));
   const plainIndex = new Map(plains.map((el, e) => [el.segment.id, e]));
   contactors.forEach((el, c) => {
@@ -268,9 +269,9 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
       capillary,
       bond,
     });
-    if (reynolds > FLOW_REGIME_LIMITS.reynolds) warnings.push(`contactor ${el.segment.id}: Reynolds number ${reynolds.toFixed(0)} is above ${FLOW_REGIME_LIMITS.reynolds}; inertia may disturb the stratified flow`);
-    if (capillary !== null && capillary > FLOW_REGIME_LIMITS.capillary) warnings.push(`contactor ${el.segment.id}: capillary number ${capillary.toPrecision(3)} is above ${FLOW_REGIME_LIMITS.capillary}; the interface may not stay flat`);
-    if (bond !== null && bond > FLOW_REGIME_LIMITS.bond && el.section.orientation === 'side') warnings.push(`contactor ${el.segment.id}: Bond number ${bond.toPrecision(3)} is above ${FLOW_REGIME_LIMITS.bond}; gravity may tilt the interface`);
+    if (reynolds > FLOW_REGIME_LIMITS.reynolds) regime.reynolds.push([el.segment.id, reynolds]);
+    if (capillary !== null && capillary > FLOW_REGIME_LIMITS.capillary) regime.capillary.push([el.segment.id, capillary]);
+    if (bond !== null && bond > FLOW_REGIME_LIMITS.bond && el.section.orientation === 'side') regime.bond.push([el.segment.id, bond]);
     if (qn + qf < 0) warnings.push(`contactor ${el.segment.id}: flow runs backwards, from the split to the merge`);
     const feed = raw.feedStates[c]!;
     if (feed !== 'open') {
@@ -280,6 +281,19 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     }
   });
 
+  const regimeText = {
+    reynolds: `Reynolds number above ${FLOW_REGIME_LIMITS.reynolds}: inertia may disturb the stratified flow`,
+    capillary: `capillary number above ${FLOW_REGIME_LIMITS.capillary}: the interface may not stay flat`,
+    bond: `Bond number above ${FLOW_REGIME_LIMITS.bond}: gravity may tilt the interface`,
+  };
+  for (const key of ['reynolds', 'capillary', 'bond'] as const) {
+    const hits = regime[key];
+    if (hits.length === 0) continue;
+    const values = hits.map(([, v]) => v);
+    const range = `${Math.min(...values).toPrecision(3)}${hits.length > 1 ? `–${Math.max(...values).toPrecision(3)}` : ''}`;
+    const names = hits.length <= 3 ? hits.map(([id]) => id).join(', ') : `${hits[0]![0]} … ${hits[hits.length - 1]![0]}`;
+    warnings.push(`${hits.length} contactor${hits.length > 1 ? 's' : ''} (${names}): ${regimeText[key]} (${range})`);
+  }
   for (const seg of segmentById.values()) {
     if (seg.kind === 'mixed') warnings.push(`segment ${seg.id}: carries both phases mixed (homogeneous model; A fraction ${(seg.flowA / (seg.flowA + seg.flowB)).toFixed(4)})`);
   }
