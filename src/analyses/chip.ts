@@ -197,8 +197,11 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     const xf = raw.laneComposition[2 * c + 1]!;
     const alpha = raw.holdup[c]!;
     const nearIsA = xn >= xf;
-    const flowA = qn * xn + qf * xf;
-    const flowB = qn * (1 - xn) + qf * (1 - xf);
+    // A starved layer keeps a trace of flow (its holdup edge); below 1e-9 of the contactor's flow it is reported as none.
+    const trace = 1e-9 * (Math.abs(qn) + Math.abs(qf));
+    const clean = (q: number) => (Math.abs(q) < trace ? 0 : q);
+    const flowA = clean(qn * xn + qf * xf);
+    const flowB = clean(qn * (1 - xn) + qf * (1 - xf));
     const holdupA = nearIsA ? alpha : 1 - alpha;
     const drop = p[el.nearIn]! - p[el.nearOut]!;
     segmentById.set(el.segment.id, { id: el.segment.id, kind: 'contactor', phase: null, flowA, flowB, holdupA, pressureDrop: drop, reversed: qn + qf < 0 });

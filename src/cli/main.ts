@@ -62,7 +62,7 @@ export async function main(argv: string[], context: CommandContext = defaultCont
       return 2;
     }
     if (error instanceof StratiflowError) {
-      context.err(`stratiflow: ${error.format()}\n`);
+      context.err(error.format().split('\n').map((line) => `stratiflow: ${line}\n`).join(''));
       return error.exitStatus;
     }
     const message = error instanceof Error ? error.message : String(error);

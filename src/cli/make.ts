@@ -22,8 +22,11 @@ function common(o: Raw, defaults: CommonOptions): Partial<CommonOptions> {
     const p = q(`pressure${phase}`, `--pressure-${phase.toLowerCase()}`, 'pressure');
     const f = q(`flow${phase}`, `--flow-${phase.toLowerCase()}`, 'flow');
     if (p !== undefined && f !== undefined) throw optionError(`--flow-${phase.toLowerCase()}`, `give either --pressure-${phase.toLowerCase()} or --flow-${phase.toLowerCase()}`);
-    return f !== undefined ? { flow: f } : { pressure: p ?? (defaults.drive[phase] as { pressure: number }).pressure };
+    return f !== undefined ? { flow: f } : p !== undefined ? { pressure: p } : undefined;
   };
+  const driveA = drive('A');
+  const driveB = drive('B');
+  if ((driveA === undefined) !== (driveB === undefined)) throw optionError(driveA ? '--flow-b' : '--flow-a', 'give the drive of both phases (a pressure or a flow each), or of neither');
   const tubeDiameter = q('tubeDiameter', '--tube-diameter', 'length');
   const tubeLength = q('tubeLength', '--tube-length', 'length');
   return {
@@ -31,7 +34,8 @@ function common(o: Raw, defaults: CommonOptions): Partial<CommonOptions> {
     phaseA: { ...defaults.phaseA, viscosity: q('muA', '--mu-a', 'viscosity') ?? defaults.phaseA.viscosity },
     phaseB: { ...defaults.phaseB, viscosity: q('muB', '--mu-b', 'viscosity') ?? defaults.phaseB.viscosity },
     interfacialTension: q('tension', '--tension', 'tension') ?? defaults.interfacialTension,
-    drive: { A: drive('A'), B: drive('B') },
+    drive: driveA && driveB ? { A: driveA, B: driveB } : undefined,
+    outletPressure: { A: q('outletA', '--outlet-a', 'pressure') ?? defaults.outletPressure.A, B: q('outletB', '--outlet-b', 'pressure') ?? defaults.outletPressure.B },
     contactor: { ...size('contactor', defaults.contactor), orientation: choiceOption(o.orientation ?? 'side', '--orientation', ['side', 'stacked'] as const) },
     feed: size('feed', defaults.feed),
     drain: size('drain', defaults.drain),
@@ -48,8 +52,10 @@ function commonFlags(cmd: Command): Command {
     .option('--tension <tension>', 'interfacial tension between A and B')
     .option('--pressure-a <pressure>', 'inlet pressure of phase A')
     .option('--pressure-b <pressure>', 'inlet pressure of phase B')
-    .option('--flow-a <flow>', 'inlet flow of phase A (instead of a pressure)')
+    .option('--flow-a <flow>', 'inlet flow of phase A (instead of a pressure); default 2 uL/min per contactor')
     .option('--flow-b <flow>', 'inlet flow of phase B (instead of a pressure)')
+    .option('--outlet-a <pressure>', 'back-pressure at the outlet of phase A', '0')
+    .option('--outlet-b <pressure>', 'back-pressure at the outlet of phase B (set it so the splits sit inside their window; see stratiflow tune)', '0')
     .option('--depth <length>', 'etch depth of all channels')
     .option('--contactor-width <length>', 'contactor width')
     .option('--contactor-length <length>', 'contactor length')

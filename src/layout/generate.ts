@@ -19,8 +19,8 @@ export interface CommonOptions {
   interfacialTension: number;
   contactAngle: { advancing: number; receding: number };
   maxPressure?: number;
-  /** Inlet drive: pressures (Pa) or flows (m³/s) per phase. */
-  drive: { A: { pressure: number } | { flow: number }; B: { pressure: number } | { flow: number } };
+  /** Inlet drive: pressures (Pa) or total flows (m³/s) per phase; by default DEFAULT_FLOW_PER_CONTACTOR for each contactor. */
+  drive?: { A: { pressure: number } | { flow: number }; B: { pressure: number } | { flow: number } };
   outletPressure: { A: number; B: number };
   contactor: ChannelSize & { length: number; orientation: 'side' | 'stacked' };
   feed: ChannelSize & { length: number };
@@ -49,6 +49,9 @@ export interface TreeOptions extends CommonOptions {
 
 const deg = Math.PI / 180;
 
+/** Flow of each phase per contactor when no drive is given: 2 µL/min. */
+export const DEFAULT_FLOW_PER_CONTACTOR = 2e-9 / 60;
+
 export const COMMON_DEFAULTS: CommonOptions = {
   name: 'generated chip',
   phaseA: { label: 'organic phase', viscosity: 7.3e-3, density: 824 },
@@ -56,7 +59,6 @@ export const COMMON_DEFAULTS: CommonOptions = {
   interfacialTension: 8.5e-3,
   contactAngle: { advancing: 150 * deg, receding: 110 * deg },
   maxPressure: 300e3,
-  drive: { A: { pressure: 30e3 }, B: { pressure: 10e3 } },
   outletPressure: { A: 0, B: 0 },
   contactor: { width: 200e-6, depth: 50e-6, length: 20e-3, orientation: 'side' },
   feed: { width: 100e-6, depth: 50e-6, length: 5e-3 },
@@ -113,8 +115,8 @@ class Builder {
 }
 
 /** An inlet (with optional tubing) that delivers phase `phase` to node `to` at (x, y). */
-function addInlet(b: Builder, o: CommonOptions, phase: 'A' | 'B', x: number, y: number): string {
-  const drive = o.drive[phase];
+function addInlet(b: Builder, o: CommonOptions, phase: 'A' | 'B', x: number, y: number, contactors: number): string {
+  const drive = o.drive?.[phase] ?? { flow: round(contactors * DEFAULT_FLOW_PER_CONTACTOR) };
   const id = `in${phase}`;
   b.node({ id, type: 'inlet', phase, ...drive, x: round(x), y: round(y) });
   if (!o.tubing) return id;
@@ -175,7 +177,7 @@ export function ladderLayout(options: Partial<LadderOptions> = {}): LayoutFile {
     }
     const offset = phase === 'A' ? -0.5 : -1;
     const entryX = o.inletAt === 'middle' ? x(entryIndex) : x(entryIndex) + offset * o.pitch;
-    const inlet = addInlet(b, o, phase, entryX, yFeed[phase] + (o.inletAt === 'middle' ? o.feed.length * 0.4 : 0));
+    const inlet = addInlet(b, o, phase, entryX, yFeed[phase] + (o.inletAt === 'middle' ? o.feed.length * 0.4 : 0), N);
     b.rect(`entry${phase}`, inlet, `d${phase}${entryIndex + 1}`, o.manifold, o.inletAt === 'middle' ? o.feed.length * 0.4 : o.pitch * Math.abs(offset), 'manifold');
     const exitX = o.outletAt === 'middle' ? x(exitIndex) : exitIndex === 0 ? x(0) + offset * o.pitch : x(exitIndex) - offset * o.pitch;
     const outlet = addOutlet(b, o, phase, exitX, yDrain[phase] - (o.outletAt === 'middle' ? o.drain.length * 0.4 : 0));
@@ -237,7 +239,7 @@ export function treeLayout(options: Partial<TreeOptions> = {}): LayoutFile {
       const root = idOf(0, 0);
       const rootX = x((N - 1) / 2) + (phase === 'A' ? -0.25 : 0.25) * o.pitch;
       if (kind === 'feed') {
-        const inlet = addInlet(b, o, phase, rootX, yOf(0) + levelHeight);
+        const inlet = addInlet(b, o, phase, rootX, yOf(0) + levelHeight, N);
         b.rect(`entry${phase}`, inlet, root, { width: o.branch.width, depth: o.branch.depth }, levelHeight, 'manifold');
       } else {
         const outlet = addOutlet(b, o, phase, rootX, yOf(0) - levelHeight);

@@ -62,12 +62,19 @@ export function layoutToChip(data: unknown, source: string): Chip {
     });
     throw new StratiflowErrors(problems);
   }
-  const chip = convert(parsed.data, source);
-  checkTopology(chip);
+  // Unit and value problems and topology problems are reported together.
+  const { chip, problems } = convert(parsed.data, source);
+  try {
+    checkTopology(chip);
+  } catch (error) {
+    if (error instanceof StratiflowErrors) problems.push(...error.problems);
+    else throw error;
+  }
+  if (problems.length > 0) throw new StratiflowErrors(problems);
   return chip;
 }
 
-function convert(raw: LayoutFile, source: string): Chip {
+function convert(raw: LayoutFile, source: string): { chip: Chip; problems: StratiflowError[] } {
   const problems: StratiflowError[] = [];
   const units = raw.units ?? {};
   const unitOf: Partial<Record<Dimension, string | undefined>> = {
@@ -198,6 +205,6 @@ function convert(raw: LayoutFile, source: string): Chip {
     };
   }
 
-  if (problems.length > 0) throw new StratiflowErrors(problems);
-  return { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, solute, nodes, segments };
+  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, solute, nodes, segments };
+  return { chip, problems };
 }
