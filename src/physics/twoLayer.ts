@@ -34,6 +34,10 @@ export interface TwoLayerFlow {
   integrated: number;
 }
 
+/** Scratch vectors reused by every call (the evaluator is not re-entrant). */
+const SUM = new Float64Array(4);
+const TERM = new Float64Array(4);
+
 /** tanh(x) saturates to 1 in double precision for x > 19 (2e^(-38) < 2^-53). */
 const SATURATED_HALF_ARGUMENT = 19;
 /** Below this series index everything is summed term by term. */
@@ -137,8 +141,8 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
     throw new RangeError(`twoLayerFlow needs 0 < holdup < 1 and positive sizes and viscosities (holdup ${holdup})`);
   }
   const thin = Math.min(a, b);
-  const sum = new Float64Array(4);
-  const term = new Float64Array(4);
+  const sum = SUM.fill(0);
+  const term = TERM;
 
   // Odd index from which every tanh is saturated.
   const nSaturated = oddAtLeast((2 * SATURATED_HALF_ARGUMENT * L) / (Math.PI * thin));
@@ -149,7 +153,7 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
   let terms = 0;
   for (; n < nSaturated; n += 2) {
     if (n >= DIRECT_TERMS) {
-      const smoothEnough = [a, b].every((len) => saturatedAt(n, len) || smoothScale(len) >= SMOOTH_SCALE);
+      const smoothEnough = (saturatedAt(n, a) || smoothScale(a) >= SMOOTH_SCALE) && (saturatedAt(n, b) || smoothScale(b) >= SMOOTH_SCALE);
       if (smoothEnough) break;
     }
     mode(n, a, b, L, muA, muB, term);

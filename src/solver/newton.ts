@@ -174,7 +174,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
      * and (with compositions) the phase-A rows. Its partial derivatives are dQ/dp_from = g,
      * dQ/dp_to = −g, dQ/d(extra unknown) = dExtra and dQ/dx_up = dMu (through the viscosity).
      */
-    const stamp = (from: number, to: number, q: number, up: number, g: number, extra: number, dExtra: number, dMu: number, other?: { from: number; to: number; up: number; dMu: number }) => {
+    const stamp = (from: number, to: number, q: number, up: number, g: number, extra: number, dExtra: number, dMu: number, otherFrom = -1, otherTo = -1, otherUp = -1, otherDMu = 0) => {
       const xu = compositionOf(v, up);
       const rf = massRow(from);
       const rt = massRow(to);
@@ -200,9 +200,9 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
         partial(rf, rt, af, at, xCol(from), up === from ? dMu : 0, up === from ? q + xu * dMu : 0);
         partial(rf, rt, af, at, xCol(to), up === to ? dMu : 0, up === to ? q + xu * dMu : 0);
         // A lane also feels the viscosity of the other lane, through the shared interface.
-        if (other) {
-          partial(rf, rt, af, at, xCol(other.from), other.up === other.from ? other.dMu : 0, other.up === other.from ? xu * other.dMu : 0);
-          partial(rf, rt, af, at, xCol(other.to), other.up === other.to ? other.dMu : 0, other.up === other.to ? xu * other.dMu : 0);
+        if (otherFrom >= 0) {
+          partial(rf, rt, af, at, xCol(otherFrom), otherUp === otherFrom ? otherDMu : 0, otherUp === otherFrom ? xu * otherDMu : 0);
+          partial(rf, rt, af, at, xCol(otherTo), otherUp === otherTo ? otherDMu : 0, otherUp === otherTo ? xu * otherDMu : 0);
         }
       }
     };
@@ -222,14 +222,16 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       J(at, col, dA);
     }
 
-    for (const [i, p] of ports.entries()) {
+    for (let i = 0; i < ports.length; i++) {
+      const p = ports[i]!;
       if (p.injection === 0) continue;
       const r = massRow(i);
       if (r >= 0) F[r] += p.injection;
       const ar = aRow(i);
       if (ar >= 0) F[ar] += p.injection * (p.supplies ?? 1);
     }
-    for (const [e, el] of plains.entries()) {
+    for (let e = 0; e < plains.length; e++) {
+      const el = plains[e]!;
       const dp = pressureOf(v, el.from) - pressureOf(v, el.to);
       const up = dp >= 0 ? el.from : el.to;
       const xu = compositionOf(v, up);
@@ -240,7 +242,8 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       plainComposition[e] = xu;
       stamp(el.from, el.to, q, up, g, -1, 0, (-q * (muA - muB)) / mu);
     }
-    for (const [c, el] of contactors.entries()) {
+    for (let c = 0; c < contactors.length; c++) {
+      const el = contactors[c]!;
       const alpha = v[alphaAt + c]!;
       const L = el.segment.length;
       const dn = pressureOf(v, el.nearIn) - pressureOf(v, el.nearOut);
@@ -274,8 +277,8 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
         dkBdMuF = (-r.kB - muN * dkBdMuN) / muF;
       }
       const dMix = muA - muB;
-      stamp(el.nearIn, el.nearOut, qn, upNear, r.kA / L, col, (dn * r.dkA) / L, (dn * dkAdMuN * dMix) / L, { from: el.farIn, to: el.farOut, up: upFar, dMu: (dn * dkAdMuF * dMix) / L });
-      stamp(el.farIn, el.farOut, qf, upFar, r.kB / L, col, (df * r.dkB) / L, (df * dkBdMuF * dMix) / L, { from: el.nearIn, to: el.nearOut, up: upNear, dMu: (df * dkBdMuN * dMix) / L });
+      stamp(el.nearIn, el.nearOut, qn, upNear, r.kA / L, col, (dn * r.dkA) / L, (dn * dkAdMuN * dMix) / L, el.farIn, el.farOut, upFar, (dn * dkAdMuF * dMix) / L);
+      stamp(el.farIn, el.farOut, qf, upFar, r.kB / L, col, (df * r.dkB) / L, (df * dkBdMuF * dMix) / L, el.nearIn, el.nearOut, upNear, (df * dkBdMuN * dMix) / L);
       const cc = crossAt + c;
       const cross = v[cc]!;
       stamp(el.nearIn, el.farIn, cross, cross >= 0 ? el.nearIn : el.farIn, 0, cc, 1, 0);
@@ -314,7 +317,8 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
         }
       }
     }
-    for (const [s, sp] of splits.entries()) {
+    for (let s = 0; s < splits.length; s++) {
+      const sp = splits[s]!;
       const col = leakAt + s;
       const leak = v[col]!;
       stamp(sp.far, sp.near, leak, leak >= 0 ? sp.far : sp.near, 0, col, 1, 0);
