@@ -30,10 +30,10 @@ export function loadLayout(path: string): Chip {
 export function parseLayout(text: string, source: string): Chip {
   let data: unknown;
   try {
-    data = parseYaml(text, { prettyErrors: false });
+    data = parseYaml(text, { prettyErrors: true });
   } catch (error) {
     const where = error instanceof YAMLParseError && error.linePos ? `line ${error.linePos[0].line}` : undefined;
-    const message = error instanceof Error ? error.message.split('\n')[0]! : String(error);
+    const message = error instanceof Error ? error.message.split('\n')[0]!.replace(/ at line \d+, column \d+:?$/, '') : String(error);
     throw new StratiflowError('bad-file', `not valid YAML or JSON: ${message}`, { file: source, element: where });
   }
   return layoutToChip(data, source);
@@ -57,12 +57,10 @@ export function layoutToChip(data: unknown, source: string): Chip {
   if (!parsed.success) {
     const problems = parsed.error.issues.map((issue) => {
       const place = describePath(data, issue.path);
-      const message = issue.code === 'unrecognized_keys' ? `unknown key${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map((k) => `"${k}"`).join(', ')}` : issue.message;
-      return new StratiflowError('bad-layout', message, { file: source, ...place });
+      return new StratiflowError('bad-layout', describeIssue(issue, valueAt(data, issue.path)), { file: source, ...place });
     });
     throw new StratiflowErrors(problems);
   }
-  // Unit and value problems and topology problems are reported together.
   const { chip, problems } = convert(parsed.data, source);
   try {
     checkTopology(chip);
@@ -72,6 +70,28 @@ export function layoutToChip(data: unknown, source: string): Chip {
   }
   if (problems.length > 0) throw new StratiflowErrors(problems);
   return chip;
+}
+
+function valueAt(data: unknown, path: PropertyKey[]): unknown {
+  let value = data;
+  for (const key of path) {
+    if (value === null || typeof value !== 'object') return undefined;
+    value = (value as Record<PropertyKey, unknown>)[key];
+  }
+  return value;
+}
+
+/** A schema problem in words a layout author reads: missing, unknown, or the form expected. */
+function describeIssue(issue: { code: string; message: string; keys?: string[] }, value: unknown): string {
+  if (issue.code === 'unrecognized_keys') {
+    const keys = issue.keys ?? [];
+    return `unknown key${keys.length > 1 ? 's' : ''} ${keys.map((k) => `"${k}"`).join(', ')}`;
+  }
+  if (value === undefined) return 'missing (required)';
+  if (issue.code === 'invalid_union' && (typeof value === 'boolean' || typeof value === 'object')) {
+    return `${JSON.stringify(value)} is not a number or a quantity with a unit (such as "200 um")`;
+  }
+  return issue.message;
 }
 
 function convert(raw: LayoutFile, source: string): { chip: Chip; problems: StratiflowError[] } {

@@ -1,0 +1,138 @@
+/**
+ * Tests of src/layout/load.ts: layout files (YAML or JSON) become chips in SI units; every
+ * problem found is collected, with its element and field, before loading fails.
+ */
+import { describe, expect, it } from 'vitest';
+import { stringify } from 'yaml';
+import { layoutToChip, parseLayout } from '../../src/layout/load.js';
+import { StratiflowError, StratiflowErrors } from '../../src/errors.js';
+import type { InletNode, OutletNode, SplitNode } from '../../src/network/model.js';
+import { singleContactorLayout } from '../support/layouts.js';
+
+const deg = Math.PI / 180;
+
+const TEXT = `
+name: units demo
+phases:
+  A: { viscosity: 6.5 mPa.s, density: 0.85 g/cm3 }
+  B: { fluid: water }
+interfacialTension: 8.5 mN/m
+contactAngleA: { angle: 130, hysteresis: 20 deg }
+nodes:
+  - { id: inA, type: inlet, phase: A, pressure: 0.2 bar, reservoirHeight: 10 cm }
+  - { id: inB, type: inlet, phase: B, flow: 12 uL/min }
+  - { id: m, type: merge, inlets: [fA, fB] }
+  - { id: s, type: split, outlets: [oA, oB], window: { low: -1 kPa, high: 50 mbar } }
+  - { id: outA, type: outlet, pressure: 0, phase: A }
+  - { id: outB, type: outlet, pressure: 1 kPa, phase: B, reservoirHeight: 2 cm }
+segments:
+  - { id: fA, from: inA, to: m, shape: rect, width: 100 um, depth: 50 µm, length: 5 mm }
+  - { id: fB, from: inB, to: m, shape: tube, diameter: 0.25 mm, length: 30 cm }
+  - { id: k, from: m, to: s, shape: rect, width: 200um, depth: 50um, length: 2 cm, orientation: stacked, group: contactor }
+  - { id: oA, from: s, to: outA, shape: rect, width: 100 um, depth: 50 um, length: 5 mm }
+  - { id: oB, from: s, to: outB, shape: rect, width: 100 um, depth: 50 um, length: 5 mm }
+`;
+
+/** Standard gravity, m/s² (CGPM 1901, exact by definition). */
+const G = 9.80665;
+
+describe('parseLayout', () => {
+  const chip = parseLayout(TEXT, 'units.yaml');
+  const node = <T>(id: string) => chip.nodes.find((n) => n.id === id) as T;
+  const segment = (id: string) => chip.segments.find((s) => s.id === id)!;
+
+  it('converts every quantity with a unit to SI', () => {
+    expect(chip.phases.A.viscosity).toBeCloseTo(6.5e-3, 15);
+    expect(chip.phases.A.density).toBeCloseTo(850, 9);
+    expect(chip.interfacialTension).toBeCloseTo(8.5e-3, 15);
+    expect(segment('fA').section).toEqual({ shape: 'rect', width: 100e-6, depth: 50e-6, orientation: 'side' });
+    expect(segment('fB').section.shape).toBe('tube');
+    expect(segment('fB').length).toBeCloseTo(0.3, 15);
+    expect(segment('k').section).toEqual({ shape: 'rect', width: 200e-6, depth: 50e-6, orientation: 'stacked' });
+    expect(segment('k').group).toBe('contactor');
+    expect(node<InletNode>('inB').flow).toBeCloseTo(12e-9 / 60, 20);
+    expect(node<SplitNode>('s').window![0]).toBeCloseTo(-1000, 9);
+    expect(node<SplitNode>('s').window![1]).toBeCloseTo(5000, 9);
+  });
+
+  it('takes missing phase values from the built-in fluid table', () => {
+    expect(chip.phases.B.viscosity).toBeCloseTo(1.002e-3, 12);
+    expect(chip.phases.B.density).toBeCloseTo(998.2, 9);
+  });
+
+  it('adds the reservoir head ρ·g·h of the liquid to inlet and outlet pressures', () => {
+    // Hydrostatics, p = ρ g h (common practice).
+    const inA = node<InletNode>('inA');
+    expect(inA.head).toBeCloseTo(850 * G * 0.1, 9);
+    expect(inA.pressure).toBeCloseTo(20e3 + 850 * G * 0.1, 9);
+    const outB = node<OutletNode>('outB');
+    expect(outB.pressure).toBeCloseTo(1000 + 998.2 * G * 0.02, 9);
+  });
+
+  it('reads a contact angle with hysteresis as advancing θ + h/2 and receding θ − h/2, plain numbers in degrees', () => {
+    expect(chip.contactAngle!.advancing).toBeCloseTo(140 * deg, 14);
+    expect(chip.contactAngle!.receding).toBeCloseTo(120 * deg, 14);
+  });
+
+  it('reads plain numbers in the units declared by the file', () => {
+    const layout = { ...singleContactorLayout(), units: { length: 'um', pressure: 'kPa' } };
+    layout.nodes = layout.nodes.map((n) => ((n.type === 'inlet' || n.type === 'outlet') && typeof n.pressure === 'number' ? { ...n, pressure: n.pressure / 1e3 } : n));
+    layout.segments = layout.segments.map((s) => ({ ...s, width: (s.width as number) * 1e6, depth: (s.depth as number) * 1e6, length: (s.length as number) * 1e6 }));
+    // The split window of the builder is in SI numbers; give it in the file's pressure unit too.
+    layout.nodes = layout.nodes.map((n) => (n.type === 'split' ? { ...n, window: { low: -0.2, high: 0.2 } } : n));
+    const a = layoutToChip(singleContactorLayout(), 'si');
+    const b = layoutToChip(layout, 'units');
+    for (const [i, s] of a.segments.entries()) {
+      const t = b.segments[i]!;
+      expect(t.length).toBeCloseTo(s.length, 15);
+      expect(t.section).toEqual({ ...s.section, width: expect.closeTo((s.section as { width: number }).width, 15), depth: expect.closeTo((s.section as { depth: number }).depth, 15) });
+    }
+    expect((b.nodes[0] as InletNode).pressure).toBeCloseTo((a.nodes[0] as InletNode).pressure!, 9);
+    expect((b.nodes.find((n) => n.kind === 'split') as SplitNode).window).toEqual([expect.closeTo(-200, 9), expect.closeTo(200, 9)]);
+  });
+
+  it('reads JSON and YAML of the same layout into the same chip', () => {
+    const layout = singleContactorLayout();
+    expect(parseLayout(JSON.stringify(layout), 'x')).toEqual(parseLayout(stringify(layout), 'x'));
+  });
+});
+
+describe('layoutToChip on a faulty layout', () => {
+  it('collects every problem, each with its element and field, before it fails', () => {
+    const layout = singleContactorLayout();
+    layout.segments[0] = { ...layout.segments[0]!, width: -1 };
+    layout.segments[2] = { ...layout.segments[2]!, depth: '50 kPa' };
+    layout.nodes[0] = { ...layout.nodes[0]!, flow: 1e-11 } as never;
+    let error: unknown;
+    try {
+      layoutToChip(layout, 'faulty.yaml');
+    } catch (e) {
+      error = e;
+    }
+    expect(error).toBeInstanceOf(StratiflowErrors);
+    const places = (error as StratiflowErrors).problems.map((p) => [p.place.element, p.place.field, p.code]);
+    expect(places).toEqual(
+      expect.arrayContaining([
+        ['segment fA', 'width', 'bad-layout'],
+        ['segment k', 'depth', 'bad-unit'],
+        ['node inA', 'pressure', 'bad-layout'],
+      ]),
+    );
+    for (const p of (error as StratiflowErrors).problems) {
+      expect(p).toBeInstanceOf(StratiflowError);
+      expect(p.place.file).toBe('faulty.yaml');
+      expect(p.format()).not.toContain('\n');
+    }
+  });
+
+  it('asks for exactly one of pressure and flow at an inlet', () => {
+    const layout = singleContactorLayout();
+    layout.nodes[1] = { id: 'inB', type: 'inlet', phase: 'B' };
+    expect(() => layoutToChip(layout, 'x')).toThrow(/node inB: pressure: give exactly one of pressure and flow/);
+  });
+
+  it('rejects a window whose low limit exceeds its high limit', () => {
+    const layout = { ...singleContactorLayout(), splitWindow: { low: 100, high: -100 } };
+    expect(() => layoutToChip(layout, 'x')).toThrow(/splitWindow: low must not exceed high/);
+  });
+});
