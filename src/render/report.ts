@@ -1,0 +1,207 @@
+/**
+ * The report of a solved chip as one self-contained HTML page: status, cautions, summary,
+ * warnings, the chip drawing, the charts, the per-contactor and split tables, and the inputs as
+ * read. Exports `chipReport` and its option type. Pure: solved chip in, HTML text out.
+ *
+ * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no script,
+ * font, image or link that a browser would fetch. The page is also well-formed XML (every element
+ * closed, attributes quoted), so tests can check it with an XML parser. Every user string goes
+ * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
+ */
+import type { SolvedChip } from '../analyses/chip.js';
+import type { ChipNode, ChipSegment } from '../network/model.js';
+import { DISPLAY, fmt } from '../units/format.js';
+import { chipCharts } from './chipCharts.js';
+import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
+import { escapeXml } from './svg.js';
+import { CONTACTOR_COLUMNS, SAFETY_NOTES } from './text.js';
+
+export interface ReportOptions {
+  drawing?: ChipDrawingOptions;
+}
+
+const STYLE = `
+body { font-family: sans-serif; font-size: 14px; color: #1a1a1a; margin: 24px auto; max-width: 1200px; padding: 0 16px; line-height: 1.4; }
+h1 { font-size: 22px; margin-bottom: 4px; }
+h2 { font-size: 17px; margin-top: 28px; border-bottom: 1px solid #cccccc; padding-bottom: 2px; }
+.status { font-weight: bold; }
+.bad { color: #1a1a1a; background: #f0e442; padding: 1px 4px; }
+.cautions { border: 2px solid #333333; padding: 8px 16px; background: #f7f7f7; }
+.cautions h2 { margin-top: 4px; border: none; }
+dl.summary { display: grid; grid-template-columns: max-content auto; gap: 2px 16px; }
+dl.summary dt { font-weight: bold; }
+dl.summary dd { margin: 0; }
+ul.warnings li { margin-bottom: 2px; }
+.drawing { overflow: auto; border: 1px solid #cccccc; }
+.drawing svg { display: block; }
+figure { margin: 16px 0; }
+.charts { display: grid; grid-template-columns: repeat(auto-fill, minmax(540px, 1fr)); gap: 8px 24px; }
+figure.chart svg { max-width: 100%; height: auto; display: block; }
+figcaption { font-style: italic; margin-top: 4px; }
+table { border-collapse: collapse; font-size: 12px; margin: 8px 0; }
+th, td { border: 1px solid #cccccc; padding: 2px 6px; text-align: right; white-space: nowrap; }
+th { background: #eeeeee; }
+td.text, th.text { text-align: left; }
+tr.leaking td { background: #fdf6c3; font-weight: bold; }
+.table-wrap { overflow: auto; max-height: 80vh; }
+details { margin: 8px 0; }
+summary { cursor: pointer; font-weight: bold; }
+@media print { .drawing, .table-wrap { overflow: visible; max-height: none; } }
+`;
+
+/** Warnings listed in full before the rest are folded away. */
+const SHOWN_WARNINGS = 12;
+
+const esc = escapeXml;
+const flow = (q: number) => fmt(q * DISPLAY.flow.factor);
+const kPa = (p: number) => fmt(p * DISPLAY.pressure.factor);
+const mm = (x: number | undefined) => (x === undefined ? '–' : fmt(x * DISPLAY.lengthMm.factor));
+const um = (x: number) => fmt(x * DISPLAY.length.factor);
+const deg = (rad: number) => fmt((rad * 180) / Math.PI);
+
+function table(header: string[], rows: string[][], options: { textColumns?: number[]; rowClass?: (i: number) => string | undefined } = {}): string {
+  const text = new Set(options.textColumns ?? []);
+  const cell = (tag: 'th' | 'td', c: string, j: number) => `<${tag}${text.has(j) ? ' class="text"' : ''}>${esc(c)}</${tag}>`;
+  const head = `<tr>${header.map((h, j) => cell('th', h, j)).join('')}</tr>`;
+  const body = rows.map((r, i) => {
+    const cls = options.rowClass?.(i);
+    return `<tr${cls ? ` class="${esc(cls)}"` : ''}>${r.map((c, j) => cell('td', c, j)).join('')}</tr>`;
+  });
+  return `<div class="table-wrap"><table><thead>${head}</thead><tbody>${body.join('\n')}</tbody></table></div>`;
+}
+
+function definitionList(items: Array<[string, string]>): string {
+  return `<dl class="summary">${items.map(([k, v]) => `<dt>${esc(k)}</dt><dd>${esc(v)}</dd>`).join('\n')}</dl>`;
+}
+
+function nodeSetting(n: ChipNode): string {
+  switch (n.kind) {
+    case 'inlet':
+      return `phase ${n.phase}; ${n.pressure !== undefined ? `${kPa(n.pressure)} kPa` : `${flow(n.flow!)} µL/min`}${n.head ? ` (reservoir head ${kPa(n.head)} kPa)` : ''}`;
+    case 'outlet':
+      return `${kPa(n.pressure)} kPa${n.phase ? `; collects ${n.phase}` : ''}`;
+    case 'merge':
+      return `inlets ${n.inlets.join(', ')} (near first)`;
+    case 'split':
+      return `outlets ${n.outlets.join(', ')} (near first)${n.window ? `; window ${fmt(n.window[0])} … ${fmt(n.window[1])} Pa` : ''}`;
+    case 'junction':
+      return '';
+  }
+}
+
+function sectionText(s: ChipSegment): string[] {
+  const sec = s.section;
+  return sec.shape === 'rect' ? ['rect', um(sec.width), um(sec.depth), sec.orientation] : ['tube', um(sec.diameter), '–', '–'];
+}
+
+export function chipReport(solved: SolvedChip, options: ReportOptions = {}): string {
+  const { chip, result } = solved;
+  const { summary } = result;
+  const sp = summary.spread;
+  const out: string[] = [];
+  out.push('<!DOCTYPE html>');
+  out.push('<html lang="en"><head><meta charset="utf-8" />');
+  out.push('<meta name="viewport" content="width=device-width, initial-scale=1" />');
+  out.push(`<title>${esc(chip.name)} — stratiflow report</title>`);
+  out.push(`<style>${STYLE}</style></head><body>`);
+
+  out.push(`<h1>${esc(chip.name)}</h1>`);
+  out.push(`<p>Layout: ${esc(chip.source)}${chip.note ? ` — ${esc(chip.note)}` : ''}</p>`);
+  const status = result.converged
+    ? `Solved in ${result.iterations} Newton steps (mass residual ${result.residual.toExponential(1)} of throughput).`
+    : `NOT CONVERGED after ${result.iterations} steps: ${result.message ?? ''}. The figures below are from the last iterate.`;
+  out.push(`<p class="status${result.converged ? '' : ' bad'}">${esc(status)}</p>`);
+
+  out.push('<section class="cautions"><h2>Cautions</h2><ul>');
+  for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
+  out.push('</ul></section>');
+
+  out.push('<h2>Summary</h2>');
+  const pinned = result.splits.filter((s) => s.state === 'pinned').length;
+  const items: Array<[string, string]> = [
+    ['contactors', String(result.contactors.length)],
+    [`throughput A (${chip.phases.A.label})`, `${flow(summary.throughputA)} µL/min`],
+    [`throughput B (${chip.phases.B.label})`, `${flow(summary.throughputB)} µL/min`],
+  ];
+  if (result.contactors.length > 0) {
+    items.push(
+      ['total flow per contactor', `${flow(sp.total.min)} … ${flow(sp.total.max)} µL/min; max/min ${fmt(sp.total.ratio)}, CV ${(100 * sp.total.cv).toFixed(3)} %`],
+      ['flow of A per contactor', `max/min ${fmt(sp.flowA.ratio)}, CV ${(100 * sp.flowA.cv).toFixed(3)} %`],
+      ['flow of B per contactor', `max/min ${fmt(sp.flowB.ratio)}, CV ${(100 * sp.flowB.cv).toFixed(3)} %`],
+      ['holdup of A', `${fmt(sp.holdup.min, 5)} … ${fmt(sp.holdup.max, 5)}, CV ${(100 * sp.holdup.cv).toFixed(3)} %`],
+    );
+  }
+  for (const i of summary.inlets) items.push([`inlet ${i.id} (${i.phase})`, `${kPa(i.pressure)} kPa, ${flow(i.flow)} µL/min`]);
+  for (const o of summary.outlets) items.push([`outlet ${o.id}`, `${kPa(o.pressure)} kPa; A ${flow(o.flowA)} µL/min, B ${flow(o.flowB)} µL/min`]);
+  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmt(Math.min(...result.splits.map((s) => s.margin)))} Pa` : ''}`]);
+  items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
+  out.push(definitionList(items));
+
+  out.push(`<h2>Warnings (${result.warnings.length})</h2>`);
+  const item = (w: string) => `<li>${esc(w)}</li>`;
+  if (result.warnings.length === 0) out.push('<p>None.</p>');
+  else out.push(`<ul class="warnings">${result.warnings.slice(0, SHOWN_WARNINGS).map(item).join('\n')}</ul>`);
+  if (result.warnings.length > SHOWN_WARNINGS) {
+    out.push(`<details><summary>${result.warnings.length - SHOWN_WARNINGS} more warnings</summary><ul class="warnings">${result.warnings.slice(SHOWN_WARNINGS).map(item).join('\n')}</ul></details>`);
+  }
+
+  out.push('<h2>Chip drawing</h2>');
+  out.push(`<figure><div class="drawing">${chipDrawing(solved, options.drawing)}</div>`);
+  out.push('<figcaption>The solved chip in plan view; scale, width factor and conventions are stated under the drawing.</figcaption></figure>');
+
+  out.push('<h2>Charts</h2>');
+  out.push('<div class="charts">');
+  for (const chart of chipCharts(solved)) out.push(`<figure class="chart" id="chart-${esc(chart.id)}">${chart.svg}</figure>`);
+  out.push('</div>');
+
+  out.push('<h2>Per-contactor table</h2>');
+  out.push(
+    table(
+      CONTACTOR_COLUMNS.map((c) => c.title),
+      result.contactors.map((r) => CONTACTOR_COLUMNS.map((c) => c.value(r))),
+      { textColumns: [1, 11], rowClass: (i) => (result.contactors[i]!.state.startsWith('leaking') ? 'leaking' : undefined) },
+    ),
+  );
+  if (result.splits.length > 0) {
+    out.push('<h2>Outlet splits</h2>');
+    out.push(
+      table(
+        ['split', 'contactor', 'state', 'p_B − p_A Pa', 'window Pa', 'margin Pa', 'leak µL/min', 'near outlet pure %', 'far outlet pure %'],
+        result.splits.map((s) => [
+          s.id, s.contactor, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmt(s.margin), flow(s.leak),
+          (100 * s.purityNear).toFixed(2), (100 * s.purityFar).toFixed(2),
+        ]),
+        { textColumns: [0, 1, 2], rowClass: (i) => (result.splits[i]!.state !== 'pinned' ? 'leaking' : undefined) },
+      ),
+    );
+  }
+
+  out.push('<h2>Inputs as read</h2>');
+  const inputs: Array<[string, string]> = [];
+  for (const p of ['A', 'B'] as const) {
+    const ph = chip.phases[p];
+    inputs.push([`phase ${p}`, `${ph.label}: viscosity ${fmt(ph.viscosity * DISPLAY.viscosity.factor)} mPa·s, density ${fmt(ph.density)} kg/m³${ph.diffusivity !== undefined ? `, diffusivity ${fmt(ph.diffusivity)} m²/s` : ''}`]);
+  }
+  inputs.push(['interfacial tension', chip.interfacialTension !== undefined ? `${fmt(chip.interfacialTension * DISPLAY.tension.factor)} mN/m` : 'not given']);
+  inputs.push(['contact angle of A', chip.contactAngle ? `advancing ${deg(chip.contactAngle.advancing)}°, receding ${deg(chip.contactAngle.receding)}°` : 'not given']);
+  inputs.push(['split window (p_B − p_A)', chip.splitWindow ? `${fmt(chip.splitWindow[0])} … ${fmt(chip.splitWindow[1])} Pa` : 'from the Young–Laplace estimate']);
+  inputs.push(['pressure rating', chip.maxPressure !== undefined ? `${kPa(chip.maxPressure)} kPa` : 'not given']);
+  if (chip.solute) inputs.push(['solute', `${chip.solute.label}: partition ${fmt(chip.solute.partition)}, fed in ${chip.solute.feedPhase} at ${fmt(chip.solute.feedConcentration)}`]);
+  inputs.push(['nodes, segments', `${chip.nodes.length}, ${chip.segments.length}`]);
+  out.push(definitionList(inputs));
+  out.push(`<details><summary>Nodes (${chip.nodes.length})</summary>`);
+  out.push(table(['node', 'kind', 'x mm', 'y mm', 'setting', 'note'], chip.nodes.map((n) => [n.id, n.kind, mm(n.x), mm(n.y), nodeSetting(n), n.note ?? '']), { textColumns: [0, 1, 4, 5] }));
+  out.push('</details>');
+  out.push(`<details><summary>Segments (${chip.segments.length})</summary>`);
+  out.push(
+    table(
+      ['segment', 'from', 'to', 'shape', 'width or diameter µm', 'depth µm', 'layers', 'length mm', 'group', 'note'],
+      chip.segments.map((s) => [s.id, s.from, s.to, ...sectionText(s), mm(s.length), s.group ?? '', s.note ?? '']),
+      { textColumns: [0, 1, 2, 3, 6, 8, 9] },
+    ),
+  );
+  out.push('</details>');
+  out.push('<p><small>Made by stratiflow. Model predictions for planning; check them against the running chip.</small></p>');
+  out.push('</body></html>');
+  return out.join('\n') + '\n';
+}

@@ -1,0 +1,285 @@
+import { describe, expect, it } from 'vitest';
+import { XMLParser, XMLValidator } from 'fast-xml-parser';
+import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
+import { layoutToChip } from '../../src/layout/load.js';
+import type { LayoutFile } from '../../src/layout/schema.js';
+import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
+import { chipDrawing } from '../../src/render/chipDrawing.js';
+
+/** Invented demo values throughout: a ladder driven so that its splits leak both ways. */
+function ladder(change: (layout: LayoutFile) => void = () => {}, contactors = 16): SolvedChip {
+  const layout = ladderLayout({ contactors, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } });
+  change(layout);
+  return solveChip(layoutToChip(layout, 'ladder.yaml'));
+}
+
+function setPressure(layout: LayoutFile, id: string, pressure: number): void {
+  const node = layout.nodes.find((n) => n.id === id) as { pressure?: unknown };
+  node.pressure = pressure;
+}
+
+const MARKUP_NAME = `bench <chip> & "co" 'x'`;
+
+/** A hand-written layout without coordinates, with markup characters in its strings (invented values). */
+const HAND: LayoutFile = {
+  name: MARKUP_NAME,
+  phases: { A: { label: 'oil <A>', viscosity: '5 mPa.s', density: 900 }, B: { label: "water 'B'", viscosity: '1 mPa.s', density: 1000 } },
+  interfacialTension: '20 mN/m',
+  contactAngleA: { advancing: '150 deg', receding: '120 deg' },
+  maxPressure: '50 kPa',
+  nodes: [
+    { id: 'in<A>', type: 'inlet', phase: 'A', pressure: '8 kPa' },
+    { id: 'inB', type: 'inlet', phase: 'B', pressure: '6 kPa' },
+    { id: 'jA', type: 'junction' },
+    { id: 'jB', type: 'junction' },
+    { id: 'm1', type: 'merge', inlets: ['a1', 'b1'] },
+    { id: 'm2', type: 'merge', inlets: ['a2', 'b2'] },
+    { id: 's1', type: 'split', outlets: ['oa1', 'ob1'] },
+    { id: 's2', type: 'split', outlets: ['oa2', 'ob2'] },
+    { id: 'cA', type: 'junction' },
+    { id: 'cB', type: 'junction' },
+    { id: 'outA', type: 'outlet', pressure: 0, phase: 'A' },
+    { id: 'outB', type: 'outlet', pressure: 0, phase: 'B' },
+  ],
+  segments: [
+    { id: 'tA', from: 'in<A>', to: 'jA', shape: 'rect', width: '300 um', depth: '50 um', length: '5 mm' },
+    { id: 'tB', from: 'inB', to: 'jB', shape: 'rect', width: '300 um', depth: '50 um', length: '5 mm' },
+    { id: 'a1', from: 'jA', to: 'm1', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'a2', from: 'jA', to: 'm2', shape: 'rect', width: '100 um', depth: '50 um', length: '6 mm' },
+    { id: 'b1', from: 'jB', to: 'm1', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'b2', from: 'jB', to: 'm2', shape: 'rect', width: '100 um', depth: '50 um', length: '6 mm' },
+    { id: 'k<1>', from: 'm1', to: 's1', shape: 'rect', width: '200 um', depth: '50 um', length: '20 mm' },
+    { id: 'k&2', from: 'm2', to: 's2', shape: 'rect', width: '200 um', depth: '50 um', length: '20 mm' },
+    { id: 'oa1', from: 's1', to: 'cA', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'ob1', from: 's1', to: 'cB', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'oa2', from: 's2', to: 'cA', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'ob2', from: 's2', to: 'cB', shape: 'rect', width: '100 um', depth: '50 um', length: '4 mm' },
+    { id: 'xA', from: 'cA', to: 'outA', shape: 'tube', diameter: '500 um', length: '50 mm' },
+    { id: 'xB', from: 'cB', to: 'outB', shape: 'tube', diameter: '500 um', length: '50 mm' },
+  ],
+};
+
+/** The same with phase B on the near side of the second contactor (merge and split lists swapped). */
+const HAND_SWAPPED: LayoutFile = {
+  ...HAND,
+  nodes: HAND.nodes.map((n) => (n.id === 'm2' ? { ...n, inlets: ['b2', 'a2'] } : n.id === 's2' ? { ...n, outlets: ['ob2', 'oa2'] } : n)) as LayoutFile['nodes'],
+};
+
+// ---------------------------------------------------------------------------------------------
+// A small reader of the drawing: elements with their attributes, found by class.
+
+interface Element {
+  name: string;
+  attrs: Record<string, string>;
+  children: Element[];
+  text: string;
+}
+
+const parser = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '', preserveOrder: true, trimValues: false, parseAttributeValue: false, parseTagValue: false });
+
+function toElements(nodes: Array<Record<string, unknown>>): Element[] {
+  const out: Element[] = [];
+  for (const node of nodes) {
+    const name = Object.keys(node).find((k) => k !== ':@');
+    if (name === undefined || name === '#text') continue;
+    const children = toElements(node[name] as Array<Record<string, unknown>>);
+    const text = (node[name] as Array<Record<string, unknown>>).filter((c) => '#text' in c).map((c) => String(c['#text'])).join('');
+    out.push({ name, attrs: (node[':@'] as Record<string, string>) ?? {}, children, text });
+  }
+  return out;
+}
+
+function parse(svg: string): Element {
+  expect(XMLValidator.validate(svg)).toBe(true);
+  return toElements(parser.parse(svg))[0]!;
+}
+
+function all(root: Element, test: (e: Element) => boolean): Element[] {
+  const found: Element[] = [];
+  const visit = (e: Element) => {
+    if (test(e)) found.push(e);
+    e.children.forEach(visit);
+  };
+  visit(root);
+  return found;
+}
+
+const hasClass = (cls: string) => (e: Element) => (e.attrs.class ?? '').split(' ').includes(cls);
+const textOf = (e: Element): string => e.text + e.children.map(textOf).join('');
+
+/**
+ * The affine map of an SVG `matrix(a,b,c,d,e,f)` transform: (x, y) → (a·x + c·y + e, b·x + d·y + f)
+ * (W3C, Scalable Vector Graphics (SVG) 1.1, 2011, section 7.4 "The 'transform' attribute").
+ */
+function matrixOf(transform: string): (x: number, y: number) => [number, number] {
+  const m = transform.match(/^matrix\(([^)]*)\)$/);
+  expect(m, transform).not.toBeNull();
+  const [a, b, c, d, e, f] = m![1]!.split(/[ ,]+/).map(Number) as [number, number, number, number, number, number];
+  return (x, y) => [a * x + c * y + e, b * x + d * y + f];
+}
+
+const distance = (p: [number, number], q: [number, number]) => Math.hypot(p[0] - q[0], p[1] - q[1]);
+
+/** The first point of a path's d: for the drawing's triangles, the tip. */
+function firstPoint(d: string): [number, number] {
+  const m = d.match(/^M([-\d.]+),([-\d.]+)/);
+  return [Number(m![1]), Number(m![2])];
+}
+
+describe('chipDrawing', () => {
+  const leaky = ladder((l) => setPressure(l, 'outB', 600));
+  const tree = solveChip(layoutToChip(treeLayout({ drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } }), 'tree.yaml'));
+  const hand = solveChip(layoutToChip(HAND, 'hand.yaml'));
+  const swapped = solveChip(layoutToChip(HAND_SWAPPED, 'hand.yaml'));
+
+  it('writes well-formed SVG for a ladder, a tree, a layout without coordinates and the pressure colouring', () => {
+    for (const solved of [leaky, tree, hand]) {
+      for (const colourBy of ['phase', 'pressure'] as const) {
+        const root = parse(chipDrawing(solved, { colourBy }));
+        expect(root.name).toBe('svg');
+        expect(root.attrs.xmlns).toBe('http://www.w3.org/2000/svg');
+      }
+    }
+  });
+
+  it('draws every two-phase segment with its interface at the solved holdup, to 1e-6 of the drawn width', () => {
+    for (const solved of [leaky, tree, hand, swapped]) {
+      const root = parse(chipDrawing(solved));
+      const contactors = all(root, hasClass('contactor'));
+      const expected = solved.result.segments.filter((s) => s.kind === 'contactor');
+      expect(contactors.map((g) => g.attrs['data-segment']).sort()).toEqual(expected.map((s) => s.id).sort());
+      for (const g of contactors) {
+        const segment = expected.find((s) => s.id === g.attrs['data-segment'])!;
+        const frame = all(g, hasClass('frame'))[0]!;
+        const interfaces = all(g, hasClass('interface'));
+        expect(interfaces).toHaveLength(1);
+        const line = interfaces[0]!.attrs;
+        expect(Number(line.y1)).toBe(Number(line.y2));
+        // Walls at v = 0 (near) and v = 1 (far) of the channel's own frame.
+        expect(all(frame, hasClass('wall'))[0]!.attrs.d).toBe('M0,0H1M0,1H1');
+        const map = matrixOf(frame.attrs.transform!);
+        const near = map(0.5, 0);
+        const far = map(0.5, 1);
+        const across = distance(map(0.5, Number(line.y1)), near) / distance(far, near);
+        const nearA = g.attrs['data-near-phase'] === 'A';
+        expect(Math.abs(across - (nearA ? segment.holdupA! : 1 - segment.holdupA!))).toBeLessThanOrEqual(1e-6);
+      }
+    }
+  });
+
+  it('puts the near phase of each contactor (its merge\'s first inlet) on the near side named by its split', () => {
+    for (const solved of [leaky, swapped]) {
+      const root = parse(chipDrawing(solved));
+      for (const split of solved.result.splits) {
+        const g = all(root, (e) => hasClass('contactor')(e) && e.attrs['data-segment'] === split.contactor)[0]!;
+        expect(g.attrs['data-near-phase']).toBe(split.nearPhase);
+        expect(all(g, hasClass('near'))[0]!.attrs.class).toContain(`phase-${split.nearPhase}`);
+      }
+    }
+    expect(swapped.result.splits.find((s) => s.id === 's2')!.nearPhase).toBe('B');
+  });
+
+  it('marks every outlet split by its state, a leak by a triangle pointing from the invading phase across the channel', () => {
+    // Raising one outlet's pressure pushes the other phase into it: B into A's outlet when outB is
+    // high, A into B's outlet when outA is high (common practice in running such chips).
+    const intoA = ladder((l) => setPressure(l, 'outB', 3000), 8);
+    const intoB = ladder((l) => setPressure(l, 'outA', 3000), 8);
+    const states = new Set<string>();
+    for (const solved of [leaky, intoA, intoB]) {
+      const svg = chipDrawing(solved);
+      const root = parse(svg);
+      for (const split of solved.result.splits) {
+        states.add(split.state);
+        const marks = all(root, (e) => hasClass('split')(e) && e.attrs['data-split'] === split.id);
+        expect(marks).toHaveLength(1);
+        expect(marks[0]!.attrs.class).toBe(`split ${split.state}`);
+        if (split.state === 'pinned') {
+          expect(all(marks[0]!, (e) => e.name === 'circle')).toHaveLength(1);
+          continue;
+        }
+        const contactor = all(root, (e) => hasClass('contactor')(e) && e.attrs['data-segment'] === split.contactor)[0]!;
+        const map = matrixOf(all(contactor, hasClass('frame'))[0]!.attrs.transform!);
+        const end = map(1, 0.5);
+        const towardFar = [map(1, 1)[0] - end[0], map(1, 1)[1] - end[1]];
+        const tip = firstPoint(all(marks[0]!, (e) => e.name === 'path')[0]!.attrs.d!);
+        const invader = split.state === 'leaking-A-to-B' ? 'A' : 'B';
+        const projection = (tip[0] - end[0]) * towardFar[0]! + (tip[1] - end[1]) * towardFar[1]!;
+        expect(Math.sign(projection)).toBe(invader === split.nearPhase ? 1 : -1);
+        expect(textOf(marks[0]!)).toMatch(/outlet purities/);
+      }
+    }
+    expect(states).toContain('leaking-A-to-B');
+    expect(states).toContain('leaking-B-to-A');
+  });
+
+  it('marks backflow on exactly the segments that flow against their design direction', () => {
+    // Phase B's inlet far below phase A's: A pushes back into the B feeds.
+    const back = ladder((l) => setPressure(l, 'inB', 500), 8);
+    const reversed = back.result.segments.filter((s) => s.reversed).map((s) => s.id).sort();
+    expect(reversed.length).toBeGreaterThan(0);
+    const root = parse(chipDrawing(back));
+    const arrows = all(root, hasClass('backflow')).map((e) => e.attrs['data-segment']).sort();
+    const halos = all(root, hasClass('backflow-halo')).map((e) => e.attrs['data-segment']).sort();
+    expect(arrows).toEqual(reversed);
+    expect(halos).toEqual(reversed);
+    expect(all(parse(chipDrawing(hand)), hasClass('backflow'))).toHaveLength(hand.result.segments.filter((s) => s.reversed).length);
+  });
+
+  it('marks the segments whose pressure exceeds the rating, and none below it', () => {
+    const low = { ...leaky, chip: { ...leaky.chip, maxPressure: 5e3 } };
+    const peak = new Map(leaky.result.nodes.map((n) => [n.id, Math.max(n.pressure, n.pressureA ?? -Infinity, n.pressureB ?? -Infinity)]));
+    const over = leaky.chip.segments.filter((s) => Math.max(peak.get(s.from)!, peak.get(s.to)!) > 5e3).map((s) => s.id).sort();
+    expect(over.length).toBeGreaterThan(0);
+    const marked = all(parse(chipDrawing(low)), hasClass('over-rating')).map((e) => e.attrs['data-segment']).sort();
+    // Zero-length segments (none in this ladder) are not drawn at all.
+    expect(marked).toEqual(over);
+    expect(all(parse(chipDrawing(leaky)), hasClass('over-rating'))).toHaveLength(0);
+  });
+
+  it('draws to scale with a scale bar, contactor widths exaggerated by the factor it states', () => {
+    const root = parse(chipDrawing(leaky));
+    const caption = textOf(all(root, hasClass('caption'))[0]!);
+    const factor = Number(caption.match(/channel widths drawn ×([\d.]+)/)![1]);
+    const bar = all(root, hasClass('scale-bar'))[0]!;
+    const barPath = all(bar, (e) => e.name === 'path')[0]!.attrs.d!;
+    const [, x0, x1] = barPath.match(/^M([-\d.]+),[-\d.]+V[-\d.]+H([-\d.]+)/)!;
+    const barMetres = Number(textOf(bar).match(/([\d.]+) mm/)![1]) * 1e-3;
+    const pxPerMetre = (Number(x1) - Number(x0)) / barMetres;
+    const g = all(root, hasClass('contactor'))[0]!;
+    const map = matrixOf(all(g, hasClass('frame'))[0]!.attrs.transform!);
+    const width = distance(map(0, 0), map(0, 1));
+    const trueWidth = 200e-6; // the ladder generator's default contactor width
+    expect(width).toBeCloseTo(trueWidth * pxPerMetre * factor, 1);
+    expect(caption).toMatch(/to scale/);
+  });
+
+  it('lays out a graph without coordinates automatically and says so instead of drawing a scale bar', () => {
+    const root = parse(chipDrawing(hand));
+    expect(textOf(all(root, hasClass('caption'))[0]!)).toMatch(/laid out automatically by the dagre graph-layout library/);
+    expect(all(root, hasClass('scale-bar'))).toHaveLength(0);
+  });
+
+  it('escapes every user string: names, labels and ids with markup characters', () => {
+    const svg = chipDrawing(hand);
+    expect(svg).toContain('bench &lt;chip&gt; &amp; &quot;co&quot; &apos;x&apos;');
+    expect(svg).toContain('in&lt;A&gt;');
+    expect(svg).toContain('data-segment="k&lt;1&gt;"');
+    expect(svg).toContain('oil &lt;A&gt;');
+    expect(svg).not.toMatch(/<chip>|<A>|<1>/);
+    const root = parse(svg);
+    expect(all(root, hasClass('chip-title'))[0]!.text).toBe(MARKUP_NAME);
+    expect(all(root, hasClass('contactor')).map((g) => g.attrs['data-segment']).sort()).toEqual(['k&2', 'k<1>']);
+  });
+
+  it('colours by pressure with a labelled colour bar', () => {
+    const root = parse(chipDrawing(leaky, { colourBy: 'pressure' }));
+    const bar = all(root, hasClass('colour-bar'));
+    expect(bar).toHaveLength(1);
+    expect(textOf(bar[0]!)).toContain('pressure (kPa)');
+    expect(all(root, (e) => e.attrs['data-node'] !== undefined && e.name === 'circle').length).toBeGreaterThan(0);
+  });
+
+  it('gives byte-identical output run to run', () => {
+    expect(chipDrawing(leaky)).toBe(chipDrawing(leaky));
+  });
+});

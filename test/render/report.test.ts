@@ -1,0 +1,125 @@
+import { describe, expect, it } from 'vitest';
+import { XMLValidator } from 'fast-xml-parser';
+import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
+import { layoutToChip } from '../../src/layout/load.js';
+import type { LayoutFile } from '../../src/layout/schema.js';
+import { solveChip } from '../../src/analyses/chip.js';
+import { chipCharts, findManifolds } from '../../src/render/chipCharts.js';
+import { chipReport } from '../../src/render/report.js';
+import { SAFETY_NOTES } from '../../src/render/text.js';
+import { escapeXml } from '../../src/render/svg.js';
+
+const MARKUP_NAME = `report <chip> & "co"`;
+const PITCH = 1e-3;
+
+/** A generated ladder (invented demo values), its coordinates removed and a contactor renamed with markup characters. */
+function withoutCoordinates(): LayoutFile {
+  const layout = ladderLayout({ contactors: 3, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } });
+  const rename = (id: string) => (id === 'k2' ? 'k<2>&' : id);
+  return {
+    ...layout,
+    name: MARKUP_NAME,
+    phases: { ...layout.phases, A: { ...layout.phases.A, label: 'oil <A>' } },
+    nodes: layout.nodes.map(({ x: _x, y: _y, ...n }) => n) as LayoutFile['nodes'],
+    segments: layout.segments.map((s) => ({ ...s, id: rename(s.id) })),
+  };
+}
+
+const ladder = solveChip(layoutToChip(ladderLayout({ contactors: 16, pitch: PITCH, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } }), 'ladder.yaml'));
+const tree = solveChip(layoutToChip(treeLayout({ levels: 3, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } }), 'tree.yaml'));
+const bare = solveChip(layoutToChip(withoutCoordinates(), 'bare.yaml'));
+
+describe('findManifolds', () => {
+  it('finds the four manifolds of a ladder, each a chain starting at its inlet or outlet', () => {
+    const manifolds = findManifolds(ladder);
+    expect(manifolds.map((m) => `${m.role} ${m.phase} ${m.entry}`).sort()).toEqual(['collection A outA', 'collection B outB', 'distribution A inA', 'distribution B inB']);
+    for (const m of manifolds) {
+      expect(m.branched).toBe(false);
+      expect(m.profile).toHaveLength(17);
+      expect(m.profile[0]).toMatchObject({ node: m.entry, distance: 0 });
+    }
+  });
+
+  it('measures distance along the channels: the ladder generator puts junction k at half a pitch plus k − 1 pitches from the inlet', () => {
+    const a = findManifolds(ladder).find((m) => m.entry === 'inA')!;
+    for (let k = 1; k <= 16; k++) {
+      const point = a.profile.find((p) => p.node === `dA${k}`)!;
+      expect(point.distance).toBeCloseTo(0.5 * PITCH + (k - 1) * PITCH, 12);
+    }
+  });
+
+  it('takes the pressures of the solution', () => {
+    const pressure = new Map(ladder.result.nodes.map((n) => [n.id, n.pressure]));
+    for (const m of findManifolds(ladder)) for (const p of m.profile) expect(p.pressure).toBe(pressure.get(p.node));
+  });
+
+  it('knows a tree manifold as branched', () => {
+    const manifolds = findManifolds(tree);
+    expect(manifolds).toHaveLength(4);
+    expect(manifolds.every((m) => m.branched)).toBe(true);
+  });
+});
+
+describe('chipCharts', () => {
+  it('draws per-contactor flows, holdup and deviation, and the pressure along both kinds of manifold, with labelled axes', () => {
+    const charts = chipCharts(ladder);
+    expect(charts.map((c) => c.id)).toEqual(['flows', 'holdup', 'deviation', 'pressure-distribution', 'pressure-collection']);
+    for (const c of charts) expect(XMLValidator.validate(c.svg)).toBe(true);
+    const svg = Object.fromEntries(charts.map((c) => [c.id, c.svg]));
+    expect(svg.flows).toContain('flow (µL/min)');
+    expect(svg.flows).toContain('contactor number');
+    expect(svg.holdup).toContain('holdup of A (–)');
+    expect(svg.deviation).toContain('deviation from the mean (%)');
+    expect(svg['pressure-distribution']).toContain('pressure (kPa)');
+    expect(svg['pressure-distribution']).toContain('distance from the inlet along the channels (mm)');
+    expect(svg['pressure-collection']).toContain('distance from the outlet along the channels (mm)');
+  });
+
+  it('gives equal contactors a readable axis instead of one spanning rounding noise', () => {
+    // A symmetric tree feeds every contactor alike, up to rounding.
+    const holdup = chipCharts(tree).find((c) => c.id === 'holdup')!.svg;
+    const ticks = [...holdup.matchAll(/<g class="axis y">(.*?)<\/g>/g)][0]![1]!;
+    for (const m of ticks.matchAll(/>([-\d.]+)<\/text>/g)) expect(m[1]!.length).toBeLessThanOrEqual(6);
+  });
+});
+
+describe('chipReport', () => {
+  const html = chipReport(bare);
+
+  it('is one well-formed document', () => {
+    for (const page of [html, chipReport(ladder), chipReport(tree)]) {
+      expect(page.startsWith('<!DOCTYPE html>')).toBe(true);
+      expect(XMLValidator.validate(page)).toBe(true);
+    }
+  });
+
+  it('needs no network: no scripts, links, external images or fonts', () => {
+    expect(html).not.toMatch(/<script|<link|<img|<iframe|@import|src=/i);
+    // The only URLs are the SVG namespace names, which browsers never fetch.
+    const urls = [...html.matchAll(/https?:\/\/[^"'\s)]+/g)].map((m) => m[0]);
+    expect(new Set(urls)).toEqual(new Set(['http://www.w3.org/2000/svg', 'http://www.w3.org/1999/xlink']));
+    for (const m of html.matchAll(/url\(([^)]*)\)/g)) expect(m[1]!.startsWith('#')).toBe(true);
+  });
+
+  it('holds the cautions, the summary, the warnings, the drawing, the charts, the tables and the inputs', () => {
+    for (const note of SAFETY_NOTES) expect(html).toContain(escapeXml(note));
+    for (const heading of ['Cautions', 'Summary', 'Warnings', 'Chip drawing', 'Charts', 'Per-contactor table', 'Outlet splits', 'Inputs as read']) {
+      expect(html).toMatch(new RegExp(`<h2>${heading}( \\(\\d+\\))?</h2>`));
+    }
+    for (const warning of bare.result.warnings.slice(0, 5)) expect(html).toContain(escapeXml(warning));
+    expect(html).toContain('class="contactor"');
+    expect((html.match(/<figure class="chart"/g) ?? []).length).toBe(5);
+    const table = html.slice(html.indexOf('Per-contactor table'), html.indexOf('Outlet splits'));
+    expect((table.match(/<tr/g) ?? []).length).toBe(1 + bare.result.contactors.length);
+    for (const node of bare.chip.nodes) expect(html).toContain(`<td class="text">${escapeXml(node.id)}</td>`);
+    expect(html).toContain('viscosity 7.3 mPa·s'); // the generator's default phase A
+  });
+
+  it('escapes every user string', () => {
+    expect(html).toContain('<title>report &lt;chip&gt; &amp; &quot;co&quot; — stratiflow report</title>');
+    expect(html).toContain('<h1>report &lt;chip&gt; &amp; &quot;co&quot;</h1>');
+    expect(html).toContain('k&lt;2&gt;&amp;');
+    expect(html).toContain('oil &lt;A&gt;');
+    expect(html).not.toMatch(/<chip>|<2>|<A>/);
+  });
+});
