@@ -1,16 +1,90 @@
 /**
- * `stratiflow extract`: placeholder registration; the command is being built.
+ * `stratiflow extract FILE`: solve the chip, then the solute transport in every contactor; print
+ * the per-contactor table and the chip's yield (or JSON: the chip solution with an `extraction`
+ * member), optionally write the CSV table and, into a folder, the charts.
+ * Options → solute overrides → solveChip → analyseExtraction → output.
  */
+import { join } from 'node:path';
 import type { Command } from 'commander';
+import { loadLayout } from '../layout/load.js';
+import { solveChip } from '../analyses/chip.js';
+import { analyseExtraction, soluteSetup, type SoluteOverrides } from '../analyses/extraction.js';
+import { TRANSPORT_DEFAULTS } from '../physics/transport.js';
+import { contactorExtractionChart, extractionAlongChart, extractionCsv, extractionText } from '../render/extractionCharts.js';
+import { choiceOption, numberOption, quantityOption } from './options.js';
+import { writeFileAtomic } from './io.js';
+import { jsonNumbers } from './solve.js';
 import type { CommandContext } from './main.js';
-import { StratiflowError } from '../errors.js';
+import { StratiflowError, StratiflowErrors, optionError } from '../errors.js';
 
-export function registerExtract(program: Command, _context: CommandContext): void {
+interface ExtractOptions {
+  solute?: string;
+  partition?: string;
+  feedPhase?: string;
+  feedConcentration?: string;
+  diffusivityA?: string;
+  diffusivityB?: string;
+  tolerance?: string;
+  linear: string;
+  json?: boolean;
+  csv?: string;
+  out?: string;
+}
+
+/** Charts written by --out, by file name. */
+const EXTRACTION_CHARTS = { along: 'extraction-along.svg', perContactor: 'extraction-per-contactor.svg' } as const;
+
+export function registerExtract(program: Command, context: CommandContext): void {
   program
     .command('extract')
-    .description('(not yet available)')
-    .allowUnknownOption()
-    .action(() => {
-      throw new StratiflowError('bad-option', 'this command is not available yet');
+    .description('Mass transfer of a solute across the interface: extraction in each contactor and the yield of the whole chip.')
+    .argument('<layout>', 'layout file (YAML or JSON); its `solute` and phase `diffusivity` values are used unless given here')
+    .option('--solute <name>', 'name of the solute, for the output')
+    .option('--partition <K>', 'partition coefficient K = c_B/c_A at equilibrium')
+    .option('--feed-phase <A|B>', 'phase that carries the solute in (the other enters clean)')
+    .option('--feed-concentration <concentration>', 'solute concentration in the fed phase, e.g. 10mM (default 1 mol/m3: results are relative)')
+    .option('--diffusivity-a <diffusivity>', 'diffusivity of the solute in phase A, e.g. 1e-9m2/s or 800um2/s')
+    .option('--diffusivity-b <diffusivity>', 'diffusivity of the solute in phase B')
+    .option('--tolerance <fraction>', 'accuracy of every extraction figure, as a share of the feed', String(TRANSPORT_DEFAULTS.tolerance))
+    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .option('--json', 'print one JSON object (SI units): the chip solution with an `extraction` member')
+    .option('--csv <file>', 'write the per-contactor extraction table as CSV')
+    .option('--out <dir>', `write the charts ${EXTRACTION_CHARTS.along} and ${EXTRACTION_CHARTS.perContactor} into this folder`)
+    .action((file: string, options: ExtractOptions) => {
+      const overrides: SoluteOverrides = {
+        label: options.solute,
+        partition: quantityOption(options.partition, '--partition', 'dimensionless', true),
+        feedPhase: options.feedPhase === undefined ? undefined : choiceOption(options.feedPhase, '--feed-phase', ['A', 'B'] as const),
+        feedConcentration: quantityOption(options.feedConcentration, '--feed-concentration', 'concentration', true),
+        diffusivityA: quantityOption(options.diffusivityA, '--diffusivity-a', 'diffusivity', true),
+        diffusivityB: quantityOption(options.diffusivityB, '--diffusivity-b', 'diffusivity', true),
+      };
+      const tolerance = numberOption(options.tolerance, '--tolerance')!;
+      if (!(tolerance >= 1e-6 && tolerance <= 1e-2)) throw optionError('--tolerance', 'must lie between 1e-6 and 1e-2');
+      const linear = choiceOption(options.linear, '--linear', ['sparse', 'dense'] as const);
+
+      const chip = loadLayout(file);
+      const solute = withOptionHint(() => soluteSetup(chip, overrides));
+      const solved = solveChip(chip, { linear });
+      if (!solved.result.converged) throw new StratiflowError('no-convergence', `${solved.result.message ?? 'the flow solve did not converge'}; no extraction on unsettled flows`, { file });
+      const extraction = analyseExtraction(solved, solute, { tolerance });
+
+      if (options.csv) writeFileAtomic(options.csv, extractionCsv(extraction));
+      if (options.out) {
+        writeFileAtomic(join(options.out, EXTRACTION_CHARTS.along), extractionAlongChart(extraction));
+        writeFileAtomic(join(options.out, EXTRACTION_CHARTS.perContactor), contactorExtractionChart(extraction));
+      }
+      context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));
     });
+}
+
+/** Missing solute values may also come from the command line: say so after the layout's places. */
+function withOptionHint<T>(run: () => T): T {
+  try {
+    return run();
+  } catch (error) {
+    if (!(error instanceof StratiflowErrors)) throw error;
+    const hint = new StratiflowError('bad-option', 'give them in the layout or with --partition, --diffusivity-a, --diffusivity-b');
+    throw new StratiflowErrors([...error.problems, hint]);
+  }
 }
