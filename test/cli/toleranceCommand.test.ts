@@ -1,0 +1,104 @@
+/**
+ * `stratiflow tolerance` as a user runs it: tolerances from options and from a file, the JSON,
+ * CSV and SVG outputs, the readable summary, and one clear line with exit status 2 for bad input.
+ * The chip is an invented demo ladder.
+ */
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { XMLValidator } from 'fast-xml-parser';
+import { main } from '../../src/cli/main.js';
+import { parseTolerance } from '../../src/cli/tolerance.js';
+import { ladderLayout } from '../../src/layout/generate.js';
+
+async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
+  let out = '';
+  let err = '';
+  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
+  return { code, out, err };
+}
+
+function demoFiles(): { dir: string; layout: string } {
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-tolerance-'));
+  const layout = join(dir, 'ladder.json');
+  const file = ladderLayout({ contactors: 4, manifold: { width: 2000e-6, depth: 200e-6 }, drive: { A: { pressure: 3000 }, B: { pressure: 2700 } }, outletPressure: { A: 200, B: 20 } });
+  writeFileSync(layout, JSON.stringify(file));
+  return { dir, layout };
+}
+
+describe('parseTolerance', () => {
+  it('reads a plain value as one standard deviation and ± as the half-width of a uniform range', () => {
+    expect(parseTolerance('2%', 'length', {})).toEqual({ distribution: 'normal', size: 0.02, relative: true });
+    expect(parseTolerance('±0.5 um', 'length', {})).toEqual({ distribution: 'uniform', size: 0.5e-6, relative: false });
+    expect(parseTolerance('+-2deg', 'angle', {}).size).toBeCloseTo((2 * Math.PI) / 180, 15);
+  });
+
+  it('refuses a bare number, which could mean a percentage or a length', () => {
+    expect(() => parseTolerance('2', 'length', { field: '--depth' })).toThrow(/needs % or a unit/);
+    expect(() => parseTolerance(2, 'angle', { field: 'contactAngle' })).toThrow(/"2" needs % or a unit, e.g. "2%" or "2 deg"/);
+    expect(() => parseTolerance('-1%', 'length', {})).toThrow();
+  });
+});
+
+describe('stratiflow tolerance', () => {
+  it('writes the summary, the sample CSV and the charts, and prints JSON that matches them', async () => {
+    const { dir, layout } = demoFiles();
+    const csv = join(dir, 'samples.csv');
+    const svg = join(dir, 'charts');
+    const args = ['tolerance', layout, '--depth', '1%', '--depth-offset', '±2%', '--tension', '5%', '--angle', '±2deg', '--samples', '30', '--seed', '9', '--workers', '1', '--sweep', '2'];
+    const text = await run([...args, '--csv', csv, '--svg', svg]);
+    expect(text.code).toBe(0);
+    expect(text.out).toMatch(/every split pinned/);
+    expect(text.out).toMatch(/which tolerance matters most/);
+    expect(text.out).toMatch(/solved 30 of 30/);
+
+    const lines = readFileSync(csv, 'utf8').trim().split('\n');
+    expect(lines).toHaveLength(31);
+    expect(lines[0]).toMatch(/^sample,solved,problem,cold_start,all_pinned/);
+    expect(lines[0]).toMatch(/flow_k4_uL_min$/);
+    const charts = readdirSync(svg).sort();
+    expect(charts).toContain('failure.svg');
+    expect(charts).toContain('spread-total-cv.svg');
+    expect(charts).toContain('contactor-leaks.svg');
+    for (const name of charts) expect(XMLValidator.validate(readFileSync(join(svg, name), 'utf8'))).toBe(true);
+
+    const json = await run([...args, '--json']);
+    const result = JSON.parse(json.out);
+    expect(result.samples).toBe(30);
+    expect(result.seed).toBe(9);
+    expect(result.rows).toHaveLength(30);
+    expect(result.sweep.map((p: { scale: number }) => p.scale)).toEqual([1, 2]);
+    expect(json.out).not.toMatch(/NaN|Infinity/);
+  });
+
+  it('takes tolerances from a file and lets the options override them', async () => {
+    const { dir, layout } = demoFiles();
+    const spec = join(dir, 'tolerances.yaml');
+    writeFileSync(spec, ['samples: 5', 'seed: 4', 'channels:', '  - group: contactor', '    depth: { each: 1% }', '  - width: { offset: ±1 um }', 'viscosityA: 3%', ''].join('\n'));
+    const { code, out } = await run(['tolerance', layout, '--spec', spec, '--mu-a', '1%', '--workers', '1', '--json']);
+    expect(code).toBe(0);
+    const result = JSON.parse(out);
+    expect(result.samples).toBe(5);
+    expect(result.seed).toBe(4);
+    const labels = result.sources.map((s: { label: string }) => s.label).sort();
+    expect(labels).toEqual(['depth, each channel [contactor]', 'viscosity A', 'width, offset per chip [other channels]']);
+    expect(result.sources.find((s: { label: string }) => s.label === 'viscosity A').variation.size).toBe(0.01);
+  });
+
+  it('fails with one line and status 2 for a tolerance without a unit, an unknown key or no tolerance at all', async () => {
+    const { dir, layout } = demoFiles();
+    const bare = await run(['tolerance', layout, '--depth', '2']);
+    expect(bare.code).toBe(2);
+    expect(bare.err).toMatch(/--depth: "2" needs % or a unit/);
+    const spec = join(dir, 'bad.yaml');
+    writeFileSync(spec, 'chanels: []\n');
+    const unknown = await run(['tolerance', layout, '--spec', spec]);
+    expect(unknown.code).toBe(2);
+    expect(unknown.err).toMatch(/bad\.yaml/);
+    expect(unknown.err).toMatch(/chanels/);
+    const none = await run(['tolerance', layout]);
+    expect(none.code).toBe(2);
+    expect(none.err).toMatch(/no tolerance given/);
+  });
+});
