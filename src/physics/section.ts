@@ -125,7 +125,7 @@ function shiftState(state: TwoPhaseState, alpha: number): TwoPhaseState {
 }
 
 /** Number of table intervals; nodes cluster toward α = 0 and 1 where φ ∝ α². */
-const TABLE_INTERVALS = 160;
+const TABLE_INTERVALS = 400;
 /** Largest Newton step, relative to min(α, 1 − α), that one polish may take before it is repeated. */
 const ONE_STEP_LIMIT = 1e-7;
 
