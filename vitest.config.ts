@@ -5,5 +5,8 @@ export default defineConfig({
     include: ['test/**/*.test.ts'],
     testTimeout: 60_000,
     pool: 'forks',
+    // The JSON summary lets .ci/run print a plain "N passed, N failed" closing line.
+    reporters: ['default', 'json'],
+    outputFile: { json: 'out/test-results.json' },
   },
 });
