@@ -1,7 +1,8 @@
 /**
  * `stratiflow extract FILE`: solve the chip, then the solute transport in every contactor; print
  * the per-contactor table and the chip's yield (or JSON: the chip solution with an `extraction`
- * member), optionally write the CSV table and, into a folder, the charts.
+ * member), optionally write the CSV table and, into a folder, the charts, the HTML report and the
+ * chip drawing with the contactors coloured by approach to equilibrium.
  * Options → solute overrides → solveChip → analyseExtraction → output.
  */
 import { join } from 'node:path';
@@ -10,7 +11,9 @@ import { loadLayout } from '../layout/load.js';
 import { solveChip } from '../analyses/chip.js';
 import { analyseExtraction, soluteSetup, type SoluteOverrides } from '../analyses/extraction.js';
 import { TRANSPORT_DEFAULTS } from '../physics/transport.js';
-import { contactorExtractionChart, extractionAlongChart, extractionCsv, extractionText } from '../render/extractionCharts.js';
+import { contactorExtractionChart, extractionAlongChart, extractionColouring, extractionCsv, extractionText } from '../render/extractionCharts.js';
+import { chipDrawing } from '../render/chipDrawing.js';
+import { chipReport } from '../render/report.js';
 import { choiceOption, numberOption, quantityOption } from './options.js';
 import { writeFileAtomic } from './io.js';
 import { jsonNumbers } from './solve.js';
@@ -31,8 +34,13 @@ interface ExtractOptions {
   out?: string;
 }
 
-/** Charts written by --out, by file name. */
-const EXTRACTION_CHARTS = { along: 'extraction-along.svg', perContactor: 'extraction-per-contactor.svg' } as const;
+/** Files written by --out. */
+const OUT_FILES = {
+  along: 'extraction-along.svg',
+  perContactor: 'extraction-per-contactor.svg',
+  drawing: 'chip.svg',
+  report: 'report.html',
+} as const;
 
 export function registerExtract(program: Command, context: CommandContext): void {
   program
@@ -49,7 +57,7 @@ export function registerExtract(program: Command, context: CommandContext): void
     .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
     .option('--json', 'print one JSON object (SI units): the chip solution with an `extraction` member')
     .option('--csv <file>', 'write the per-contactor extraction table as CSV')
-    .option('--out <dir>', `write the charts ${EXTRACTION_CHARTS.along} and ${EXTRACTION_CHARTS.perContactor} into this folder`)
+    .option('--out <dir>', `write the charts ${OUT_FILES.along} and ${OUT_FILES.perContactor}, the drawing ${OUT_FILES.drawing} (contactors coloured by approach to equilibrium) and ${OUT_FILES.report} into this folder`)
     .action((file: string, options: ExtractOptions) => {
       const overrides: SoluteOverrides = {
         label: options.solute,
@@ -69,11 +77,18 @@ export function registerExtract(program: Command, context: CommandContext): void
       if (!solved.result.converged) throw new StratiflowError('no-convergence', `${solved.result.message ?? 'the flow solve did not converge'}; no extraction on unsettled flows`, { file });
       const extraction = analyseExtraction(solved, solute, { tolerance });
 
-      if (options.csv) writeFileAtomic(options.csv, extractionCsv(extraction));
+      // Everything is rendered before the first file is written.
+      const files: Array<[string, string]> = [];
+      if (options.csv) files.push([options.csv, extractionCsv(extraction)]);
       if (options.out) {
-        writeFileAtomic(join(options.out, EXTRACTION_CHARTS.along), extractionAlongChart(extraction));
-        writeFileAtomic(join(options.out, EXTRACTION_CHARTS.perContactor), contactorExtractionChart(extraction));
+        files.push(
+          [join(options.out, OUT_FILES.along), extractionAlongChart(extraction)],
+          [join(options.out, OUT_FILES.perContactor), contactorExtractionChart(extraction)],
+          [join(options.out, OUT_FILES.drawing), chipDrawing(solved, { extraction: extractionColouring(extraction) })],
+          [join(options.out, OUT_FILES.report), chipReport(solved, { extraction })],
+        );
       }
+      for (const [path, content] of files) writeFileAtomic(path, content);
       context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));
     });
 }

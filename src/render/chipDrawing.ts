@@ -2,8 +2,10 @@
  * The solved chip in plan view, as one SVG: every channel at its node coordinates, two-phase
  * contactors as two bands split by the interface at the solved holdup, single-phase channels in
  * their phase's colour, flow direction, outlet split states, backflow, channels over the pressure
- * rating, a legend, a scale bar, the title and key figures. Exports `chipDrawing`,
- * `PHASE_COLOURS` and the option type. Pure: solved chip in, SVG text out; no I/O.
+ * rating, a legend, a scale bar, the title and key figures; optionally the contactors coloured by
+ * their approach to equilibrium (an ExtractionColouring of ./extractionCharts.ts) with its colour
+ * bar. Exports `chipDrawing`, `PHASE_COLOURS` and the option type. Pure: solved chip in, SVG
+ * text out; no I/O.
  *
  * Conventions a reader needs (also stated in the drawing):
  * - A contactor's near side (the phase arriving through the merge's first inlet) is drawn on the
@@ -24,6 +26,7 @@ import { scaleLinear } from 'd3-scale';
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ChipSegment, PhaseName } from '../network/model.js';
 import { DISPLAY, fmt } from '../units/format.js';
+import { approachColour, type ExtractionColouring } from './extractionCharts.js';
 import { INK, OKABE_ITO, viridis } from './palette.js';
 import {
   FONT_SIZE, TEXT_HALO, TITLE_SIZE, createDocument, drawLegend, el, hatchDefs, hatchFill, label, legendSize, num, serialise, textWidth,
@@ -39,6 +42,12 @@ export interface ChipDrawingOptions {
    * contactors do not overlap. With automatic placement it multiplies the automatic width scale.
    */
   widthScale?: number;
+  /**
+   * Colour each contactor named in `fill` by its approach to equilibrium (both bands, phase B
+   * still hatched), label it where there is room, and add the colour bar of the 0 … 1 scale.
+   * Contactors not named keep their phase colours.
+   */
+  extraction?: ExtractionColouring;
 }
 
 /**
@@ -74,6 +83,22 @@ const ARROW = 4;
 const MIN_LABEL_PITCH = 18;
 const COLOUR_BAR = { gap: 24, width: 12, room: 90 };
 const MIN_CANVAS_WIDTH = 760;
+
+/** A continuous colour scale for the bar beside the chip: SI domain, display factor and title. */
+interface ColourScale {
+  kind: 'pressure' | 'approach';
+  title: string;
+  domain: [number, number];
+  factor: number;
+  colour: (v: number) => string;
+}
+
+const PRESSURE_TITLE = 'pressure (kPa)';
+
+/** Width a colour bar takes to the right of the chip: gap, bar, tick labels, and its title above. */
+function colourBarRoom(title: string): number {
+  return COLOUR_BAR.gap + Math.max(COLOUR_BAR.width + COLOUR_BAR.room, textWidth(title));
+}
 
 /** One value rounded to FRACTION_DIGITS decimals, as attribute text. */
 function frac(v: number): string {
@@ -238,6 +263,7 @@ const flowText = (q: number) => `${fmt(q * DISPLAY.flow.factor, 4)} µL/min`;
 export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}): string {
   const { chip, network, result } = solved;
   const byPressure = options.colourBy === 'pressure';
+  const { extraction } = options;
   const contactorSegments = network.contactors.map((c) => c.segment);
   const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
   const place = toScale ? placeToScale(solved, contactorSegments, options.widthScale) : placeAutomatically(solved, contactorSegments, options.widthScale);
@@ -247,8 +273,9 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
 
   // Header lines and the legend decide where the chip starts.
   const heads = keyFigures(solved);
-  const legend = legendEntries(chip.phases.A.label, chip.phases.B.label, byPressure);
-  const barRoom = byPressure ? COLOUR_BAR.gap + COLOUR_BAR.width + COLOUR_BAR.room : 0;
+  const legend = legendEntries(chip.phases.A.label, chip.phases.B.label, byPressure, extraction !== undefined);
+  const barTitles = [...(byPressure ? [PRESSURE_TITLE] : []), ...(extraction ? [extraction.title] : [])];
+  const barRoom = barTitles.reduce((sum, title) => sum + colourBarRoom(title), 0);
   const headWidth = Math.max(textWidth(chip.name, TITLE_SIZE), ...heads.map((h) => textWidth(h.text)));
   const width = Math.max(MIN_CANVAS_WIDTH, place.width + 2 * margin + barRoom, Math.min(headWidth + 2 * PAD, 1400));
   const legendBox = legendSize(legend, width - 2 * PAD);
@@ -260,6 +287,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     ...(network.contactors.some((c) => c.section.orientation === 'stacked')
       ? ['Contactors with stacked layers are drawn as if turned on their side: their bands show the shares of the depth.']
       : []),
+    ...(extraction ? [extractionCaption(extraction, contactorSegments)] : []),
     'A model prediction for planning: stay below the pressure rating of the chip, fittings and tubing, and follow your lab safety rules.',
   ];
   const captionLines = captions.flatMap((c) => wrap(c, width - 2 * PAD));
@@ -349,7 +377,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     paths(channels, 'hatch', () => PHASE_B_HATCH, 0, phaseB);
   }
 
-  drawContactors(root, solved, at, drawnWidth);
+  drawContactors(root, solved, at, drawnWidth, extraction);
   drawPorts(root, solved, at, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
   drawArrows(root, solved, drawable, at, drawnWidth);
   drawSplits(root, solved, at, drawnWidth);
@@ -361,8 +389,24 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     y += 34;
   }
   captionLines.forEach((text, i) => label(foot, text, { x: PAD, y: y + (i + 1) * LINE - 3 }));
-  if (byPressure) drawColourBar(root, chipLeft + place.width + margin / 2 + COLOUR_BAR.gap, chipTop, Math.max(120, Math.min(place.height, 400)), pressureDomain, pressureColour);
+  const scales: ColourScale[] = [];
+  if (byPressure) scales.push({ kind: 'pressure', title: PRESSURE_TITLE, domain: pressureDomain, factor: DISPLAY.pressure.factor, colour: pressureColour });
+  if (extraction) scales.push({ kind: 'approach', title: extraction.title, domain: [0, 1], factor: 1, colour: approachColour });
+  let barLeft = chipLeft + place.width + margin / 2;
+  for (const scale of scales) {
+    drawColourBar(root, barLeft + COLOUR_BAR.gap, chipTop, Math.max(120, Math.min(place.height, 400)), scale);
+    barLeft += colourBarRoom(scale.title);
+  }
   return serialise(root);
+}
+
+/** The caption sentence of the extraction colouring, naming the contactors it leaves out. */
+function extractionCaption(extraction: ExtractionColouring, contactors: ChipSegment[]): string {
+  const left = contactors.filter((s) => extraction.fill[s.id] === undefined).length;
+  return (
+    `Contactors coloured by ${extraction.title} (0: no solute transferred, 1: at equilibrium by the outlet) in both bands, phase B hatched` +
+    (left > 0 ? `; ${left} contactor${left === 1 ? '' : 's'} not analysed keep${left === 1 ? 's' : ''} the phase colours.` : '.')
+  );
 }
 
 /** The lines under the title: convergence, throughput, spread, inlets, splits, backflow and pressure. */
@@ -398,7 +442,7 @@ function defs(root: SvgNode): void {
   el(p, 'rect', { x: 4, width: 4, height: 8, fill: PHASE_COLOURS.B });
 }
 
-function legendEntries(labelA: string, labelB: string, byPressure: boolean): LegendEntry[] {
+function legendEntries(labelA: string, labelB: string, byPressure: boolean, byApproach: boolean): LegendEntry[] {
   const band = (colour: string, hatch = false): LegendEntry['swatch'] => (g, cx, cy) => {
     el(g, 'rect', { x: cx - 10, y: cy - 5, width: 20, height: 10, fill: colour, stroke: INK.axis, 'stroke-width': 0.8 });
     if (hatch) el(g, 'rect', { x: cx - 10, y: cy - 5, width: 20, height: 10, fill: PHASE_B_HATCH });
@@ -416,6 +460,16 @@ function legendEntries(labelA: string, labelB: string, byPressure: boolean): Leg
       },
     },
     ...(byPressure ? [] : [{ text: 'both phases mixed (no interface)', swatch: band(MIXED) }]),
+    ...(byApproach
+      ? [{
+          text: 'contactor by approach to equilibrium (colour bar), B hatched',
+          swatch: (g: SvgNode, cx: number, cy: number) => {
+            [0.15, 0.5, 0.85].forEach((t, i) => void el(g, 'rect', { x: cx - 10 + (20 * i) / 3, y: cy - 6, width: 20 / 3, height: 12, fill: approachColour(t) }));
+            el(g, 'rect', { x: cx - 10, y: cy + 1, width: 20, height: 5, fill: PHASE_B_HATCH });
+            el(g, 'line', { x1: cx - 10, y1: cy + 1, x2: cx + 10, y2: cy + 1, stroke: '#000000', 'stroke-width': 1.5 });
+          },
+        }]
+      : []),
     { text: 'flow direction', swatch: (g, cx, cy) => void el(g, 'path', { d: arrowhead({ x: cx, y: cy }, 0, ARROW + 1), fill: INK.halo, stroke: INK.text, 'stroke-width': 1 }) },
     {
       text: 'backflow (against the design direction)',
@@ -433,10 +487,13 @@ function legendEntries(labelA: string, labelB: string, byPressure: boolean): Leg
   ];
 }
 
-function drawContactors(root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number): void {
+function drawContactors(
+  root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number, extraction: ExtractionColouring | undefined,
+): void {
   const { network, raw, result } = solved;
   const group = el(root, 'g', { class: 'contactors' });
   const labels: Array<{ p: Point; text: string }> = [];
+  const approachLabels: Array<{ p: Point; theta: number; room: number; text: string }> = [];
   network.contactors.forEach((c, k) => {
     const a = at.get(c.segment.from)!;
     const b = at.get(c.segment.to)!;
@@ -446,14 +503,17 @@ function drawContactors(root: SvgNode, solved: SolvedChip, at: Map<string, Point
     const near = nearIsA ? row.holdupA : 1 - row.holdupA;
     const w = drawnWidth(c.segment);
     const frame = channelFrame(a, b, w);
+    const approachFill = extraction?.fill[c.segment.id];
+    const approachText = extraction?.label[c.segment.id];
     const g = el(group, 'g', {
-      class: `contactor${c.section.orientation === 'stacked' ? ' stacked' : ''}`,
+      class: `contactor${c.section.orientation === 'stacked' ? ' stacked' : ''}${approachFill !== undefined ? ' by-approach' : ''}`,
       'data-segment': c.segment.id,
       'data-index': String(row.index),
       'data-near-phase': nearIsA ? 'A' : 'B',
       'data-holdup-a': frac(row.holdupA),
     });
-    appendTitle(g, `${c.segment.id}: A ${flowText(row.flowA)}, B ${flowText(row.flowB)}, holdup of A ${row.holdupA.toFixed(4)}, outlet ${row.state}`);
+    const approachTitle = extraction && approachText !== undefined ? `, ${extraction.title} ${approachText}` : '';
+    appendTitle(g, `${c.segment.id}: A ${flowText(row.flowA)}, B ${flowText(row.flowB)}, holdup of A ${row.holdupA.toFixed(4)}, outlet ${row.state}${approachTitle}`);
     // Bands in screen coordinates (so that the hatch and stripes keep their size); each lane's
     // look follows what it carries: A, B (hatched) or a mixture (striped).
     const lanes: Array<[number, number, number, string]> = [[0, near, raw.laneComposition[2 * k]!, 'near'], [near, 1, raw.laneComposition[2 * k + 1]!, 'far']];
@@ -461,7 +521,7 @@ function drawContactors(root: SvgNode, solved: SolvedChip, at: Map<string, Point
       if (v1 - v0 <= 0) continue;
       const d = lanePath(frame, v0, v1);
       const look = x > 1 - 1e-9 ? 'A' : x < 1e-9 ? 'B' : 'mixed';
-      el(g, 'path', { class: `band ${side} phase-${look}`, d, fill: look === 'mixed' ? MIXED : PHASE_COLOURS[look] });
+      el(g, 'path', { class: `band ${side} phase-${look}`, d, fill: approachFill ?? (look === 'mixed' ? MIXED : PHASE_COLOURS[look]) });
       if (look === 'B') el(g, 'path', { class: 'hatch', d, fill: PHASE_B_HATCH });
     }
     // The channel's own frame: walls and interface. Strokes along u are as thick on screen as
@@ -471,7 +531,9 @@ function drawContactors(root: SvgNode, solved: SolvedChip, at: Map<string, Point
     el(inner, 'line', { class: 'interface', x1: '0', y1: frac(near), x2: '1', y2: frac(near), stroke: '#000000', 'stroke-width': frac((w < 6 ? 1 : 1.6) / w) });
     // Numbers a quarter of the way down, clear of the flow arrow at the middle.
     labels.push({ p: frame.at(0.25, 0.5), text: String(row.index) });
+    if (approachText !== undefined) approachLabels.push({ p: frame.at(0.75, 0.5), theta: Math.atan2(b.y - a.y, b.x - a.x), room: 0.4 * Math.hypot(b.x - a.x, b.y - a.y), text: approachText });
   });
+  drawApproachLabels(root, approachLabels);
   // Contactor numbers, every k-th when they would crowd each other.
   if (labels.length === 0) return;
   const spacing = closestPair(labels.map((l) => l.p));
@@ -486,6 +548,22 @@ function drawContactors(root: SvgNode, solved: SolvedChip, at: Map<string, Point
     const index = i + 1;
     if (every === 1 || index % every === 0 || index === 1) label(numbers, l.text, { ...TEXT_HALO, x: l.p.x, y: l.p.y, dy: '0.32em' });
   });
+}
+
+/**
+ * Approach labels run along their contactors, three quarters of the way down (clear of the number
+ * and the flow arrow); shown only where neighbours leave room for a line of text and each label
+ * fits in its stretch of channel.
+ */
+function drawApproachLabels(root: SvgNode, labels: Array<{ p: Point; theta: number; room: number; text: string }>): void {
+  if (labels.length === 0 || closestPair(labels.map((l) => l.p)) < MIN_LABEL_PITCH) return;
+  if (labels.some((l) => textWidth(l.text, FONT_SIZE - 1) > l.room)) return;
+  const g = el(root, 'g', { class: 'approach-labels', 'font-size': FONT_SIZE - 1, 'text-anchor': 'middle' });
+  for (const l of labels) {
+    const deg = (l.theta * 180) / Math.PI;
+    const upright = deg > 90 ? deg - 180 : deg < -90 ? deg + 180 : deg;
+    label(g, l.text, { ...TEXT_HALO, transform: `translate(${num(l.p.x)},${num(l.p.y)}) rotate(${num(upright)})`, x: 0, y: 0, dy: '0.32em' });
+  }
 }
 
 function drawPorts(
@@ -624,8 +702,9 @@ function drawScaleBar(parent: SvgNode, x: number, y: number, pxPerMetre: number)
   label(g, text, { x: x + w + 6, y: y + 8 });
 }
 
-function drawColourBar(root: SvgNode, x: number, y: number, h: number, domain: [number, number], colour: (p: number) => string): void {
-  const g = el(root, 'g', { class: 'colour-bar' });
+function drawColourBar(root: SvgNode, x: number, y: number, h: number, scale: ColourScale): void {
+  const { domain, colour } = scale;
+  const g = el(root, 'g', { class: `colour-bar ${scale.kind}` });
   const strips = 48;
   const strip = el(g, 'g', { 'shape-rendering': 'crispEdges' });
   for (let k = 0; k < strips; k++) {
@@ -634,11 +713,11 @@ function drawColourBar(root: SvgNode, x: number, y: number, h: number, domain: [
     el(strip, 'rect', { x, y: top, width: COLOUR_BAR.width, height: h / strips + 0.3, fill: colour(v) });
   }
   el(g, 'rect', { x, y, width: COLOUR_BAR.width, height: h, fill: 'none', stroke: INK.axis, 'stroke-width': 0.5 });
-  const scale = scaleLinear().domain(domain.map((p) => p * DISPLAY.pressure.factor)).range([y + h, y]);
-  const format = scale.tickFormat(5);
-  for (const t of scale.ticks(5)) {
-    el(g, 'line', { x1: x + COLOUR_BAR.width, y1: scale(t), x2: x + COLOUR_BAR.width + 5, y2: scale(t), stroke: INK.axis });
-    label(g, format(t), { x: x + COLOUR_BAR.width + 8, y: scale(t), dy: '0.32em' });
+  const axis = scaleLinear().domain(domain.map((v) => v * scale.factor)).range([y + h, y]);
+  const format = axis.tickFormat(5);
+  for (const t of axis.ticks(5)) {
+    el(g, 'line', { x1: x + COLOUR_BAR.width, y1: axis(t), x2: x + COLOUR_BAR.width + 5, y2: axis(t), stroke: INK.axis });
+    label(g, format(t), { x: x + COLOUR_BAR.width + 8, y: axis(t), dy: '0.32em' });
   }
-  label(g, 'pressure (kPa)', { class: 'title', x, y: y - 8 });
+  label(g, scale.title, { class: 'title', x, y: y - 8 });
 }

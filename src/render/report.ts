@@ -1,7 +1,9 @@
 /**
  * The report of a solved chip as one self-contained HTML page: status, cautions, summary,
- * warnings, the chip drawing, the charts, the per-contactor and split tables, and the inputs as
- * read. Exports `chipReport` and its option type. Pure: solved chip in, HTML text out.
+ * warnings, the chip drawing, the charts, the per-contactor and split tables, optionally the
+ * extraction of a solute (src/analyses/extraction.ts: its figures, model, table and charts, with
+ * the contactors of the drawing coloured by approach to equilibrium), and the inputs as read.
+ * Exports `chipReport` and its option type. Pure: solved chip (and results) in, HTML text out.
  *
  * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no script,
  * font, image or link that a browser would fetch. The page is also well-formed XML (every element
@@ -9,15 +11,21 @@
  * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
  */
 import type { SolvedChip } from '../analyses/chip.js';
+import type { ExtractionResult } from '../analyses/extraction.js';
 import type { ChipNode, ChipSegment } from '../network/model.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
+import {
+  EXTRACTION_COLUMNS, EXTRACTION_MODEL_NOTES, contactorExtractionChart, extractionAlongChart, extractionColouring, extractionSummaryItems, soluteLine,
+} from './extractionCharts.js';
 import { escapeXml } from './svg.js';
 import { CONTACTOR_COLUMNS, SAFETY_NOTES } from './text.js';
 
 export interface ReportOptions {
   drawing?: ChipDrawingOptions;
+  /** The extraction of a solute on this solved chip: adds its section, warnings and drawing colours. */
+  extraction?: ExtractionResult;
 }
 
 const STYLE = `
@@ -94,8 +102,38 @@ function sectionText(s: ChipSegment): string[] {
   return sec.shape === 'rect' ? ['rect', um(sec.width), um(sec.depth), sec.orientation] : ['tube', um(sec.diameter), '–', '–'];
 }
 
+/** The extraction section: solute, chip figures, model, per-contactor table and the two charts. */
+function extractionSection(extraction: ExtractionResult): string[] {
+  const out: string[] = [];
+  out.push('<h2>Extraction</h2>');
+  out.push(`<p>${esc(soluteLine(extraction))}.</p>`);
+  const accuracy = `every figure converged to ${extraction.tolerance.toExponential(0)} of the feed${extraction.summary.converged ? '' : ', EXCEPT where warned'}`;
+  out.push(`<p>Concentrations in mol/m³ (= mM); ${esc(accuracy)}.</p>`);
+  out.push(definitionList(extractionSummaryItems(extraction)));
+  out.push('<p>The transport model takes:</p>');
+  out.push(`<ul>${EXTRACTION_MODEL_NOTES.map((note) => `<li>${esc(note)}</li>`).join('\n')}</ul>`);
+  out.push(
+    table(
+      EXTRACTION_COLUMNS.map((c) => c.title),
+      extraction.contactors.map((r) => EXTRACTION_COLUMNS.map((c) => c.value(r))),
+      { textColumns: [1] },
+    ),
+  );
+  if (extraction.skippedContactors.length > 0) {
+    out.push(`<p>Not analysed: ${esc(extraction.skippedContactors.map((s) => `${s.id} (${s.reason})`).join('; '))}.</p>`);
+  }
+  out.push('<div class="charts">');
+  out.push(`<figure class="chart" id="chart-extraction-along">${extractionAlongChart(extraction)}</figure>`);
+  out.push(`<figure class="chart" id="chart-extraction-per-contactor">${contactorExtractionChart(extraction)}</figure>`);
+  out.push('</div>');
+  return out;
+}
+
 export function chipReport(solved: SolvedChip, options: ReportOptions = {}): string {
   const { chip, result } = solved;
+  const { extraction } = options;
+  const warnings = [...result.warnings, ...(extraction?.warnings ?? []).map((w) => `extraction: ${w}`)];
+  const drawing: ChipDrawingOptions | undefined = extraction ? { ...options.drawing, extraction: extractionColouring(extraction) } : options.drawing;
   const { summary } = result;
   const sp = summary.spread;
   const out: string[] = [];
@@ -137,17 +175,18 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
   items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
   out.push(definitionList(items));
 
-  out.push(`<h2>Warnings (${result.warnings.length})</h2>`);
+  out.push(`<h2>Warnings (${warnings.length})</h2>`);
   const item = (w: string) => `<li>${esc(w)}</li>`;
-  if (result.warnings.length === 0) out.push('<p>None.</p>');
-  else out.push(`<ul class="warnings">${result.warnings.slice(0, SHOWN_WARNINGS).map(item).join('\n')}</ul>`);
-  if (result.warnings.length > SHOWN_WARNINGS) {
-    out.push(`<details><summary>${result.warnings.length - SHOWN_WARNINGS} more warnings</summary><ul class="warnings">${result.warnings.slice(SHOWN_WARNINGS).map(item).join('\n')}</ul></details>`);
+  if (warnings.length === 0) out.push('<p>None.</p>');
+  else out.push(`<ul class="warnings">${warnings.slice(0, SHOWN_WARNINGS).map(item).join('\n')}</ul>`);
+  if (warnings.length > SHOWN_WARNINGS) {
+    out.push(`<details><summary>${warnings.length - SHOWN_WARNINGS} more warnings</summary><ul class="warnings">${warnings.slice(SHOWN_WARNINGS).map(item).join('\n')}</ul></details>`);
   }
 
   out.push('<h2>Chip drawing</h2>');
-  out.push(`<figure><div class="drawing">${chipDrawing(solved, options.drawing)}</div>`);
-  out.push('<figcaption>The solved chip in plan view; scale, width factor and conventions are stated under the drawing.</figcaption></figure>');
+  out.push(`<figure><div class="drawing">${chipDrawing(solved, drawing)}</div>`);
+  const colouredBy = extraction ? ' The contactors are coloured by their approach to equilibrium (see Extraction).' : '';
+  out.push(`<figcaption>The solved chip in plan view; scale, width factor and conventions are stated under the drawing.${colouredBy}</figcaption></figure>`);
 
   out.push('<h2>Charts</h2>');
   out.push('<div class="charts">');
@@ -175,6 +214,8 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
       ),
     );
   }
+
+  if (extraction) out.push(...extractionSection(extraction));
 
   out.push('<h2>Inputs as read</h2>');
   const inputs: Array<[string, string]> = [];

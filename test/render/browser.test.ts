@@ -7,6 +7,7 @@ import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
+import { analyseExtraction, type ExtractionResult } from '../../src/analyses/extraction.js';
 import { chipReport } from '../../src/render/report.js';
 
 /**
@@ -36,10 +37,16 @@ function withoutCoordinates(): SolvedChip {
   return solveChip(layoutToChip(bare, 'bare.yaml'));
 }
 
-const CASES: Array<[string, () => SolvedChip]> = [
+/** The leaky ladder with the extraction of an invented demo solute. */
+function ladderExtraction(solved: SolvedChip): ExtractionResult {
+  return analyseExtraction(solved, { label: 'demo dye', partition: 4, feedPhase: 'A', feedConcentration: 1, diffusivityA: 0.5e-9, diffusivityB: 1e-9 });
+}
+
+const CASES: Array<[string, () => SolvedChip, ((solved: SolvedChip) => ExtractionResult)?]> = [
   ['ladder-16', leakyLadder],
   ['tree-16', () => solveChip(layoutToChip(treeLayout({ drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } }), 'tree.yaml'))],
   ['no-coordinates', withoutCoordinates],
+  ['ladder-16-extraction', leakyLadder, ladderExtraction],
 ];
 
 describe.skipIf(!haveChromium)('the HTML report in headless chromium', () => {
@@ -66,11 +73,12 @@ describe.skipIf(!haveChromium)('the HTML report in headless chromium', () => {
     rmSync(pages, { recursive: true, force: true });
   });
 
-  for (const [name, solve] of CASES) {
+  for (const [name, solve, extract] of CASES) {
     it(`opens the report of ${name} without console errors or requests, and takes its screenshot`, async () => {
       const solved = solve();
+      const extraction = extract?.(solved);
       const file = join(pages, `${name}.html`);
-      writeFileSync(file, chipReport(solved));
+      writeFileSync(file, chipReport(solved, { extraction }));
       const page = await context.newPage();
       const problems: string[] = [];
       page.on('console', (m) => {
@@ -88,7 +96,9 @@ describe.skipIf(!haveChromium)('the HTML report in headless chromium', () => {
       const contactors = solved.result.segments.filter((s) => s.kind === 'contactor').length;
       expect(await page.locator('.drawing svg g.contactor').count()).toBe(contactors);
       expect(await page.locator('.drawing svg line.interface').count()).toBe(contactors);
-      expect(await page.locator('figure.chart > svg').count()).toBe(5);
+      expect(await page.locator('figure.chart > svg').count()).toBe(extraction ? 7 : 5);
+      expect(await page.locator('.drawing svg g.contactor.by-approach').count()).toBe(extraction ? contactors : 0);
+      expect(await page.locator('.drawing svg g.colour-bar.approach').count()).toBe(extraction ? 1 : 0);
       const sizes = await page.locator('.drawing > svg, figure.chart > svg').evaluateAll((all) => all.map((s) => s.getBoundingClientRect()).map((r) => r.width * r.height));
       expect(sizes.every((a) => a > 0)).toBe(true);
 

@@ -4,7 +4,10 @@ import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
-import { chipDrawing } from '../../src/render/chipDrawing.js';
+import { analyseExtraction, type SoluteSetup } from '../../src/analyses/extraction.js';
+import { chipDrawing, PHASE_COLOURS } from '../../src/render/chipDrawing.js';
+import { approachColour, extractionColouring, type ExtractionColouring } from '../../src/render/extractionCharts.js';
+import { textWidth } from '../../src/render/svg.js';
 
 /** Invented demo values throughout: a ladder driven so that its splits leak both ways. */
 function ladder(change: (layout: LayoutFile) => void = () => {}, contactors = 16): SolvedChip {
@@ -281,5 +284,84 @@ describe('chipDrawing', () => {
 
   it('gives byte-identical output run to run', () => {
     expect(chipDrawing(leaky)).toBe(chipDrawing(leaky));
+  });
+});
+
+describe('chipDrawing with the contactors coloured by approach to equilibrium', () => {
+  /** Invented demo solute; the leaky ladder's flows (splits leaking both ways) are what it runs on. */
+  const SOLUTE: SoluteSetup = { label: 'demo dye', partition: 4, feedPhase: 'A', feedConcentration: 1, diffusivityA: 0.5e-9, diffusivityB: 1e-9 };
+  const leaky = ladder((l) => setPressure(l, 'outB', 600));
+  const colouring = extractionColouring(analyseExtraction(leaky, SOLUTE));
+  const contactorIds = leaky.result.segments.filter((s) => s.kind === 'contactor').map((s) => s.id);
+  const bandsOf = (g: Element) => all(g, (e) => (e.attrs.class ?? '').split(' ').includes('band'));
+
+  it('fills both bands of every contactor with the colouring\'s fill, keeping the interface and the hatch of phase B', () => {
+    const root = parse(chipDrawing(leaky, { extraction: colouring }));
+    const contactors = all(root, hasClass('contactor'));
+    expect(contactors.map((g) => g.attrs['data-segment']).sort()).toEqual([...contactorIds].sort());
+    for (const g of contactors) {
+      const id = g.attrs['data-segment']!;
+      expect(g.attrs.class).toContain('by-approach');
+      const bands = bandsOf(g);
+      expect(bands.length).toBeGreaterThan(0);
+      for (const band of bands) expect(band.attrs.fill, id).toBe(colouring.fill[id]);
+      expect(all(g, hasClass('interface'))).toHaveLength(1);
+      const bandsOfB = bands.filter((b) => b.attrs.class!.includes('phase-B'));
+      expect(all(g, hasClass('hatch'))).toHaveLength(bandsOfB.length);
+      expect(textOf(g)).toContain(`approach to equilibrium ${colouring.label[id]}`);
+    }
+  });
+
+  it('leaves a contactor the colouring does not name in its phase colours', () => {
+    const [left, ...rest] = contactorIds;
+    const partial: ExtractionColouring = {
+      ...colouring,
+      fill: Object.fromEntries(rest.map((id) => [id, colouring.fill[id]!])),
+      label: Object.fromEntries(rest.map((id) => [id, colouring.label[id]!])),
+    };
+    const root = parse(chipDrawing(leaky, { extraction: partial }));
+    const g = all(root, (e) => hasClass('contactor')(e) && e.attrs['data-segment'] === left)[0]!;
+    expect(g.attrs.class).not.toContain('by-approach');
+    for (const band of bandsOf(g)) {
+      const look = band.attrs.class!.match(/phase-(A|B|mixed)/)![1]!;
+      if (look !== 'mixed') expect(band.attrs.fill).toBe(PHASE_COLOURS[look as 'A' | 'B']);
+    }
+    expect(textOf(all(root, hasClass('caption'))[0]!)).toMatch(/1 contactor not analysed keeps the phase colours/);
+  });
+
+  it('draws a labelled colour bar of approach to equilibrium from 0 to 1 in the colours of the fills', () => {
+    const root = parse(chipDrawing(leaky, { extraction: colouring }));
+    const bars = all(root, hasClass('colour-bar'));
+    expect(bars).toHaveLength(1);
+    expect(bars[0]!.attrs.class).toBe('colour-bar approach');
+    const title = all(bars[0]!, hasClass('title'))[0]!;
+    expect(title.text).toBe(colouring.title);
+    expect(colouring.title).toBe('approach to equilibrium');
+    const ticks = all(bars[0]!, (e) => e.name === 'text' && !hasClass('title')(e)).map((e) => Number(e.text));
+    expect(ticks).toEqual([0, 0.2, 0.4, 0.6, 0.8, 1]);
+    // 48 strips from the bottom (approach 0) up, each in the colour of its middle value.
+    const strips = all(bars[0]!, (e) => e.name === 'rect' && e.attrs.fill !== 'none');
+    expect(strips).toHaveLength(48);
+    strips.forEach((r, k) => expect(r.attrs.fill).toBe(approachColour((k + 0.5) / 48)));
+    for (const stop of colouring.stops) expect(stop.colour).toBe(approachColour(stop.value));
+  });
+
+  it('labels each contactor with its approach along the channel where neighbours leave room', () => {
+    const root = parse(chipDrawing(leaky, { extraction: colouring }));
+    const labels = all(all(root, hasClass('approach-labels'))[0]!, (e) => e.name === 'text').map((e) => e.text);
+    expect(labels).toEqual(contactorIds.map((id) => colouring.label[id]));
+  });
+
+  it('puts the pressure and approach colour bars side by side inside the canvas', () => {
+    const root = parse(chipDrawing(leaky, { colourBy: 'pressure', extraction: colouring }));
+    const bars = all(root, hasClass('colour-bar'));
+    expect(bars.map((b) => b.attrs.class)).toEqual(['colour-bar pressure', 'colour-bar approach']);
+    const [pressureX, approachX] = bars.map((b) => Number(all(b, hasClass('title'))[0]!.attrs.x));
+    expect(approachX! - pressureX!).toBeGreaterThanOrEqual(12 + 90);
+    expect(approachX! + Math.max(12 + 90, textWidth(colouring.title))).toBeLessThanOrEqual(Number(root.attrs.width));
+  });
+
+  it('gives byte-identical output run to run', () => {
+    expect(chipDrawing(leaky, { extraction: colouring })).toBe(chipDrawing(leaky, { extraction: extractionColouring(analyseExtraction(leaky, SOLUTE)) }));
   });
 });

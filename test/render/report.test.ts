@@ -7,6 +7,8 @@ import { solveChip } from '../../src/analyses/chip.js';
 import { chipCharts, findManifolds } from '../../src/render/chipCharts.js';
 import { chipReport } from '../../src/render/report.js';
 import { SAFETY_NOTES } from '../../src/render/text.js';
+import { analyseExtraction, type SoluteSetup } from '../../src/analyses/extraction.js';
+import { EXTRACTION_MODEL_NOTES, extractionColouring, extractionSummaryItems, soluteLine } from '../../src/render/extractionCharts.js';
 import { escapeXml } from '../../src/render/svg.js';
 
 const MARKUP_NAME = `report <chip> & "co"`;
@@ -121,5 +123,71 @@ describe('chipReport', () => {
     expect(html).toContain('k&lt;2&gt;&amp;');
     expect(html).toContain('oil &lt;A&gt;');
     expect(html).not.toMatch(/<chip>|<2>|<A>/);
+  });
+});
+
+describe('chipReport with an extraction', () => {
+  /** Invented demo solute, its name with markup characters; the 16-contactor ladder's splits leak, which the extraction warns about. */
+  const SOLUTE: SoluteSetup = { label: 'dye <D> & "co"', partition: 4, feedPhase: 'A', feedConcentration: 1, diffusivityA: 0.5e-9, diffusivityB: 1e-9 };
+  const extraction = analyseExtraction(ladder, SOLUTE);
+  const html = chipReport(ladder, { extraction });
+  const section = html.slice(html.indexOf('<h2>Extraction</h2>'), html.indexOf('<h2>Inputs as read</h2>'));
+
+  it('is one well-formed document that needs no network', () => {
+    expect(XMLValidator.validate(html)).toBe(true);
+    expect(html).not.toMatch(/<script|<link|<img|<iframe|@import|src=/i);
+    for (const m of html.matchAll(/url\(([^)]*)\)/g)) expect(m[1]!.startsWith('#')).toBe(true);
+  });
+
+  it('holds the Extraction section: the solute, the chip figures, the model notes and the per-contactor table', () => {
+    expect(section.length).toBeGreaterThan(0);
+    expect(section).toContain(escapeXml(soluteLine(extraction)));
+    for (const [key, value] of extractionSummaryItems(extraction)) expect(section).toContain(`<dt>${escapeXml(key)}</dt><dd>${escapeXml(value)}</dd>`);
+    for (const note of EXTRACTION_MODEL_NOTES) expect(section).toContain(`<li>${escapeXml(note)}</li>`);
+    const table = section.slice(section.indexOf('<table>'), section.indexOf('</table>'));
+    expect((table.match(/<tr/g) ?? []).length).toBe(1 + extraction.contactors.length);
+    expect(table).toContain('approach %');
+  });
+
+  it('draws the chart along the channel for the best, median and worst contactor, and the chart per contactor', () => {
+    const along = section.match(/<figure class="chart" id="chart-extraction-along">(.*?)<\/figure>/s)![1]!;
+    const perContactor = section.match(/<figure class="chart" id="chart-extraction-per-contactor">(.*?)<\/figure>/s)![1]!;
+    for (const svg of [along, perContactor]) expect(XMLValidator.validate(svg)).toBe(true);
+    expect(extraction.profiles.map((p) => p.role)).toEqual(['best', 'median', 'worst']);
+    for (const p of extraction.profiles) expect(along).toContain(`${p.role}: ${p.id} (#${p.index})`);
+    expect(perContactor).toContain('at equilibrium');
+    expect((html.match(/<figure class="chart"/g) ?? []).length).toBe(5 + 2);
+  });
+
+  it('lists the extraction warnings after those of the flow solve, and counts both', () => {
+    expect(extraction.warnings.length).toBeGreaterThan(0);
+    const count = ladder.result.warnings.length + extraction.warnings.length;
+    expect(html).toContain(`<h2>Warnings (${count})</h2>`);
+    for (const w of extraction.warnings) expect(html).toContain(escapeXml(`extraction: ${w}`));
+  });
+
+  it('draws the chip with every contactor coloured by its approach to equilibrium', () => {
+    const { fill } = extractionColouring(extraction);
+    const drawing = html.slice(html.indexOf('<h2>Chip drawing</h2>'), html.indexOf('<h2>Charts</h2>'));
+    expect(drawing).toContain('class="colour-bar approach"');
+    const groups = [...drawing.matchAll(/<g class="contactor by-approach" data-segment="([^"]+)"(.*?)<\/g>/gs)];
+    expect(groups.map((g) => g[1]).sort()).toEqual(Object.keys(fill).sort());
+    for (const [, id, body] of groups) {
+      const bands = [...body!.matchAll(/class="band [^"]*" d="[^"]*" fill="([^"]+)"/g)].map((m) => m[1]);
+      expect(bands.length, id).toBeGreaterThan(0);
+      for (const colour of bands) expect(colour).toBe(fill[id!]);
+    }
+  });
+
+  it('escapes the solute name in the section and the charts', () => {
+    expect(section).toContain('dye &lt;D&gt; &amp; &quot;co&quot;');
+    expect(html).not.toMatch(/<D>/);
+  });
+
+  it('adds nothing without an extraction', () => {
+    const plain = chipReport(ladder);
+    expect(chipReport(ladder, { extraction: undefined })).toBe(plain);
+    expect(plain).not.toContain('<h2>Extraction</h2>');
+    expect(plain).not.toMatch(/by-approach|colour-bar|extraction: /);
   });
 });
