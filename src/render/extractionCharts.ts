@@ -11,7 +11,7 @@ import type { ContactorExtraction, ExtractionResult } from '../analyses/extracti
 import { DISPLAY, fmt } from '../units/format.js';
 import { dotChart, lineChart, type LineSeries } from './chart.js';
 import { viridis } from './palette.js';
-import { SAFETY_NOTES, textTable } from './text.js';
+import { SAFETY_NOTES, textTable, columnsCsv } from './text.js';
 
 const MM = DISPLAY.lengthMm.factor;
 const percent = (v: number) => 100 * v;
@@ -96,13 +96,8 @@ export const EXTRACTION_COLUMNS: Array<{ title: string; csv: string; value: (r: 
   { title: 'L99 mm', csv: 'length99_mm', value: (r) => length(r.length99) },
 ];
 
-function csvCell(s: string): string {
-  return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-
 export function extractionCsv(result: ExtractionResult): string {
-  const rows = result.contactors.map((r) => EXTRACTION_COLUMNS.map((c) => csvCell(c.value(r))).join(','));
-  return [EXTRACTION_COLUMNS.map((c) => c.csv).join(','), ...rows].join('\n') + '\n';
+  return columnsCsv(EXTRACTION_COLUMNS, result.contactors);
 }
 
 /** One line naming the solute and its data, for the head of a text or report section. */

@@ -43,9 +43,14 @@ function csvCell(s: string): string {
   return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
+/** A CSV table (RFC 4180 quoting) of `rows` with one column per entry of `columns`. */
+export function columnsCsv<T>(columns: ReadonlyArray<{ csv: string; value: (row: T) => string }>, rows: readonly T[]): string {
+  const lines = rows.map((r) => columns.map((c) => csvCell(c.value(r))).join(','));
+  return [columns.map((c) => c.csv).join(','), ...lines].join('\n') + '\n';
+}
+
 export function contactorCsv(solution: ChipSolution): string {
-  const rows = solution.contactors.map((r) => CONTACTOR_COLUMNS.map((c) => csvCell(c.value(r))).join(','));
-  return [CONTACTOR_COLUMNS.map((c) => c.csv).join(','), ...rows].join('\n') + '\n';
+  return columnsCsv(CONTACTOR_COLUMNS, solution.contactors);
 }
 
 export function chipText(name: string, s: ChipSolution): string {

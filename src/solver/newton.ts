@@ -66,15 +66,8 @@ export interface NetworkSolution {
   message?: string;
 }
 
-export interface WarmStart {
-  pressure: Float64Array;
-  holdup: Float64Array;
-  leak: Float64Array;
-  splitStates: SplitState[];
-  crossover: Float64Array;
-  feedStates: FeedState[];
-  composition: Float64Array;
-}
+/** What a new solve of a chip with the same topology starts from. */
+export type WarmStart = Pick<NetworkSolution, 'pressure' | 'holdup' | 'leak' | 'splitStates' | 'crossover' | 'feedStates' | 'composition'>;
 
 const tableCache = new Map<string, HoldupTable>();
 
