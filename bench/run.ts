@@ -8,13 +8,25 @@
  */
 import { formatTable, type Row } from './report.js';
 import { benchSection } from './section.js';
+import { benchRender } from './render.js';
+import { benchNetwork } from './network.js';
+import { benchTolerance } from './tolerance.js';
+import { benchExtraction } from './extraction.js';
+import { benchWindow } from './window.js';
 
 interface Benchmark {
   name: string;
   run: () => Row[] | Promise<Row[]>;
 }
 
-const BENCHMARKS: Benchmark[] = [{ name: 'section', run: benchSection }];
+const BENCHMARKS: Benchmark[] = [
+  { name: 'section', run: benchSection },
+  { name: 'render', run: benchRender },
+  { name: 'network', run: benchNetwork },
+  { name: 'extraction', run: benchExtraction },
+  { name: 'tolerance', run: benchTolerance },
+  { name: 'window', run: benchWindow },
+];
 
 async function main(argv: string[]): Promise<number> {
   const wanted = argv.slice(2);

@@ -1,0 +1,454 @@
+/**
+ * Pressure window maps: sweep two driving quantities of a chip over a grid, solve the whole chip
+ * at every point and classify it — every split pinned, some splits leaking (how many, which
+ * way), backflow into an inlet line, over the pressure rating, or solve failed — with the
+ * throughput, phase flow ratio and spread between contactors at each point.
+ *
+ * Also the addressing of settings shared with ./tune.ts: a setting is an inlet's or outlet's
+ * pressure or an inlet's flow, named `node.quantity` (`inA.pressure`, `inB.flow`). A setting's
+ * value is what a layout file holds: a pressure excludes the reservoir head that the chip model
+ * adds to it.
+ *
+ * Exports `parseSetting`, `settingName`, `settingValue`, `withSettings`, `axisValues`,
+ * `describePoint`, `predictedStart`, `sweepLine`, `windowMap`, `SWEEP_SOLVER`, `POINT_CLASSES`
+ * and the types. Continuation: each point starts from the solutions of its neighbours. The
+ * first column is swept upwards from the first point, then each row rightwards from its
+ * first-column point; rows are independent jobs, so the map is the same whatever the number of
+ * worker threads (./sweepWorker.ts) that share them.
+ * No file I/O; no drawing.
+ */
+import { Worker } from 'node:worker_threads';
+import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
+import type { WarmStart } from '../solver/newton.js';
+import type { Network } from '../network/assemble.js';
+import type { SolverOptions } from '../solver/defaults.js';
+import type { Chip, ChipNode } from '../network/model.js';
+import { StratiflowError } from '../errors.js';
+
+// ---------------------------------------------------------------------------------------------
+// Settings
+
+export type SettingQuantity = 'pressure' | 'flow';
+
+export interface Setting {
+  node: string;
+  quantity: SettingQuantity;
+}
+
+export function settingName(setting: Setting): string {
+  return `${setting.node}.${setting.quantity}`;
+}
+
+/** Reads `node.pressure` or `node.flow`; the node must be an inlet (either) or an outlet (pressure). */
+export function parseSetting(text: string, chip: Chip): Setting {
+  const match = /^(.+)\.(pressure|flow)$/.exec(text.trim());
+  if (!match) throw new StratiflowError('bad-option', `"${text}" is not a setting: write node.pressure or node.flow, e.g. inA.pressure`);
+  const [, id, quantity] = match as unknown as [string, string, SettingQuantity];
+  const node = chip.nodes.find((n) => n.id === id);
+  if (!node) throw new StratiflowError('bad-option', `no node "${id}" in the layout`);
+  if (node.kind !== 'inlet' && node.kind !== 'outlet') throw new StratiflowError('bad-option', `node "${id}" is a ${node.kind}; only inlets and outlets have settings`);
+  if (node.kind === 'outlet' && quantity === 'flow') throw new StratiflowError('bad-option', `outlet "${id}" is held at a pressure; its flow cannot be set`);
+  return { node: id!, quantity };
+}
+
+function settingNode(chip: Chip, setting: Setting): Extract<ChipNode, { kind: 'inlet' | 'outlet' }> {
+  const node = chip.nodes.find((n) => n.id === setting.node);
+  if (!node || (node.kind !== 'inlet' && node.kind !== 'outlet')) throw new StratiflowError('bad-option', `no inlet or outlet "${setting.node}"`);
+  return node;
+}
+
+/**
+ * The value of a setting at a solved state: a set pressure or flow as given, otherwise what the
+ * solve found (the pressure a flow-set inlet needs, the flow a pressure-set inlet delivers).
+ */
+export function settingValue(solved: SolvedChip, setting: Setting): number {
+  const node = settingNode(solved.chip, setting);
+  if (node.kind === 'outlet') return node.pressure - node.head;
+  const inlet = solved.result.summary.inlets.find((i) => i.id === node.id)!;
+  return setting.quantity === 'pressure' ? inlet.pressure - node.head : inlet.flow;
+}
+
+/** A copy of the chip with the given settings; setting an inlet's flow frees its pressure and vice versa. */
+export function withSettings(chip: Chip, values: ReadonlyArray<readonly [Setting, number]>): Chip {
+  const byNode = new Map<string, Array<readonly [Setting, number]>>();
+  for (const entry of values) byNode.set(entry[0].node, [...(byNode.get(entry[0].node) ?? []), entry]);
+  const nodes = chip.nodes.map((node): ChipNode => {
+    const entries = byNode.get(node.id);
+    if (!entries) return node;
+    let next = node;
+    for (const [setting, value] of entries) {
+      if (next.kind === 'outlet') next = { ...next, pressure: value + next.head };
+      else if (next.kind === 'inlet') next = setting.quantity === 'pressure' ? { ...next, pressure: value + next.head, flow: undefined } : { ...next, flow: value, pressure: undefined };
+    }
+    return next;
+  });
+  return { ...chip, nodes };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Grid and classes
+
+export interface SweepAxis {
+  setting: Setting;
+  from: number;
+  to: number;
+  /** Number of grid values, at least 2; evenly spaced from `from` to `to`. */
+  steps: number;
+}
+
+export interface WindowSpec {
+  x: SweepAxis;
+  y: SweepAxis;
+  /** Passed to every chip solve. */
+  solver?: SolverOptions;
+}
+
+/** Classes in order of precedence: a point takes the first that applies, reading from the end. */
+export const POINT_CLASSES = ['pinned', 'leaking-A-to-B', 'leaking-B-to-A', 'leaking-both', 'backflow', 'over-rating', 'failed'] as const;
+export type PointClass = (typeof POINT_CLASSES)[number];
+
+export interface WindowPoint {
+  i: number;
+  j: number;
+  x: number;
+  y: number;
+  class: PointClass;
+  /** Solves made: 1, or 2 when the warm start failed and a cold start was tried. */
+  attempts: number;
+  iterations: number;
+  /** Why the solve failed, for class 'failed'. */
+  message?: string;
+  pinned: number;
+  leakingAtoB: number;
+  leakingBtoA: number;
+  /** Inlets that take liquid back, feed lines that carry the other phase backwards, merges with a starved feed. */
+  backflow: string[];
+  /** Highest pressure anywhere in the chip, Pa. */
+  maxPressure: number;
+  /** Delivered by the inlets, m³/s. */
+  throughputA: number;
+  throughputB: number;
+  throughput: number;
+  /** throughputA / throughputB. */
+  flowRatio: number;
+  /** Coefficient of variation and max/min of the total flow per contactor. */
+  spreadCv: number;
+  spreadMaxMin: number;
+  /** Smallest distance of a split's p_B − p_A from its window limits, Pa (0 at a leaking split). */
+  minMargin: number;
+}
+
+export interface WindowMap {
+  spec: WindowSpec;
+  xValues: number[];
+  yValues: number[];
+  /** points[j][i]: row j at y = yValues[j], column i at x = xValues[i]. */
+  points: WindowPoint[][];
+  counts: Record<PointClass, number>;
+  splits: number;
+  maxPressure?: number;
+}
+
+export function axisValues(axis: SweepAxis): number[] {
+  return Array.from({ length: axis.steps }, (_, k) => (k === axis.steps - 1 ? axis.to : axis.from + ((axis.to - axis.from) * k) / (axis.steps - 1)));
+}
+
+function checkAxis(axis: SweepAxis, name: string): void {
+  if (!Number.isInteger(axis.steps) || axis.steps < 2) throw new StratiflowError('bad-option', `${name}: the number of steps must be a whole number of at least 2`);
+  if (!(Number.isFinite(axis.from) && Number.isFinite(axis.to)) || axis.from === axis.to) throw new StratiflowError('bad-option', `${name}: the range needs two different finite ends`);
+  if (axis.setting.quantity === 'flow' && Math.min(axis.from, axis.to) < 0) throw new StratiflowError('bad-option', `${name}: an inlet flow cannot be negative`);
+}
+
+/**
+ * Solver settings of a sweep, over the solver's own defaults: a map needs the class of each
+ * point and its totals to four or five digits, so mass balances to 1e-5 of the throughput do
+ * (one or two Newton steps fewer than 1e-12 from a neighbour's solution; on the 64-contactor
+ * ladder the classes came out the same as at 1e-6, and the totals to 7 digits); a point that
+ * has not settled in 30 Newton steps or 8 rounds of state changes from a neighbour's solution
+ * is, in practice, one the solver will not settle.
+ */
+export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxNewtonIterations: 30, maxStateRounds: 8 };
+
+/** Relative size below which a negative inlet flow is rounding, not backflow. */
+const BACKFLOW_THRESHOLD = 1e-9;
+/** A line carries the other phase when its composition differs from its nominal one by more than this. */
+const FOREIGN_PHASE = 1e-6;
+
+/** The plain elements between the inlets and the merges (in their design direction). */
+function feedLines(network: Network): number[] {
+  const leaving = new Map<number, number[]>();
+  network.plains.forEach((el, e) => leaving.set(el.from, [...(leaving.get(el.from) ?? []), e]));
+  const lines: number[] = [];
+  const seen = new Set<number>();
+  const stack = network.ports.flatMap((p, i) => (p.node.kind === 'inlet' ? [i] : []));
+  while (stack.length > 0) {
+    const port = stack.pop()!;
+    if (seen.has(port) || network.ports[port]!.node.kind === 'merge') continue;
+    seen.add(port);
+    for (const e of leaving.get(port) ?? []) {
+      lines.push(e);
+      stack.push(network.plains[e]!.to);
+    }
+  }
+  return lines;
+}
+
+/** Where a point lies on the grid and in setting values. */
+export interface GridPlace {
+  i: number;
+  j: number;
+  x: number;
+  y: number;
+}
+
+/** The class and figures of one solved chip (`chip` is the solved variant, for its rating). */
+export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, attempts = 1): WindowPoint {
+  const { result, network, raw } = solved;
+  const base = { ...place, attempts, iterations: result.iterations };
+  if (!result.converged) {
+    return {
+      ...base, class: 'failed', message: result.message ?? 'no convergence', pinned: 0, leakingAtoB: 0, leakingBtoA: 0, backflow: [],
+      maxPressure: NaN, throughputA: NaN, throughputB: NaN, throughput: NaN, flowRatio: NaN, spreadCv: NaN, spreadMaxMin: NaN, minMargin: NaN,
+    };
+  }
+  const { summary } = result;
+  const pinned = result.splits.filter((s) => s.state === 'pinned').length;
+  const leakingAtoB = result.splits.filter((s) => s.state === 'leaking-A-to-B').length;
+  const leakingBtoA = result.splits.filter((s) => s.state === 'leaking-B-to-A').length;
+  const throughput = summary.throughputA + summary.throughputB;
+  const backflow = summary.inlets.filter((inlet) => inlet.flow < -BACKFLOW_THRESHOLD * throughput).map((inlet) => inlet.id);
+  for (const e of feedLines(network)) {
+    const el = network.plains[e]!;
+    if (raw.plainFlow[e]! < 0 && Math.abs(raw.plainComposition[e]! - network.ports[el.from]!.nominal) > FOREIGN_PHASE) backflow.push(el.segment.id);
+  }
+  // A starved feed: one phase fills the contactor and pushes back into the other's feed line.
+  network.contactors.forEach((el, c) => {
+    if (raw.feedStates[c] !== 'open') backflow.push(el.segment.from);
+  });
+  const over = chip.maxPressure !== undefined && summary.maxPressure > chip.maxPressure;
+  const leaking = leakingAtoB > 0 && leakingBtoA > 0 ? 'leaking-both' : leakingAtoB > 0 ? 'leaking-A-to-B' : leakingBtoA > 0 ? 'leaking-B-to-A' : 'pinned';
+  return {
+    ...base,
+    class: over ? 'over-rating' : backflow.length > 0 ? 'backflow' : leaking,
+    pinned,
+    leakingAtoB,
+    leakingBtoA,
+    backflow,
+    maxPressure: summary.maxPressure,
+    throughputA: summary.throughputA,
+    throughputB: summary.throughputB,
+    throughput,
+    flowRatio: summary.throughputB > 0 ? summary.throughputA / summary.throughputB : Infinity,
+    spreadCv: summary.spread.total.cv,
+    spreadMaxMin: summary.spread.total.ratio,
+    minMargin: result.splits.length ? Math.min(...result.splits.map((s) => s.margin)) : NaN,
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sweeping
+
+/** One grid point to solve along a line of the sweep. */
+export interface LinePoint {
+  i: number;
+  j: number;
+}
+
+export interface LineResult {
+  points: WindowPoint[];
+  /** Warm start left by each point: its own solution, or the last converged one before it. */
+  warm: Array<WarmStart | undefined>;
+}
+
+/**
+ * The starting guess for the next point of a line from the last two solutions (a secant
+ * predictor, as in predictor–corrector continuation: Allgower & Georg, Introduction to
+ * Numerical Continuation Methods, 2003, ch. 2, from memory): pressures, holdups and leaks are
+ * extrapolated linearly when both solutions had the same split states, holdups are kept inside
+ * (0, 1); compositions and split states are taken from the last solution. Feeds start open:
+ * given a starved feed, the solver keeps it starved even where the open feed is the solution
+ * (a neighbour's starved state would spread into the open region), while from an open feed it
+ * finds a starved one in a few steps.
+ */
+export function predictedStart(last: WarmStart, before: WarmStart | undefined): WarmStart {
+  const open = { ...last, feedStates: last.feedStates.map(() => 'open' as const), crossover: new Float64Array(last.crossover.length) };
+  if (!before || before.splitStates.some((state, s) => state !== last.splitStates[s])) return open;
+  const extrapolate = (a: Float64Array, b: Float64Array) => a.map((v, k) => 2 * v - b[k]!);
+  const holdup = extrapolate(last.holdup, before.holdup).map((h, c) => (h > 0 && h < 1 ? h : last.holdup[c]!));
+  return { ...open, pressure: extrapolate(last.pressure, before.pressure), holdup, leak: extrapolate(last.leak, before.leak) };
+}
+
+/**
+ * Solves the points in order. Each starts from the prediction of the last two converged
+ * solutions of the line (`seed` stands before the first); a point whose warm start fails is
+ * tried once more from a cold start, unless the point before it failed too (a region where the
+ * solver does not converge costs one attempt per point, not two).
+ */
+export function sweepLine(
+  chip: Chip,
+  spec: WindowSpec,
+  line: readonly LinePoint[],
+  seed: WarmStart | undefined,
+  onPoint?: (point: WindowPoint, warm: WarmStart | undefined) => void,
+): LineResult {
+  const xs = axisValues(spec.x);
+  const ys = axisValues(spec.y);
+  const solver = { ...SWEEP_SOLVER, ...spec.solver };
+  const points: WindowPoint[] = [];
+  const warm: Array<WarmStart | undefined> = [];
+  let last = seed;
+  // The solution before `last`, while both are this line's and neighbours (for the secant).
+  let before: WarmStart | undefined;
+  let previousFailed = false;
+  for (const { i, j } of line) {
+    const variant = withSettings(chip, [[spec.x.setting, xs[i]!], [spec.y.setting, ys[j]!]]);
+    let solved = solveChip(variant, solver, last && predictedStart(last, before));
+    let attempts = 1;
+    if (!solved.result.converged && last !== undefined && !previousFailed) {
+      solved = solveChip(variant, solver);
+      attempts = 2;
+    }
+    if (solved.result.converged) {
+      before = previousFailed || last === seed ? undefined : last;
+      last = warmStartFrom(solved);
+    } else {
+      before = undefined;
+    }
+    previousFailed = !solved.result.converged;
+    const point = describePoint(variant, solved, { i, j, x: xs[i]!, y: ys[j]! }, attempts);
+    points.push(point);
+    warm.push(last);
+    onPoint?.(point, last);
+  }
+  return { points, warm };
+}
+
+export interface WindowOptions {
+  /** Worker threads; 1 sweeps in this thread. Default 1. */
+  workers?: number;
+  /** Warm start for the first grid point (e.g. the chip's solution as given). */
+  seed?: WarmStart;
+  /** Called after each solved point with the number done and the total. */
+  onProgress?: (done: number, total: number) => void;
+}
+
+/** What a worker is told once, at start. */
+export interface SweepWorkerData {
+  chip: Chip;
+  spec: WindowSpec;
+}
+
+/** Messages to a worker: a line to sweep. */
+export interface SweepJob {
+  id: number;
+  line: LinePoint[];
+  seed?: WarmStart;
+  /** Send each point's warm start back as it is solved (the first column seeds the rows). */
+  stream: boolean;
+}
+
+/** Messages from a worker. */
+export type SweepMessage =
+  | { kind: 'point'; id: number; point: WindowPoint; warm?: WarmStart }
+  | { kind: 'done'; id: number }
+  | { kind: 'error'; message: string };
+
+export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOptions = {}): Promise<WindowMap> {
+  checkAxis(spec.x, settingName(spec.x.setting));
+  checkAxis(spec.y, settingName(spec.y.setting));
+  if (settingName(spec.x.setting) === settingName(spec.y.setting)) throw new StratiflowError('bad-option', 'the two swept settings must differ');
+  if (spec.x.setting.node === spec.y.setting.node) throw new StratiflowError('bad-option', `both swept settings act on node "${spec.x.setting.node}"; choose settings of two different nodes`);
+  const nx = spec.x.steps;
+  const ny = spec.y.steps;
+  const total = nx * ny;
+  const grid: WindowPoint[][] = Array.from({ length: ny }, () => new Array<WindowPoint>(nx));
+  let done = 0;
+  const record = (p: WindowPoint) => {
+    grid[p.j]![p.i] = p;
+    options.onProgress?.(++done, total);
+  };
+  const column: LinePoint[] = Array.from({ length: ny }, (_, j) => ({ i: 0, j }));
+  const row = (j: number): LinePoint[] => Array.from({ length: nx - 1 }, (_, k) => ({ i: k + 1, j }));
+  const workers = Math.max(1, Math.min(options.workers ?? 1, ny));
+
+  if (workers === 1) {
+    const first = sweepLine(chip, spec, column, options.seed, record);
+    for (let j = 0; j < ny; j++) sweepLine(chip, spec, row(j), first.warm[j], record);
+  } else {
+    await sweepInWorkers(chip, spec, workers, column, row, options.seed, record);
+  }
+
+  const counts = Object.fromEntries(POINT_CLASSES.map((c) => [c, 0])) as Record<PointClass, number>;
+  for (const p of grid.flat()) counts[p.class]++;
+  const splits = chip.nodes.filter((n) => n.kind === 'split').length;
+  return { spec, xValues: axisValues(spec.x), yValues: axisValues(spec.y), points: grid, counts, splits, maxPressure: chip.maxPressure };
+}
+
+/**
+ * Where the worker's code is: beside this module, compiled (.js) or, when this module runs from
+ * its TypeScript source (tests, benchmarks), the source, loaded through tsx.
+ */
+function startWorker(data: SweepWorkerData): Worker {
+  const fromSource = import.meta.url.endsWith('.ts');
+  const entry = new URL(fromSource ? './sweepWorker.ts' : './sweepWorker.js', import.meta.url);
+  if (!fromSource) return new Worker(entry, { workerData: data });
+  const loader = import.meta.resolve('tsx/esm/api');
+  const bootstrap = `import(${JSON.stringify(loader)}).then((tsx) => { tsx.register(); return import(${JSON.stringify(entry.href)}); })`;
+  return new Worker(bootstrap, { eval: true, workerData: data });
+}
+
+/**
+ * Worker 0 sweeps the first column and streams each point's warm start back; every row is
+ * queued as soon as its first-column point is known and taken by the next idle worker.
+ */
+function sweepInWorkers(
+  chip: Chip,
+  spec: WindowSpec,
+  count: number,
+  column: LinePoint[],
+  row: (j: number) => LinePoint[],
+  seed: WarmStart | undefined,
+  record: (p: WindowPoint) => void,
+): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const pool = Array.from({ length: count }, () => startWorker({ chip, spec }));
+    const idle: Worker[] = pool.slice(1);
+    const queue: SweepJob[] = [];
+    const ny = column.length;
+    let rowsLeft = ny;
+    let settled = false;
+    const finish = (error?: Error) => {
+      if (settled) return;
+      settled = true;
+      for (const w of pool) void w.terminate();
+      if (error) reject(error);
+      else resolve();
+    };
+    const dispatch = () => {
+      while (idle.length > 0 && queue.length > 0) idle.shift()!.postMessage(queue.shift()!);
+    };
+    for (const worker of pool) {
+      worker.on('message', (message: SweepMessage) => {
+        if (message.kind === 'error') return finish(new Error(message.message));
+        if (message.kind === 'point') {
+          record(message.point);
+          if (message.id === -1) {
+            // A first-column point: its row can start.
+            if (spec.x.steps > 1) queue.push({ id: message.point.j, line: row(message.point.j), seed: message.warm, stream: false });
+            dispatch();
+          }
+          return;
+        }
+        if (message.id !== -1 && --rowsLeft === 0) return finish();
+        idle.push(worker);
+        dispatch();
+      });
+      worker.on('error', (error) => finish(error));
+      worker.on('exit', (code) => {
+        if (code !== 0) finish(new Error(`a sweep worker stopped with exit code ${code}`));
+      });
+    }
+    pool[0]!.postMessage({ id: -1, line: column, seed, stream: true } satisfies SweepJob);
+    if (ny === 0) finish();
+  });
+}
