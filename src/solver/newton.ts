@@ -15,7 +15,7 @@
  *   every free port conserves volume: Σ inflow − Σ outflow + injection = 0.
  * Per-phase conservation follows because compositions are carried with the flow.
  */
-import { twoLayerFlow } from '../physics/twoLayer.js';
+import { twoLayerFlow, type TwoLayerFlow } from '../physics/twoLayer.js';
 import { HoldupTable } from '../physics/section.js';
 import { TripletBuilder, factorize, SingularMatrixError, SparseLuSymbolic, type LinearFactor, type SparseMatrix } from './linear.js';
 import { SOLVER_DEFAULTS, type SolverOptions } from './defaults.js';
@@ -130,6 +130,18 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   const compositionOf = (v: Float64Array, port: number) => {
     const u = unknownOf[port]!;
     return u >= 0 ? v[compAt + u]! : ports[port]!.supplies ?? ports[port]!.nominal;
+  };
+
+  // The last cross-section evaluation of each contactor (and of its viscosity difference
+  // quotient): a starved contactor, or a line search that leaves a holdup alone, asks again for
+  // the same one, and thin layers are the dear end of the series.
+  const laneMemo: Array<{ alpha: number; muN: number; muF: number; result: TwoLayerFlow } | undefined> = new Array(2 * contactors.length);
+  const laneFlows = (slot: number, el: ContactorElement, alpha: number, muN: number, muF: number): TwoLayerFlow => {
+    const memo = laneMemo[slot];
+    if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF) return memo.result;
+    const result = twoLayerFlow({ across: el.across, along: el.along, holdup: alpha, muA: muN, muB: muF });
+    laneMemo[slot] = { alpha, muN, muF, result };
+    return result;
   };
 
   const plainFlow = new Float64Array(plains.length);
@@ -251,7 +263,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       const xf = compositionOf(v, upFar);
       const muN = mix(xn);
       const muF = mix(xf);
-      const r = twoLayerFlow({ across: el.across, along: el.along, holdup: alpha, muA: muN, muB: muF });
+      const r = laneFlows(c, el, alpha, muN, muF);
       const qn = (dn * r.kA) / L;
       const qf = (df * r.kB) / L;
       laneFlow[2 * c] = qn;
@@ -267,7 +279,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
       let dkBdMuF = 0;
       if (withComposition && jacobian) {
         const h = 1e-6;
-        const rp = twoLayerFlow({ across: el.across, along: el.along, holdup: alpha, muA: muN * (1 + h), muB: muF });
+        const rp = laneFlows(contactors.length + c, el, alpha, muN * (1 + h), muF);
         dkAdMuN = (rp.kA - r.kA) / (muN * h);
         dkBdMuN = (rp.kB - r.kB) / (muN * h);
         dkAdMuF = (-r.kA - muN * dkAdMuN) / muF;
@@ -402,8 +414,6 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   };
 
   let iterations = 0;
-  let symbolic: SparseLuSymbolic | undefined;
-  let symbolicPattern: SparseMatrix | undefined;
   const newtonStep = (freezeHoldup: boolean): Float64Array => {
     evaluate(x, true, freezeHoldup);
     const matrix = builder.toCsc();
@@ -419,32 +429,11 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     let typical = 0;
     for (let i = 0; i < alphaAt; i++) typical = Math.max(typical, rowScale[i]!);
     for (let i = 0; i < n; i++) if (!(rowScale[i]! > 0)) rowScale[i] = typical > 0 ? typical : 1;
-    let factor: LinearFactor;
-    if (opt.linear === 'dense') factor = factorize(matrix, 'dense');
-    else {
-      if (!symbolic || !samePattern(symbolicPattern!, matrix)) {
-        symbolic = new SparseLuSymbolic(matrix);
-        symbolicPattern = matrix;
-      }
-      factor = symbolic.factor(matrix);
-    }
     const rhs = new Float64Array(n);
     for (let i = 0; i < n; i++) rhs[i] = -F[i]!;
-    const step = factor.solve(rhs);
-    // One step of iterative refinement (Wilkinson; Higham, Accuracy and Stability of Numerical
-    // Algorithms, 2nd ed., 2002, §12.1): chips whose feeds are far more conductive than their
-    // contactors give badly scaled systems, and the refined step is markedly better there.
-    const r = rhs.slice();
-    for (let j = 0; j < n; j++) {
-      const xj = step[j]!;
-      if (xj === 0) continue;
-      for (let k = matrix.colPtr[j]!; k < matrix.colPtr[j + 1]!; k++) r[matrix.rowIdx[k]!] -= matrix.values[k]! * xj;
-    }
-    const correction = factor.solve(r);
-    for (let i = 0; i < n; i++) step[i] += correction[i]!;
-    return step;
+    if (opt.linear === 'dense') return refinedSolve(matrix, factorize(matrix, 'dense'), rhs, 1)!;
+    return sparseNewtonSolve(matrix, rhs);
   };
-
   const unsettled: string[] = [];
   const finish = (converged: boolean, rounds: number, message?: string): NetworkSolution => {
     evaluate(x, false, false);
@@ -628,6 +617,70 @@ function reopenFeeds(x: Float64Array, alphaAt: number, crossAt: number, feedStat
     }
   });
   return count;
+}
+
+/**
+ * The last sparse factorisation, kept across iterations and across solves of chips with the same
+ * topology (sweeps, tolerance samples). A Jacobian changes little from one iterate or grid point
+ * to the next, so the old factors serve as the preconditioner of a few refinement sweeps against
+ * the current matrix; when those do not bring the linear residual below LINEAR_ACCURACY the
+ * matrix is factored afresh. The Newton step is therefore always accurate to that level.
+ */
+let lastFactor: { pattern: SparseMatrix; symbolic: SparseLuSymbolic; factor: LinearFactor; uses: number } | undefined;
+/** Relative linear residual that a Newton step must reach. */
+const LINEAR_ACCURACY = 1e-10;
+/** Refinement sweeps tried with stale factors, and uses of one factorisation at most. */
+const STALE_SWEEPS = 4;
+const STALE_USES = 8;
+
+function sparseNewtonSolve(matrix: SparseMatrix, rhs: Float64Array): Float64Array {
+  if (lastFactor && lastFactor.uses < STALE_USES && samePattern(lastFactor.pattern, matrix)) {
+    lastFactor.uses++;
+    const step = refinedSolve(matrix, lastFactor.factor, rhs, STALE_SWEEPS, LINEAR_ACCURACY);
+    if (step) return step;
+  }
+  const symbolic = lastFactor && samePattern(lastFactor.pattern, matrix) ? lastFactor.symbolic : new SparseLuSymbolic(matrix);
+  const factor = symbolic.factor(matrix);
+  lastFactor = { pattern: matrix, symbolic, factor, uses: 0 };
+  // One sweep of iterative refinement (Wilkinson; Higham, Accuracy and Stability of Numerical
+  // Algorithms, 2nd ed., 2002, §12.1): chips whose feeds are far more conductive than their
+  // contactors give badly scaled systems, and the refined step is markedly better there.
+  return refinedSolve(matrix, factor, rhs, 1)!;
+}
+
+/**
+ * x with matrix·x ≈ rhs from `factor` (of this matrix or of a nearby one) and up to `sweeps`
+ * refinement sweeps x += factor⁻¹(rhs − matrix·x). With `accuracy`, returns undefined unless
+ * ‖rhs − matrix·x‖∞ ≤ accuracy·‖rhs‖∞ at the end.
+ */
+function refinedSolve(matrix: SparseMatrix, factor: LinearFactor, rhs: Float64Array, sweeps: number, accuracy?: number): Float64Array | undefined {
+  const n = rhs.length;
+  const step = factor.solve(rhs);
+  let scale = 0;
+  for (let i = 0; i < n; i++) scale = Math.max(scale, Math.abs(rhs[i]!));
+  const residual = (): Float64Array => {
+    const r = rhs.slice();
+    for (let j = 0; j < n; j++) {
+      const xj = step[j]!;
+      if (xj === 0) continue;
+      for (let k = matrix.colPtr[j]!; k < matrix.colPtr[j + 1]!; k++) r[matrix.rowIdx[k]!] -= matrix.values[k]! * xj;
+    }
+    return r;
+  };
+  for (let sweep = 0; sweep < sweeps; sweep++) {
+    const r = residual();
+    let worst = 0;
+    for (let i = 0; i < n; i++) worst = Math.max(worst, Math.abs(r[i]!));
+    if (accuracy !== undefined && worst <= accuracy * scale) return step;
+    if (!Number.isFinite(worst)) return undefined;
+    const correction = factor.solve(r);
+    for (let i = 0; i < n; i++) step[i] += correction[i]!;
+  }
+  if (accuracy === undefined) return step;
+  const r = residual();
+  let worst = 0;
+  for (let i = 0; i < n; i++) worst = Math.max(worst, Math.abs(r[i]!));
+  return worst <= accuracy * scale ? step : undefined;
 }
 
 function samePattern(a: SparseMatrix, b: SparseMatrix): boolean {
