@@ -13,7 +13,8 @@
  * spec and result types. The model lives in ./toleranceModel.ts, the statistics in ./toleranceSummary.ts.
  * No file I/O; the caller formats and writes.
  */
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
+import { startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom } from './chip.js';
 import { observableLayout, observe, planTolerance, runJob, type Job, type JobContext, type Outcome, type Slot, type TolerancePlan, type ToleranceSpec } from './toleranceModel.js';
 import { summariseTolerance, type SummaryInput, type ToleranceResult } from './toleranceSummary.js';
@@ -37,17 +38,8 @@ export interface WorkerBatch {
 
 export type WorkerReply = { kind: 'done'; id: number; outcomes: Outcome[] } | { kind: 'error'; message: string };
 
-/**
- * The worker's code beside this module: compiled (.js), or, when this module runs from its
- * TypeScript source (tests, benchmarks), the source loaded through tsx.
- */
 function startWorker(context: JobContext): Worker {
-  const fromSource = import.meta.url.endsWith('.ts');
-  const entry = new URL(fromSource ? './toleranceWorker.ts' : './toleranceWorker.js', import.meta.url);
-  if (!fromSource) return new Worker(entry, { workerData: context });
-  const loader = import.meta.resolve('tsx/esm/api');
-  const bootstrap = `import(${JSON.stringify(loader)}).then((tsx) => { tsx.register(); return import(${JSON.stringify(entry.href)}); })`;
-  return new Worker(bootstrap, { eval: true, workerData: context });
+  return startWorkerBeside(import.meta.url, 'toleranceWorker', context);
 }
 
 /** Runs every job; outcomes come back in job order whatever the number of threads. */

@@ -17,7 +17,8 @@
  * worker threads (./sweepWorker.ts) that share them.
  * No file I/O; no drawing.
  */
-import { Worker } from 'node:worker_threads';
+import type { Worker } from 'node:worker_threads';
+import { startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
 import type { WarmStart } from '../solver/newton.js';
 import type { Network } from '../network/assemble.js';
@@ -384,17 +385,8 @@ export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOpt
   return { spec, xValues: axisValues(spec.x), yValues: axisValues(spec.y), points: grid, counts, splits, maxPressure: chip.maxPressure };
 }
 
-/**
- * Where the worker's code is: beside this module, compiled (.js) or, when this module runs from
- * its TypeScript source (tests, benchmarks), the source, loaded through tsx.
- */
 function startWorker(data: SweepWorkerData): Worker {
-  const fromSource = import.meta.url.endsWith('.ts');
-  const entry = new URL(fromSource ? './sweepWorker.ts' : './sweepWorker.js', import.meta.url);
-  if (!fromSource) return new Worker(entry, { workerData: data });
-  const loader = import.meta.resolve('tsx/esm/api');
-  const bootstrap = `import(${JSON.stringify(loader)}).then((tsx) => { tsx.register(); return import(${JSON.stringify(entry.href)}); })`;
-  return new Worker(bootstrap, { eval: true, workerData: data });
+  return startWorkerBeside(import.meta.url, 'sweepWorker', data);
 }
 
 /**
