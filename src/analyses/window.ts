@@ -168,7 +168,7 @@ function checkAxis(axis: SweepAxis, name: string): void {
  * has not settled in 30 Newton steps or 8 rounds of state changes from a neighbour's solution
  * is, in practice, one the solver will not settle.
  */
-export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxNewtonIterations: 30, maxStateRounds: 8 };
+export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxNewtonIterations: 15, maxStateRounds: 3 };
 
 /** Relative size below which a negative inlet flow is rounding, not backflow. */
 const BACKFLOW_THRESHOLD = 1e-9;

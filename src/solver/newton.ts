@@ -29,6 +29,8 @@ export type SplitState = 'pinned' | 'high' | 'low';
  */
 export type FeedState = 'open' | 'nearFills' | 'farFills';
 
+/** Line searches in a row that reach the shortest step before feeds are examined for starvation. */
+const STALLS_BEFORE_STATE_CHANGE = 3;
 /** A stalled iteration is accepted when every row is within this multiple of the tolerance. */
 const STALLED_ACCEPTANCE = 100;
 /** A row counts as settled within this multiple of its rounding floor. */
@@ -489,7 +491,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     for (let round = 1; round <= opt.maxStateRounds; round++) {
       let settled = false;
       let stalls = 0;
-      for (let k = 0; k < opt.maxNewtonIterations && stalls < 4; k++) {
+      for (let k = 0; k < opt.maxNewtonIterations && stalls < STALLS_BEFORE_STATE_CHANGE; k++) {
         anchor.set(x);
         evaluate(x, false, false);
         const reference = flowReference();
@@ -537,7 +539,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
           continue;
         }
         unsettled.push(...worstPorts(F, unknownOf, ports, compAt, 5));
-        return finish(false, round, stalls >= 4 ? 'Newton iteration stalled (no step reduces the residual)' : `Newton iteration did not settle within ${opt.maxNewtonIterations} steps`);
+        return finish(false, round, stalls >= STALLS_BEFORE_STATE_CHANGE ? 'Newton iteration stalled (no step reduces the residual)' : `Newton iteration did not settle within ${opt.maxNewtonIterations} steps`);
       }
       let changed = false;
       if (!withComposition) {
