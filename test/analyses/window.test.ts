@@ -14,7 +14,7 @@ import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { axisValues, parseSetting, settingValue, windowMap, withSettings, type PointClass } from '../../src/analyses/window.js';
-import { targetCrossings } from '../../src/cli/window.js';
+import { targetCrossings } from '../../src/render/windowMap.js';
 import { main } from '../../src/cli/main.js';
 
 /**
