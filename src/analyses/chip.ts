@@ -248,9 +248,8 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     const reynolds = Math.max((A.density * Math.abs(velocityA) * dh) / A.viscosity, (B.density * Math.abs(velocityB) * dh) / B.viscosity);
     const tension = chip.interfacialTension;
     const capillary = tension ? Math.max(A.viscosity * Math.abs(velocityA), B.viscosity * Math.abs(velocityB)) / tension : null;
-    const span = el.section.orientation === 'side' ? el.section.depth : el.section.width;
+    const span = spannedDimension(el.segment);
     const bond = tension ? (Math.abs(A.density - B.density) * GRAVITY * span ** 2) / tension : null;
-    void spannedDimension;
     contactorRows.push({
       index: c + 1,
       id: el.segment.id,
