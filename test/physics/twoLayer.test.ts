@@ -117,7 +117,6 @@ describe('twoLayerFlow with equal viscosities', () => {
 
   it('gives each phase the single-phase flow through its strip, expanded independently, to 1e-11 (along/across 1e-4 to 1e3)', () => {
     // References: stripFlowTransposed (L ≥ S) and stripFlowDirect (L < S) above, from White 2006, §3-3.3 (from memory).
-    // Measured today: worst 5e-12 (along/across 1e3, holdup 0.01); 1.8e-12 for along/across ≤ 1e-2.
     const S = 1;
     for (const e of [-4, -2, -1, -0.5, 0, 0.5, 1, 2, 3]) {
       const L = 10 ** e;
