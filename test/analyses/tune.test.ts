@@ -14,15 +14,9 @@ import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { parseSetting } from '../../src/analyses/window.js';
 import { simplexMaximise, targetValue, tuneChip, type Target } from '../../src/analyses/tune.js';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 import { StratiflowError } from '../../src/errors.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 const uLmin = 1e-9 / 60;
 
@@ -152,7 +146,7 @@ describe('stratiflow tune', () => {
   it('writes a tuned layout that, loaded and solved, meets the targets to 1e-8, and prints the cautions', async () => {
     const file = join(dir, 'ladder.yaml');
     writeFileSync(file, `# a demo chip\n${stringify(ladderLayout({ contactors: 4 }))}`);
-    const { code, out, err } = await run(['tune', file, '--throughput', '16uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure=0:5kPa']);
+    const { code, out, err } = await runCli(['tune', file, '--throughput', '16uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure=0:5kPa']);
     expect(err).toBe('');
     expect(code).toBe(0);
     expect(out).toMatch(/tuned layout written to .*ladder-tuned\.yaml/);
@@ -168,11 +162,11 @@ describe('stratiflow tune', () => {
   it('ends an infeasible target with one line and exit status 3', async () => {
     const file = join(dir, 'ladder16.yaml');
     writeFileSync(file, stringify(ladderLayout({ contactors: 16 })));
-    const spread = await run(['tune', file, '--throughput', '64uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure']);
+    const spread = await runCli(['tune', file, '--throughput', '64uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure']);
     expect(spread.code).toBe(3);
     expect(spread.err.trim().split('\n')).toHaveLength(1);
     expect(spread.err).toMatch(/^stratiflow: .*ladder16\.yaml: the contactors spread more than the split window allows/);
-    const rating = await run(['tune', file, '--throughput', '60mL/min', '--ratio', '0.18']);
+    const rating = await runCli(['tune', file, '--throughput', '60mL/min', '--ratio', '0.18']);
     expect(rating.code).toBe(3);
     expect(rating.err).toMatch(/above the chip's pressure rating of 300 kPa/);
     expect(rating.out).toBe('');

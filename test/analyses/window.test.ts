@@ -15,7 +15,7 @@ import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { axisValues, parseSetting, settingValue, windowMap, withSettings, type PointClass } from '../../src/analyses/window.js';
 import { targetCrossings } from '../../src/render/windowMap.js';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 
 /**
  * Worked example: one contactor between an A inlet and a B inlet held at pressures p_A, p_B and
@@ -221,18 +221,11 @@ describe('stratiflow window', () => {
   const file = join(dir, 'one.yaml');
   writeFileSync(file, stringify(singleContactor()));
 
-  async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-    let out = '';
-    let err = '';
-    const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-    return { code, out, err };
-  }
-
   it('writes the map, the grid as CSV and JSON, and a summary with the cautions', async () => {
     const svg = join(dir, 'map.svg');
     const csv = join(dir, 'map.csv');
     const json = join(dir, 'map.json');
-    const { code, out, err } = await run(['window', file, '--x-range', '6:9kPa', '--x-steps', '13', '--y-range', '6kPa:9.5kPa', '--y-steps', '15', '--workers', '1', '--svg', svg, '--csv', csv, '--json', json]);
+    const { code, out, err } = await runCli(['window', file, '--x-range', '6:9kPa', '--x-steps', '13', '--y-range', '6kPa:9.5kPa', '--y-steps', '15', '--workers', '1', '--svg', svg, '--csv', csv, '--json', json]);
     expect(err).toBe('');
     expect(code).toBe(0);
     expect(XMLValidator.validate(readFileSync(svg, 'utf8'))).toBe(true);
@@ -264,7 +257,7 @@ describe('stratiflow window', () => {
   });
 
   it('refuses a range whose ends are the wrong way round, naming the option', async () => {
-    const { code, err } = await run(['window', file, '--x-range', '9kPa:6kPa', '--y-range', '6kPa:9kPa']);
+    const { code, err } = await runCli(['window', file, '--x-range', '9kPa:6kPa', '--y-range', '6kPa:9kPa']);
     expect(code).toBe(2);
     expect(err).toMatch(/--x-range: the first end must be below the second/);
   });

@@ -6,18 +6,12 @@ import { existsSync, mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { XMLValidator } from 'fast-xml-parser';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 describe('stratiflow extract on layouts/dye-octanol-8.yaml', () => {
   it('prints JSON whose chip yield lies between zero and the one-stage equilibrium yield', async () => {
-    const { code, out } = await run(['extract', 'layouts/dye-octanol-8.yaml', '--json']);
+    const { code, out } = await runCli(['extract', 'layouts/dye-octanol-8.yaml', '--json']);
     expect(code).toBe(0);
     expect(out).not.toMatch(/NaN|Infinity/);
     const { extraction } = JSON.parse(out);
@@ -35,7 +29,7 @@ describe('stratiflow extract on layouts/dye-octanol-8.yaml', () => {
 
   it('writes the report, the drawing and the charts with --out', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'sf-extract-'));
-    const { code } = await run(['extract', 'layouts/dye-octanol-8.yaml', '--out', dir]);
+    const { code } = await runCli(['extract', 'layouts/dye-octanol-8.yaml', '--out', dir]);
     expect(code).toBe(0);
     for (const name of ['report.html', 'chip.svg']) expect(existsSync(join(dir, name))).toBe(true);
     expect(XMLValidator.validate(readFileSync(join(dir, 'chip.svg'), 'utf8'))).toBe(true);
@@ -43,7 +37,7 @@ describe('stratiflow extract on layouts/dye-octanol-8.yaml', () => {
   });
 
   it('joins the extraction to solve --json when the layout has a solute', async () => {
-    const { code, out } = await run(['solve', 'layouts/dye-octanol-8.yaml', '--json']);
+    const { code, out } = await runCli(['solve', 'layouts/dye-octanol-8.yaml', '--json']);
     expect(code).toBe(0);
     const json = JSON.parse(out);
     expect(json.converged).toBe(true);

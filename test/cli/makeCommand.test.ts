@@ -7,16 +7,10 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parse } from 'yaml';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 import { loadLayout } from '../../src/layout/load.js';
 import { solveChip } from '../../src/analyses/chip.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 const dir = mkdtempSync(join(tmpdir(), 'stratiflow-make-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -35,7 +29,7 @@ describe('stratiflow make', () => {
       const file = join(dir, c.name);
 
       it('writes a layout file that loads and validates', async () => {
-        const { code, err } = await run(['make', ...c.args, '--out', file]);
+        const { code, err } = await runCli(['make', ...c.args, '--out', file]);
         expect(err).toBe('');
         expect(code).toBe(0);
         const text = readFileSync(file, 'utf8');
@@ -56,7 +50,7 @@ describe('stratiflow make', () => {
         const { result } = solveChip(loadLayout(file));
         expect(result.converged, `${result.message ?? ''} ${result.unsettled.join(', ')}`).toBe(true);
         expect(result.contactors).toHaveLength(c.contactors);
-        const { code, out } = await run(['solve', file, '--json']);
+        const { code, out } = await runCli(['solve', file, '--json']);
         expect(code).toBe(0);
         expect(JSON.parse(out).converged).toBe(true);
       });
@@ -64,14 +58,14 @@ describe('stratiflow make', () => {
   }
 
   it('prints the layout as YAML on standard output without --out', async () => {
-    const { code, out } = await run(['make', 'tree', '--levels', '1']);
+    const { code, out } = await runCli(['make', 'tree', '--levels', '1']);
     expect(code).toBe(0);
     const layout = parse(out);
     expect(layout.nodes.filter((n: { type: string }) => n.type === 'merge')).toHaveLength(2);
   });
 
   it('rejects a contactor count that is not a whole number, in one line with exit status 2', async () => {
-    const { code, out, err } = await run(['make', 'ladder', '--contactors', '2.5']);
+    const { code, out, err } = await runCli(['make', 'ladder', '--contactors', '2.5']);
     expect(code).toBe(2);
     expect(out).toBe('');
     expect(err.trim().split('\n')).toHaveLength(1);

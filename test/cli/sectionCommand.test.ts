@@ -7,21 +7,15 @@ import { mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { XMLValidator } from 'fast-xml-parser';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 import { flowFractionAt } from '../../src/physics/section.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 const BASE = ['section', '--width', '200um', '--depth', '50um', '--mu-a', '6.5 mPa.s', '--mu-b', '1.9cP'];
 
 describe('stratiflow section', () => {
   it('prints one JSON object with holdup, flowFraction and qPerGradient in SI units', async () => {
-    const { code, out } = await run([...BASE, '--flow-fraction', '0.4', '--json']);
+    const { code, out } = await runCli([...BASE, '--flow-fraction', '0.4', '--json']);
     expect(code).toBe(0);
     const json = JSON.parse(out);
     expect(json.flowFraction).toBe(0.4);
@@ -34,13 +28,13 @@ describe('stratiflow section', () => {
 
   it('gives the same flow fraction for equal viscosities at holdup 0.5 in either orientation (common practice)', async () => {
     for (const orientation of ['side', 'stacked']) {
-      const { out } = await run(['section', '--width', '300um', '--depth', '40um', '--mu-a', '1mPa.s', '--mu-b', '1mPa.s', '--holdup', '0.5', '--orientation', orientation, '--json']);
+      const { out } = await runCli(['section', '--width', '300um', '--depth', '40um', '--mu-a', '1mPa.s', '--mu-b', '1mPa.s', '--holdup', '0.5', '--orientation', orientation, '--json']);
       expect(JSON.parse(out).flowFraction).toBeCloseTo(0.5, 12);
     }
   });
 
   it('prints a readable summary with units without --json', async () => {
-    const { code, out } = await run([...BASE, '--holdup', '0.5', '--flow', '10 uL/min']);
+    const { code, out } = await runCli([...BASE, '--holdup', '0.5', '--flow', '10 uL/min']);
     expect(code).toBe(0);
     expect(out).toMatch(/holdup of A/);
     expect(out).toMatch(/mm\/s/);
@@ -49,7 +43,7 @@ describe('stratiflow section', () => {
 
   it('writes well-formed SVG charts for --plot and --field', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'sf-section-'));
-    const { code } = await run([...BASE, '--holdup', '0.6', '--plot', join(dir, 'p.svg'), '--field', join(dir, 'f.svg')]);
+    const { code } = await runCli([...BASE, '--holdup', '0.6', '--plot', join(dir, 'p.svg'), '--field', join(dir, 'f.svg')]);
     expect(code).toBe(0);
     for (const name of ['p.svg', 'f.svg']) {
       const svg = readFileSync(join(dir, name), 'utf8');
@@ -80,7 +74,7 @@ describe('stratiflow section', () => {
         if (at >= 0) args.splice(at, 2, change[0]!, change[1]!);
         else args.push(change[0]!, change[1]!);
       }
-      const { code, out, err } = await run(args);
+      const { code, out, err } = await runCli(args);
       expect(code).toBe(2);
       expect(out).toBe('');
       expect(err.trim().split('\n')).toHaveLength(1);

@@ -8,15 +8,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { stringify } from 'yaml';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 import { singleContactorLayout, wellDesignedLadder } from '../support/layouts.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 const dir = mkdtempSync(join(tmpdir(), 'stratiflow-solve-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -73,7 +67,7 @@ describe('stratiflow solve --json', () => {
   const file = write('pinned.yaml', singleContactorLayout({ outletPressure: { A: 0, B: 150 } }));
 
   it('prints one JSON object with converged, iterations, nodes, segments and splits', async () => {
-    const { code, out, err } = await run(['solve', file, '--json']);
+    const { code, out, err } = await runCli(['solve', file, '--json']);
     expect(err).toBe('');
     expect(code).toBe(0);
     expect(out.trim().startsWith('{')).toBe(true);
@@ -89,7 +83,7 @@ describe('stratiflow solve --json', () => {
   it('writes no NaN and no Infinity anywhere, and only finite numbers', async () => {
     const leaking = write('leaking.json', singleContactorLayout({ outletPressure: { A: 0, B: 1000 } }));
     for (const f of [file, leaking]) {
-      const { code, out } = await run(['solve', f, '--json']);
+      const { code, out } = await runCli(['solve', f, '--json']);
       expect(code).toBe(0);
       expect(out).not.toMatch(/NaN|Infinity/);
       for (const [path, value] of numbersIn(JSON.parse(out))) expect(Number.isFinite(value), path).toBe(true);
@@ -98,7 +92,7 @@ describe('stratiflow solve --json', () => {
   });
 
   it('reports a leaking split with its state, the window limit it sits at and the outlet purities', async () => {
-    const { out } = await run(['solve', write('leak.yaml', singleContactorLayout({ outletPressure: { A: 0, B: 1000 } })), '--json']);
+    const { out } = await runCli(['solve', write('leak.yaml', singleContactorLayout({ outletPressure: { A: 0, B: 1000 } })), '--json']);
     const split = JSON.parse(out).splits[0];
     expect(split.state).toBe('leaking-B-to-A');
     expect(split.pressureDifference).toBeCloseTo(200, 6);
@@ -108,8 +102,8 @@ describe('stratiflow solve --json', () => {
 
   it('gives the same numbers with --linear dense', async () => {
     const ladder = write('ladder.yaml', wellDesignedLadder(4, { manifold: { width: 1e-3, depth: 100e-6 } }));
-    const sparse = JSON.parse((await run(['solve', ladder, '--json'])).out);
-    const dense = JSON.parse((await run(['solve', ladder, '--json', '--linear', 'dense'])).out);
+    const sparse = JSON.parse((await runCli(['solve', ladder, '--json'])).out);
+    const dense = JSON.parse((await runCli(['solve', ladder, '--json', '--linear', 'dense'])).out);
     expect(dense.converged).toBe(true);
     const scale = Math.max(...sparse.segments.map((s: { flowA: number; flowB: number }) => Math.abs(s.flowA) + Math.abs(s.flowB)));
     sparse.segments.forEach((s: { flowA: number; flowB: number }, i: number) => {
@@ -119,7 +113,7 @@ describe('stratiflow solve --json', () => {
   });
 
   it('rejects an unknown linear solver in one line with exit status 2', async () => {
-    const { code, out, err } = await run(['solve', file, '--linear', 'magic']);
+    const { code, out, err } = await runCli(['solve', file, '--linear', 'magic']);
     expect(code).toBe(2);
     expect(out).toBe('');
     expect(err.trim().split('\n')).toHaveLength(1);
@@ -129,7 +123,7 @@ describe('stratiflow solve --json', () => {
 
 describe('stratiflow solve', () => {
   it('prints the per-contactor table as text by default', async () => {
-    const { code, out } = await run(['solve', write('text.yaml', singleContactorLayout())]);
+    const { code, out } = await runCli(['solve', write('text.yaml', singleContactorLayout())]);
     expect(code).toBe(0);
     expect(out).toMatch(/contactor/);
     expect(out).toMatch(/\bk\b/);
@@ -138,7 +132,7 @@ describe('stratiflow solve', () => {
 
   for (const name of readdirSync(LAYOUTS).filter((f) => /\.ya?ml$|\.json$/.test(f))) {
     it(`solves the example layout ${name} and reports it converged`, async () => {
-      const { code, out, err } = await run(['solve', join(LAYOUTS, name), '--json']);
+      const { code, out, err } = await runCli(['solve', join(LAYOUTS, name), '--json']);
       expect(err).toBe('');
       expect(code).toBe(0);
       const json = JSON.parse(out);

@@ -8,16 +8,10 @@ import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { XMLValidator } from 'fast-xml-parser';
-import { main } from '../../src/cli/main.js';
+import { runCli } from '../support/cli.js';
 import { parseTolerance } from '../../src/cli/tolerance.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 
-async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  let out = '';
-  let err = '';
-  const code = await main(['node', 'stratiflow', ...args], { out: (s) => (out += s), err: (s) => (err += s) });
-  return { code, out, err };
-}
 
 function demoFiles(): { dir: string; layout: string } {
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-tolerance-'));
@@ -47,7 +41,7 @@ describe('stratiflow tolerance', () => {
     const csv = join(dir, 'samples.csv');
     const svg = join(dir, 'charts');
     const args = ['tolerance', layout, '--depth', '1%', '--depth-offset', '±2%', '--tension', '5%', '--angle', '±2deg', '--samples', '30', '--seed', '9', '--workers', '1', '--sweep', '2'];
-    const text = await run([...args, '--csv', csv, '--svg', svg]);
+    const text = await runCli([...args, '--csv', csv, '--svg', svg]);
     expect(text.code).toBe(0);
     expect(text.out).toMatch(/every split pinned/);
     expect(text.out).toMatch(/which tolerance matters most/);
@@ -63,7 +57,7 @@ describe('stratiflow tolerance', () => {
     expect(charts).toContain('contactor-leaks.svg');
     for (const name of charts) expect(XMLValidator.validate(readFileSync(join(svg, name), 'utf8'))).toBe(true);
 
-    const json = await run([...args, '--json']);
+    const json = await runCli([...args, '--json']);
     const result = JSON.parse(json.out);
     expect(result.samples).toBe(30);
     expect(result.seed).toBe(9);
@@ -76,7 +70,7 @@ describe('stratiflow tolerance', () => {
     const { dir, layout } = demoFiles();
     const spec = join(dir, 'tolerances.yaml');
     writeFileSync(spec, ['samples: 5', 'seed: 4', 'channels:', '  - group: contactor', '    depth: { each: 1% }', '  - width: { offset: ±1 um }', 'viscosityA: 3%', ''].join('\n'));
-    const { code, out } = await run(['tolerance', layout, '--spec', spec, '--mu-a', '1%', '--workers', '1', '--json']);
+    const { code, out } = await runCli(['tolerance', layout, '--spec', spec, '--mu-a', '1%', '--workers', '1', '--json']);
     expect(code).toBe(0);
     const result = JSON.parse(out);
     expect(result.samples).toBe(5);
@@ -88,16 +82,16 @@ describe('stratiflow tolerance', () => {
 
   it('fails with one line and status 2 for a tolerance without a unit, an unknown key or no tolerance at all', async () => {
     const { dir, layout } = demoFiles();
-    const bare = await run(['tolerance', layout, '--depth', '2']);
+    const bare = await runCli(['tolerance', layout, '--depth', '2']);
     expect(bare.code).toBe(2);
     expect(bare.err).toMatch(/--depth: "2" needs % or a unit/);
     const spec = join(dir, 'bad.yaml');
     writeFileSync(spec, 'chanels: []\n');
-    const unknown = await run(['tolerance', layout, '--spec', spec]);
+    const unknown = await runCli(['tolerance', layout, '--spec', spec]);
     expect(unknown.code).toBe(2);
     expect(unknown.err).toMatch(/bad\.yaml/);
     expect(unknown.err).toMatch(/chanels/);
-    const none = await run(['tolerance', layout]);
+    const none = await runCli(['tolerance', layout]);
     expect(none.code).toBe(2);
     expect(none.err).toMatch(/no tolerance given/);
   });
