@@ -16,7 +16,9 @@
  * restores the targets.
  *
  * Exports `tuneChip`, `targetValue`, `TARGET_KINDS`, `openWindows` and the types. No I/O.
- * Infeasible targets raise StratiflowError('infeasible') with the reason and what would help.
+ * Infeasible targets raise StratiflowError('infeasible') with the reason and what would help; so
+ * do targets met at settings where the chip does not work (./verdict.ts: a starved contactor,
+ * backflow, an impure outlet), since a tuned point must be one to run the chip at.
  */
 import { Matrix, SingularValueDecomposition, pseudoInverse } from 'ml-matrix';
 import { solveChip, warmStartFrom, type ChipSolution, type SolvedChip } from './chip.js';
@@ -27,6 +29,7 @@ import type { SolverOptions } from '../solver/defaults.js';
 import type { WarmStart } from '../solver/newton.js';
 import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
+import { describeProblems, operatingVerdict } from './verdict.js';
 
 export const TARGET_KINDS = ['flowA', 'flowB', 'throughput', 'ratio', 'holdup'] as const;
 export type TargetKind = (typeof TARGET_KINDS)[number];
@@ -153,9 +156,15 @@ export function tuneChip(chip: Chip, spec: TuneSpec): TuneResult {
   seeker.solves++;
   if (!solved.result.converged) throw new StratiflowError('no-convergence', `the chip solve at the tuned settings did not converge: ${solved.result.message ?? ''}`);
   checkOutcome(chip, spec, solved, at, seeker.windows, spareFreedom, seeker.bounds);
-  // Every split pinned: the real chip must have settled where the open one did.
-  const settled = solved.result.splits.every((s) => s.state === 'pinned') && spec.targets.every((t) => Math.abs(targetValue(solved.result, t.kind) / t.value - 1) <= AGREEMENT);
-  if (!settled) throw new StratiflowError('no-convergence', 'the chip solved at the tuned settings settled in another state than the one tuned (a split leaks or a feed is starved)');
+  // Success is the shared verdict: pinned splits, fed contactors, no backflow, pure outlets, within the rating.
+  const problems = operatingVerdict(solved);
+  if (problems.length > 0) {
+    const settingsText = spec.vary.map((v, l) => `${settingName(v.setting)} = ${describeValue(v.setting, at.u[l]!)}`).join(', ');
+    throw new StratiflowError('infeasible', `the targets are met at ${settingsText}, but the chip does not work there: ${describeProblems(problems)}`);
+  }
+  // The real chip must have settled where the open one did.
+  const settled = spec.targets.every((t) => Math.abs(targetValue(solved.result, t.kind) / t.value - 1) <= AGREEMENT);
+  if (!settled) throw new StratiflowError('no-convergence', 'the chip solved at the tuned settings settled in another state than the one tuned');
 
   return {
     chip: tuned,

@@ -2,7 +2,8 @@
  * Pressure window maps: sweep two driving quantities of a chip over a grid, solve the whole chip
  * at every point and classify it — every split pinned, some splits leaking (how many, which
  * way), backflow into an inlet line, over the pressure rating, or solve failed — with the
- * throughput, phase flow ratio and spread between contactors at each point.
+ * throughput, phase flow ratio and spread between contactors at each point. What counts as
+ * backflow or over the rating is decided by ./verdict.ts.
  *
  * Also the addressing of settings shared with ./tune.ts: a setting is an inlet's or outlet's
  * pressure or an inlet's flow, named `node.quantity` (`inA.pressure`, `inB.flow`). A setting's
@@ -21,10 +22,10 @@ import type { Worker } from 'node:worker_threads';
 import { startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
 import type { WarmStart } from '../solver/newton.js';
-import type { Network } from '../network/assemble.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, ChipNode } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
+import { operatingVerdict } from './verdict.js';
 
 // ---------------------------------------------------------------------------------------------
 // Settings
@@ -122,7 +123,7 @@ export interface WindowPoint {
   pinned: number;
   leakingAtoB: number;
   leakingBtoA: number;
-  /** Inlets that take liquid back, feed lines that carry the other phase backwards, merges with a starved feed. */
+  /** Inlets that take liquid back, feed lines that carry the other phase backwards, contactors running backwards or starved of a phase (./verdict.ts). */
   backflow: string[];
   /** Highest pressure anywhere in the chip, Pa. */
   maxPressure: number;
@@ -170,30 +171,6 @@ function checkAxis(axis: SweepAxis, name: string): void {
  */
 export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxNewtonIterations: 15, maxStateRounds: 3 };
 
-/** Relative size below which a negative inlet flow is rounding, not backflow. */
-const BACKFLOW_THRESHOLD = 1e-9;
-/** A line carries the other phase when its composition differs from its nominal one by more than this. */
-const FOREIGN_PHASE = 1e-6;
-
-/** The plain elements between the inlets and the merges (in their design direction). */
-function feedLines(network: Network): number[] {
-  const leaving = new Map<number, number[]>();
-  network.plains.forEach((el, e) => leaving.set(el.from, [...(leaving.get(el.from) ?? []), e]));
-  const lines: number[] = [];
-  const seen = new Set<number>();
-  const stack = network.ports.flatMap((p, i) => (p.node.kind === 'inlet' ? [i] : []));
-  while (stack.length > 0) {
-    const port = stack.pop()!;
-    if (seen.has(port) || network.ports[port]!.node.kind === 'merge') continue;
-    seen.add(port);
-    for (const e of leaving.get(port) ?? []) {
-      lines.push(e);
-      stack.push(network.plains[e]!.to);
-    }
-  }
-  return lines;
-}
-
 /** Where a point lies on the grid and in setting values. */
 export interface GridPlace {
   i: number;
@@ -204,7 +181,7 @@ export interface GridPlace {
 
 /** The class and figures of one solved chip (`chip` is the solved variant, for its rating). */
 export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, attempts = 1): WindowPoint {
-  const { result, network, raw } = solved;
+  const { result } = solved;
   const base = { ...place, attempts, iterations: result.iterations };
   if (!result.converged) {
     return {
@@ -217,16 +194,9 @@ export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, 
   const leakingAtoB = result.splits.filter((s) => s.state === 'leaking-A-to-B').length;
   const leakingBtoA = result.splits.filter((s) => s.state === 'leaking-B-to-A').length;
   const throughput = summary.throughputA + summary.throughputB;
-  const backflow = summary.inlets.filter((inlet) => inlet.flow < -BACKFLOW_THRESHOLD * throughput).map((inlet) => inlet.id);
-  for (const e of feedLines(network)) {
-    const el = network.plains[e]!;
-    if (raw.plainFlow[e]! < 0 && Math.abs(raw.plainComposition[e]! - network.ports[el.from]!.nominal) > FOREIGN_PHASE) backflow.push(el.segment.id);
-  }
-  // A starved feed: one phase fills the contactor and pushes back into the other's feed line.
-  network.contactors.forEach((el, c) => {
-    if (raw.feedStates[c] !== 'open') backflow.push(el.segment.from);
-  });
-  const over = chip.maxPressure !== undefined && summary.maxPressure > chip.maxPressure;
+  const problems = operatingVerdict({ ...solved, chip });
+  const backflow = problems.filter((p) => p.kind === 'backflow' || p.kind === 'starved').map((p) => p.id);
+  const over = problems.some((p) => p.kind === 'over-rating');
   const leaking = leakingAtoB > 0 && leakingBtoA > 0 ? 'leaking-both' : leakingAtoB > 0 ? 'leaking-A-to-B' : leakingBtoA > 0 ? 'leaking-B-to-A' : 'pinned';
   return {
     ...base,

@@ -13,7 +13,8 @@
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ExtractionResult } from '../analyses/extraction.js';
 import type { ChipNode, ChipSegment } from '../network/model.js';
-import { DISPLAY, fmt } from '../units/format.js';
+import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
+import { pressureResolution } from '../analyses/resolution.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
 import {
@@ -171,7 +172,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
   }
   for (const i of summary.inlets) items.push([`inlet ${i.id} (${i.phase})`, `${kPa(i.pressure)} kPa, ${flow(i.flow)} µL/min`]);
   for (const o of summary.outlets) items.push([`outlet ${o.id}`, `${kPa(o.pressure)} kPa; A ${flow(o.flowA)} µL/min, B ${flow(o.flowB)} µL/min`]);
-  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmt(Math.min(...result.splits.map((s) => s.margin)))} Pa` : ''}`]);
+  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(Math.min(...result.splits.map((s) => s.margin)), pressureResolution(result))} Pa` : ''}`]);
   items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
   out.push(definitionList(items));
 
@@ -207,7 +208,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
       table(
         ['split', 'contactor', 'state', 'p_B − p_A Pa', 'window Pa', 'margin Pa', 'leak µL/min', 'near outlet pure %', 'far outlet pure %'],
         result.splits.map((s) => [
-          s.id, s.contactor, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmt(s.margin), flow(s.leak),
+          s.id, s.contactor, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmtResolved(s.margin, pressureResolution(result)), flow(s.leak),
           (100 * s.purityNear).toFixed(2), (100 * s.purityFar).toFixed(2),
         ]),
         { textColumns: [0, 1, 2], rowClass: (i) => (result.splits[i]!.state !== 'pinned' ? 'leaking' : undefined) },

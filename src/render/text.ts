@@ -1,10 +1,14 @@
 /**
- * Plain-text and CSV renderings of a solved chip: the per-contactor table, the summary and the
- * warnings, plus the usual safety cautions. Exports `chipText`, `contactorCsv`, `SAFETY_NOTES`,
+ * Plain-text and CSV renderings of a solved chip: the per-contactor table (a contactor's state is
+ * its split's, or `starved of A|B` when a phase does not enter it), the summary, the operating
+ * verdict when one is given (src/analyses/verdict.ts) and the warnings, plus the usual safety
+ * cautions. An unconverged solution is headed NOT CONVERGED. Exports `chipText`, `contactorCsv`, `SAFETY_NOTES`,
  * `textTable`. Pure: data in, string out.
  */
 import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
-import { DISPLAY, fmt } from '../units/format.js';
+import { starvedPhase, type OperatingProblem } from '../analyses/verdict.js';
+import { pressureResolution } from '../analyses/resolution.js';
+import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
 
 export const SAFETY_NOTES = [
   'Pressurised chips, fittings and tubing can fail suddenly: stay below the rating of the weakest part, ramp pressures up slowly, and wear eye protection near a pressurised chip.',
@@ -34,10 +38,16 @@ export const CONTACTOR_COLUMNS: Array<{ title: string; csv: string; value: (r: C
   { title: 'tA s', csv: 'residenceA_s', value: (r) => fmt(r.residenceA) },
   { title: 'tB s', csv: 'residenceB_s', value: (r) => fmt(r.residenceB) },
   { title: 'Δp kPa', csv: 'pressureDrop_kPa', value: (r) => fmt(r.pressureDrop / 1e3) },
-  { title: 'outlet', csv: 'outletState', value: (r) => r.state },
+  { title: 'state', csv: 'state', value: contactorState },
   { title: 'pure A %', csv: 'purityA_percent', value: (r) => percent(r.purityA) },
   { title: 'pure B %', csv: 'purityB_percent', value: (r) => percent(r.purityB) },
 ];
+
+/** The split's state, unless a phase does not enter the contactor at all. */
+function contactorState(r: ContactorResult): string {
+  const starved = starvedPhase(r);
+  return starved ? `starved of ${starved}` : r.state;
+}
 
 function csvCell(s: string): string {
   return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
@@ -53,7 +63,11 @@ export function contactorCsv(solution: ChipSolution): string {
   return columnsCsv(CONTACTOR_COLUMNS, solution.contactors);
 }
 
-export function chipText(name: string, s: ChipSolution): string {
+/**
+ * The readable report of a solution. With `problems` (the operating verdict) it says whether the
+ * chip works at these settings and, if not, why, element by element.
+ */
+export function chipText(name: string, s: ChipSolution, problems?: readonly OperatingProblem[]): string {
   const out: string[] = [];
   out.push(`${name}: ${s.contactors.length} contactors — ${s.converged ? `solved in ${s.iterations} Newton steps (mass residual ${s.residual.toExponential(1)} of throughput)` : `NOT CONVERGED: ${s.message ?? ''}`}`);
   out.push('');
@@ -70,8 +84,13 @@ export function chipText(name: string, s: ChipSolution): string {
   for (const inlet of summary.inlets) out.push(`  inlet ${inlet.id} (${inlet.phase})  ${fmt(inlet.pressure / 1e3)} kPa, ${flow(inlet.flow)} µL/min`);
   for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${fmt(outlet.pressure / 1e3)} kPa, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
   const pinned = s.splits.filter((x) => x.state === 'pinned').length;
-  out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmt(Math.min(...s.splits.map((x) => x.margin)))} Pa` : ''}`);
+  out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(Math.min(...s.splits.map((x) => x.margin)), pressureResolution(s))} Pa` : ''}`);
   out.push('');
+  if (problems) {
+    out.push(problems.length === 0 ? 'verdict: the chip works at these settings (splits pinned, contactors fed, no backflow, outlets pure, within the rating)' : `verdict: the chip does NOT work at these settings (${problems.length} problem${problems.length > 1 ? 's' : ''})`);
+    for (const p of problems) out.push(`  - ${p.element}: ${p.reason}`);
+    out.push('');
+  }
   out.push(s.warnings.length ? 'warnings' : 'warnings: none');
   for (const w of s.warnings) out.push(`  - ${w}`);
   out.push('');

@@ -1,6 +1,6 @@
 /**
- * Formatting of SI values for reports and tables. Exports `fmt` and the display units used in
- * tables. Reports convert here and nowhere else.
+ * Formatting of SI values for reports and tables. Exports `fmt`, `fmtResolved`, `show` and the
+ * display units used in tables. Reports convert here and nowhere else.
  */
 
 export interface DisplayUnit {
@@ -29,6 +29,15 @@ export function fmt(value: number | null | undefined, digits = 4): string {
   const abs = Math.abs(value);
   if (abs >= 1e-3 && abs < 1e6) return Number(value.toPrecision(digits)).toString();
   return value.toExponential(digits - 1);
+}
+
+/**
+ * A value that the computation knows only to ±`resolution` (same unit): 0 when smaller than
+ * that, so that rounding noise (a margin of −1e-13 Pa) is not printed as a result.
+ */
+export function fmtResolved(value: number | null | undefined, resolution: number, digits = 4): string {
+  if (value !== null && value !== undefined && Math.abs(value) < resolution) return '0';
+  return fmt(value, digits);
 }
 
 export function show(value: number, unit: DisplayUnit, digits = 4): string {
