@@ -29,7 +29,8 @@ export function wilsonInterval(count: number, of: number, z = Z95): ProbabilityE
   const denominator = 1 + z2 / of;
   const centre = (p + z2 / (2 * of)) / denominator;
   const half = (z / denominator) * Math.sqrt((p * (1 - p)) / of + z2 / (4 * of * of));
-  return { count, of, value: p, low: Math.max(0, centre - half), high: Math.min(1, centre + half) };
+  // At no count (or every one) a limit is exactly 0 (or 1); computed, it would be rounding noise.
+  return { count, of, value: p, low: count === 0 ? 0 : Math.max(0, centre - half), high: count === of ? 1 : Math.min(1, centre + half) };
 }
 
 export interface SampleStatistics {

@@ -11,7 +11,8 @@
  * Exports `summariseTolerance` and the result types. No I/O.
  */
 import { spreadOf, type ChipSolution } from './chip.js';
-import { describeSample, sdAgrees, wilsonInterval, type ProbabilityEstimate, type SampleStatistics } from './sampleStatistics.js';
+import { describeSample, sdAgrees, wilsonInterval, Z95, type ProbabilityEstimate, type SampleStatistics } from './sampleStatistics.js';
+import { pressureResolution } from './resolution.js';
 import type { Chip } from '../network/model.js';
 import {
   CONTACTOR_BASE, SPREAD_KEYS, STATE_CODES, contactorAt, deviateVariance, observe, realiseChip, splitAt, standardDeviates,
@@ -71,13 +72,27 @@ export interface ContactorEstimate {
 export interface SourceEstimate extends ToleranceSource {
   /** Share of the variance of contactor flows (relative to each nominal flow, averaged over contactors), first order. */
   flowShare: number | null;
-  /** The same share measured on the samples: the covariance of each flow with this source's first-order term. */
+  /**
+   * The same share measured on the samples: the covariance of each flow with this source's
+   * first-order term, over the sum of these covariances for all sources, so that the sampled
+   * shares add up to 1 (a share within its sampling noise is 0: see `sampledShareNoise`).
+   * What part of the sampled variance the first-order terms follow is `ToleranceResult.followed`.
+   */
   flowShareSampled: number | null;
   /** Root-mean-square relative flow sd of a contactor caused by this source alone, first order. */
   flowSd: number | null;
   /** Share of the variance of the position of p_B − p_A in the split windows (−1 at the low limit, +1 at the high). */
   windowShare: number | null;
   windowShareSampled: number | null;
+}
+
+/**
+ * A sampled share below Z95²/n is reported as 0. The sample covariance of y with a source's term
+ * l has a standard error of about sd(l)·sd(y)/√n, so a share s ≈ Var(l)/Var(y) is known to about
+ * √(s/n); below Z95²/n it lies within its own 95 % noise and cannot be told from none.
+ */
+export function sampledShareNoise(n: number): number {
+  return n > 1 ? (Z95 * Z95) / n : Infinity;
 }
 
 export interface SweepPoint {
@@ -113,7 +128,13 @@ export interface ToleranceResult {
   seed: number;
   /** False when realisations were drawn for the first-order model only. */
   sampled: boolean;
-  nominal: { allPinned: boolean | null; leaking: string[]; spreads: Record<SpreadKey, number> };
+  /** `pressureResolution`: the smallest pressure difference the nominal solution resolves, Pa (./resolution.ts). */
+  nominal: { allPinned: boolean | null; leaking: string[]; spreads: Record<SpreadKey, number>; pressureResolution: number };
+  /**
+   * Share of the sampled variance (contactor flows, split positions) that the sum of the
+   * first-order terms follows: Σ_k cov(y, l_k) / Var(y), 1 for a linear response; null without samples.
+   */
+  followed: { flow: number | null; window: number | null };
   /** Ranked: largest first-order share of contactor-flow variance first. */
   sources: SourceEstimate[];
   solved: number;
@@ -303,15 +324,27 @@ export function summariseTolerance(input: SummaryInput): ToleranceResult {
   const windowTotal = linear && M > 0 ? windowVariance() : NaN;
   const flowSampledTotal = mean(Array.from({ length: N }, (_, c) => flowWeight[c]! * sampledVariance(c)));
   const windowSampledTotal = mean(Array.from({ length: M }, (_, s) => sampledVariance(N + s)));
+  const flowCovariance = plan.sources.map((_, k) => mean(Array.from({ length: N }, (_, c) => flowWeight[c]! * covariance(k, c))));
+  const windowCovariance = plan.sources.map((_, k) => mean(Array.from({ length: M }, (_, s) => covariance(k, N + s))));
+  const sum = (values: number[]) => values.reduce((a, b) => a + b, 0);
+  const noise = sampledShareNoise(n);
+  const sampledShare = (part: number, parts: number[]) => {
+    const value = share(part, sum(parts));
+    return value === null ? null : Math.abs(value) < noise ? 0 : value;
+  };
+  const followed = {
+    flow: linear && n > 1 ? share(sum(flowCovariance), flowSampledTotal) : null,
+    window: linear && M > 0 && n > 1 ? share(sum(windowCovariance), windowSampledTotal) : null,
+  };
   const sources: SourceEstimate[] = plan.sources.map((source, k) => {
     const flowPart = linear ? flowVariance(k) : NaN;
     return {
       ...source,
       flowShare: share(flowPart, flowTotal),
-      flowShareSampled: linear ? share(mean(Array.from({ length: N }, (_, c) => flowWeight[c]! * covariance(k, c))), flowSampledTotal) : null,
+      flowShareSampled: linear ? sampledShare(flowCovariance[k]!, flowCovariance) : null,
       flowSd: linear ? Math.sqrt(flowPart) : null,
       windowShare: linear && M > 0 ? share(windowVariance(k), windowTotal) : null,
-      windowShareSampled: linear && M > 0 ? share(mean(Array.from({ length: M }, (_, s) => covariance(k, N + s))), windowSampledTotal) : null,
+      windowShareSampled: linear && M > 0 ? sampledShare(windowCovariance[k]!, windowCovariance) : null,
     };
   });
   sources.sort((a, b) => (b.flowShare ?? -1) - (a.flowShare ?? -1) || (b.windowShare ?? -1) - (a.windowShare ?? -1));
@@ -345,7 +378,8 @@ export function summariseTolerance(input: SummaryInput): ToleranceResult {
     samples,
     seed,
     sampled: main.outcomes !== null,
-    nominal: { allPinned: M > 0 ? nominalLeaking.length === 0 : null, leaking: nominalLeaking, spreads: spreadRecord(y0) },
+    nominal: { allPinned: M > 0 ? nominalLeaking.length === 0 : null, leaking: nominalLeaking, spreads: spreadRecord(y0), pressureResolution: pressureResolution(nominal) },
+    followed,
     sources,
     solved: n,
     notSolved,

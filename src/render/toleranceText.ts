@@ -5,7 +5,8 @@
  */
 import type { Quantity, ToleranceResult, Variation } from '../analyses/tolerance.js';
 import { SAFETY_NOTES, textTable } from './text.js';
-import { DISPLAY, fmt } from '../units/format.js';
+import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
+import { RELATIVE_FLOW_RESOLUTION } from '../analyses/resolution.js';
 
 const UNIT: Record<Quantity, { symbol: string; factor: number }> = {
   depth: DISPLAY.length,
@@ -23,14 +24,14 @@ export function describeVariation(v: Variation, quantity: Quantity): string {
 }
 
 const percent = (v: number | null | undefined, digits = 3) => (v === null || v === undefined || !Number.isFinite(v) ? '–' : `${fmt(100 * v, digits)} %`);
-/** A share of variance in % with one decimal: rounding hides the noise of a share that is zero. */
+/** A share of variance in % with one decimal (sampled shares within their noise arrive as 0). */
 const share = (v: number | null) => (v === null || !Number.isFinite(v) ? '–' : `${(100 * v).toFixed(1).replace(/^-0\.0$/, '0.0')} %`);
 const yesNo = (v: boolean | null) => (v === null ? '–' : v ? 'yes' : 'NO');
 
-/** A spread in its display form: CVs in %, max/min ratios as numbers. */
+/** A spread in its display form: CVs in %, max/min ratios as numbers; below what the flows resolve, 0. */
 function spreadValue(key: string, v: number | null | undefined, digits = 5): string {
   if (v === null || v === undefined || !Number.isFinite(v)) return '–';
-  return key.endsWith('.cv') ? `${fmt(100 * v, 3)} %` : fmt(v, digits);
+  return key.endsWith('.cv') ? `${fmtResolved(100 * v, 100 * RELATIVE_FLOW_RESOLUTION, 3)} %` : fmtResolved(v, RELATIVE_FLOW_RESOLUTION, digits);
 }
 
 export interface RunInfo {
@@ -56,7 +57,7 @@ export function toleranceText(r: ToleranceResult, info: RunInfo): string {
     if (r.pinned) out.push(`  sampled       ${percent(r.pinned.value, 4)} (95 % interval ${percent(r.pinned.low, 3)} to ${percent(r.pinned.high, 3)}, ${r.pinned.count} of ${r.pinned.of})`);
     out.push(`  first order   ${percent(r.firstOrderPinned, 4)}`);
     const margin = Math.min(...r.contactors.flatMap((c) => (c.nominalMargin === null ? [] : [c.nominalMargin])));
-    out.push(`  nominal       ${r.nominal.allPinned ? 'every split pinned' : `${r.nominal.leaking.length} splits leak`}; smallest window margin ${fmt(margin)} Pa`);
+    out.push(`  nominal       ${r.nominal.allPinned ? 'every split pinned' : `${r.nominal.leaking.length} splits leak`}; smallest window margin ${fmtResolved(margin, r.nominal.pressureResolution)} Pa`);
   }
   out.push('');
 
@@ -92,7 +93,7 @@ export function toleranceText(r: ToleranceResult, info: RunInfo): string {
     out.push(
       textTable(
         ['  #', 'contactor', 'split', 'margin Pa', 'leaks', 'sampled', 'first order', 'flow sd sampled', 'flow sd first order'],
-        ranked.map((c) => [`  ${c.index}`, c.id, c.split!, fmt(c.nominalMargin), String(c.leaks), percent(c.leakProbability), percent(c.firstOrderLeakProbability), percent(c.flowSd.sampled), percent(c.flowSd.firstOrder)]),
+        ranked.map((c) => [`  ${c.index}`, c.id, c.split!, fmtResolved(c.nominalMargin, r.nominal.pressureResolution), String(c.leaks), percent(c.leakProbability), percent(c.firstOrderLeakProbability), percent(c.flowSd.sampled), percent(c.flowSd.firstOrder)]),
       ),
     );
     out.push('');
@@ -106,6 +107,10 @@ export function toleranceText(r: ToleranceResult, info: RunInfo): string {
     ),
   );
   out.push('  contactor flow: variance of each contactor\'s flow relative to its nominal flow, averaged; flow sd: what this tolerance alone gives');
+  if (r.sampled) {
+    const followed = [r.followed.flow === null ? '' : `${share(r.followed.flow)} of the sampled contactor-flow variance`, r.followed.window === null ? '' : `${share(r.followed.window)} of the split-window variance`].filter(Boolean);
+    out.push(`  sampled shares: each tolerance's part of what the first-order terms follow on the samples; they add up to 100 % (a share within the sampling noise shows as 0.0 %)${followed.length ? `; those terms follow ${followed.join(' and ')}` : ''}`);
+  }
   out.push('  split window: variance of where p_B − p_A sits in its window (−1 at the low limit, +1 at the high), averaged over splits');
   out.push('');
 

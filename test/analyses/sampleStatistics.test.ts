@@ -44,3 +44,13 @@ describe('sdAgrees', () => {
     expect(sdAgrees(d, d.sd + 2.1 * d.sdError + 1e-9)).toBe(false);
   });
 });
+
+describe('wilsonInterval at the ends', () => {
+  it('puts the lower limit at exactly 0 for no count and the upper at exactly 1 for every one', () => {
+    // Computed, 0 of 7 gave 2.8e-17 and 13 of 13 gave 1 − 1.1e-16: rounding printed as a result.
+    for (const n of [7, 9, 13, 25, 1000]) {
+      expect(wilsonInterval(0, n).low, `0 of ${n}`).toBe(0);
+      expect(wilsonInterval(n, n).high, `${n} of ${n}`).toBe(1);
+    }
+  });
+});

@@ -12,6 +12,7 @@ import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, warmStartFrom } from '../../src/analyses/chip.js';
 import { runTolerance, type ToleranceSpec, type Variation } from '../../src/analyses/tolerance.js';
+import { sampledShareNoise } from '../../src/analyses/toleranceSummary.js';
 import { observableLayout, planTolerance, realiseChip, runJob, standardDeviates } from '../../src/analyses/toleranceModel.js';
 import { rect } from '../support/layouts.js';
 
@@ -263,5 +264,34 @@ describe('realiseChip', () => {
     expect((advancing * 180) / Math.PI).toBeCloseTo(177, 10);
     expect((receding * 180) / Math.PI).toBeCloseTo(137, 10);
     expect(realiseChip(chip, plan, [1.5]).chip!.contactAngle!.advancing).toBe(Math.PI);
+  });
+});
+
+describe('runTolerance shares of variance (tracker issue 11, item 9)', () => {
+  it('gives sampled shares that add up to 100 %, less only the shares within their sampling noise', async () => {
+    const chip = layoutToChip(demoLadder(4), 'demo');
+    // A strong source beside weak ones: the weak shares lie within the noise of 60 samples.
+    const spec: ToleranceSpec = { channels: [{ depth: { each: normal(0.02) } }], viscosityA: normal(0.001), interfacialTension: normal(0.01) };
+    const n = 60;
+    const r = await runTolerance(chip, spec, { samples: n, seed: 5, workers: 1 });
+    expect(r.solved).toBe(n);
+    const noise = sampledShareNoise(n);
+    for (const key of ['flowShareSampled', 'windowShareSampled'] as const) {
+      const shares = r.sources.map((s) => s[key]!);
+      const sum = shares.reduce((a, b) => a + b, 0);
+      const snapped = shares.filter((s) => s === 0).length;
+      // Exactly 1 before snapping; each share set to 0 was below the noise; 1e-12 for the sum's rounding.
+      expect(Math.abs(sum - 1), key).toBeLessThanOrEqual(snapped * noise + 1e-12);
+      for (const s of shares) expect(s === 0 || Math.abs(s) >= noise, `${key} ${s}`).toBe(true);
+    }
+    expect(r.followed.flow).toBeGreaterThan(0);
+  });
+
+  it('gives first-order shares that add up to 100 %', async () => {
+    const chip = layoutToChip(demoLadder(4), 'demo');
+    const r = await runTolerance(chip, { channels: [{ depth: { each: normal(0.01), offset: normal(0.01) } }], viscosityB: normal(0.02) }, { samples: 2, seed: 1, workers: 1 });
+    const sum = r.sources.reduce((a, s) => a + s.flowShare!, 0);
+    // Variances of independent sources add exactly; 1e-12 for rounding.
+    expect(Math.abs(sum - 1)).toBeLessThanOrEqual(1e-12);
   });
 });
