@@ -9,6 +9,7 @@ export type ErrorCode =
   | 'bad-unit' // a quantity string with an unknown unit or one of the wrong dimension
   | 'bad-layout' // the layout file breaks the schema or the topology rules
   | 'bad-file' // a file cannot be read or parsed
+  | 'bad-output' // an output file or folder cannot be written
   | 'no-convergence' // the network solve did not settle
   | 'infeasible'; // a target cannot be met
 
@@ -17,6 +18,7 @@ const EXIT_STATUS: Record<ErrorCode, number> = {
   'bad-unit': 2,
   'bad-layout': 2,
   'bad-file': 2,
+  'bad-output': 5,
   'no-convergence': 4,
   infeasible: 3,
 };

@@ -1,6 +1,7 @@
 /**
  * `stratiflow draw FILE`: solve the chip and write only its plan-view drawing (SVG).
- * Options → a typed config → solveChip → chipDrawing → one file.
+ * Options → a typed config → solveChip → chipDrawing → one file. A solve that does not converge
+ * draws nothing and ends with exit status 4.
  */
 import { basename, extname } from 'node:path';
 import type { Command } from 'commander';
@@ -8,9 +9,10 @@ import { loadLayout } from '../layout/load.js';
 import { solveChip } from '../analyses/chip.js';
 import { chipDrawing, type ChipDrawingOptions } from '../render/chipDrawing.js';
 import { choiceOption, numberOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, writeOutputs } from './io.js';
+import { unconverged } from './solve.js';
 import type { CommandContext } from './main.js';
-import { StratiflowError, optionError } from '../errors.js';
+import { optionError } from '../errors.js';
 
 interface DrawOptions {
   out?: string;
@@ -32,11 +34,11 @@ export function registerDraw(program: Command, context: CommandContext): void {
         widthScale: numberOption(options.widthScale, '--width-scale', true),
       };
       if (config.widthScale !== undefined && !(config.widthScale > 0)) throw optionError('--width-scale', 'must be positive');
-      const out = options.out ?? `${basename(file, extname(file))}.svg`;
       const chip = loadLayout(file);
+      const out = outputFile(options.out ?? `${basename(file, extname(file))}.svg`, '--out');
       const solved = solveChip(chip);
-      writeFileAtomic(out, chipDrawing(solved, config));
+      if (!solved.result.converged) throw unconverged(solved.result.message, file, true);
+      writeOutputs([{ path: out, option: '--out', content: chipDrawing(solved, config) }]);
       context.out(`wrote ${out}\n`);
-      if (!solved.result.converged) throw new StratiflowError('no-convergence', solved.result.message ?? 'the solve did not converge', { file });
     });
 }

@@ -15,7 +15,7 @@ import { contactorExtractionChart, extractionAlongChart, extractionColouring, ex
 import { chipDrawing } from '../render/chipDrawing.js';
 import { chipReport } from '../render/report.js';
 import { choiceOption, numberOption, quantityOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers } from './solve.js';
 import type { CommandContext } from './main.js';
 import { StratiflowError, StratiflowErrors, optionError } from '../errors.js';
@@ -71,6 +71,9 @@ export function registerExtract(program: Command, context: CommandContext): void
       if (!(tolerance >= 1e-6 && tolerance <= 1e-2)) throw optionError('--tolerance', 'must lie between 1e-6 and 1e-2');
       const linear = choiceOption(options.linear, '--linear', ['sparse', 'dense'] as const);
 
+      const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
+      const out = options.out === undefined ? undefined : outputFolder(options.out, '--out');
+
       const chip = loadLayout(file);
       const solute = withOptionHint(() => soluteSetup(chip, overrides));
       const solved = solveChip(chip, { linear });
@@ -78,17 +81,16 @@ export function registerExtract(program: Command, context: CommandContext): void
       const extraction = analyseExtraction(solved, solute, { tolerance });
 
       // Everything is rendered before the first file is written.
-      const files: Array<[string, string]> = [];
-      if (options.csv) files.push([options.csv, extractionCsv(extraction)]);
-      if (options.out) {
-        files.push(
-          [join(options.out, OUT_FILES.along), extractionAlongChart(extraction)],
-          [join(options.out, OUT_FILES.perContactor), contactorExtractionChart(extraction)],
-          [join(options.out, OUT_FILES.drawing), chipDrawing(solved, { extraction: extractionColouring(extraction) })],
-          [join(options.out, OUT_FILES.report), chipReport(solved, { extraction })],
-        );
+      const files: Output[] = [];
+      if (csv) files.push({ path: csv, option: '--csv', content: extractionCsv(extraction) });
+      if (out) {
+        const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
+        into(OUT_FILES.along, extractionAlongChart(extraction));
+        into(OUT_FILES.perContactor, contactorExtractionChart(extraction));
+        into(OUT_FILES.drawing, chipDrawing(solved, { extraction: extractionColouring(extraction) }));
+        into(OUT_FILES.report, chipReport(solved, { extraction }));
       }
-      for (const [path, content] of files) writeFileAtomic(path, content);
+      writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));
     });
 }

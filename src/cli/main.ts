@@ -71,6 +71,16 @@ export async function main(argv: string[], context: CommandContext = defaultCont
   }
 }
 
+/**
+ * The process's own streams. A reader that stops early (`stratiflow solve … | head`) closes the
+ * pipe: the command then ends at once and quietly, with status 0, as text filters do.
+ */
 function defaultContext(): CommandContext {
+  for (const stream of [process.stdout, process.stderr]) {
+    stream.on('error', (error: NodeJS.ErrnoException) => {
+      if (error.code !== 'EPIPE') throw error;
+      process.exit(0);
+    });
+  }
   return { out: (s) => process.stdout.write(s), err: (s) => process.stderr.write(s) };
 }

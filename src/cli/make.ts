@@ -5,7 +5,7 @@ import type { Command } from 'commander';
 import { stringify } from 'yaml';
 import { ladderLayout, treeLayout, LADDER_DEFAULTS, TREE_DEFAULTS, type CommonOptions } from '../layout/generate.js';
 import { choiceOption, numberOption, quantityOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, writeOutputs } from './io.js';
 import { optionError } from '../errors.js';
 import type { CommandContext } from './main.js';
 
@@ -71,7 +71,7 @@ function commonFlags(cmd: Command): Command {
 
 function emit(context: CommandContext, layout: object, out: string | undefined): void {
   const text = out?.endsWith('.json') ? JSON.stringify(layout, null, 2) + '\n' : stringify(layout, { lineWidth: 0 });
-  if (out) writeFileAtomic(out, text);
+  if (out) writeOutputs([{ path: outputFile(out, '--out'), option: '--out', content: text }]);
   else context.out(text);
 }
 

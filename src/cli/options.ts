@@ -1,6 +1,6 @@
 /**
  * Reading command-line values: quantities with units, numbers in a range, choices. Every failure
- * names the option. Exports `quantityOption`, `numberOption`, `choiceOption`.
+ * names the option. Exports `quantityOption`, `numberOption`, `wholeNumberOption`, `choiceOption`.
  */
 import { parseQuantity, type Dimension } from '../units/quantity.js';
 import { optionError } from '../errors.js';
@@ -22,6 +22,21 @@ export function numberOption(value: unknown, option: string, optional = false): 
   }
   const n = Number(value);
   if (typeof value !== 'string' || value.trim() === '' || !Number.isFinite(n)) throw optionError(option, `"${String(value)}" is not a number`);
+  return n;
+}
+
+/** At most this many worker threads: far more than the cores of any workstation. */
+export const MAX_WORKERS = 256;
+
+/**
+ * A whole number from `min` to `max`, or undefined when the option is not given. Every count a
+ * command takes (samples, steps, workers, contactors, …) is read here, so that an absurd count
+ * ends with one line naming the option instead of running out of memory.
+ */
+export function wholeNumberOption(value: unknown, option: string, min: number, max: number): number | undefined {
+  if (value === undefined) return undefined;
+  const n = numberOption(value, option)!;
+  if (!Number.isInteger(n) || n < min || n > max) throw optionError(option, `"${String(value)}" is not allowed: give a whole number from ${min} to ${max}`);
   return n;
 }
 

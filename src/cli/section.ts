@@ -8,7 +8,7 @@ import type { RectSection } from '../physics/section.js';
 import { DISPLAY, fmt, show } from '../units/format.js';
 import { choiceOption, numberOption, quantityOption } from './options.js';
 import type { CommandContext } from './main.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, writeOutputs, type Output } from './io.js';
 import { flowFractionChart, velocityFieldChart } from '../render/sectionCharts.js';
 
 interface SectionOptions {
@@ -41,6 +41,8 @@ export function registerSection(program: Command, context: CommandContext): void
     .option('--plot <file.svg>', 'write a chart of flow fraction against holdup')
     .option('--field <file.svg>', 'write a map of the velocity over the cross-section')
     .action((options: SectionOptions) => {
+      const plot = options.plot === undefined ? undefined : outputFile(options.plot, '--plot');
+      const field = options.field === undefined ? undefined : outputFile(options.field, '--field');
       const section: RectSection = {
         shape: 'rect',
         width: quantityOption(options.width, '--width', 'length'),
@@ -56,8 +58,10 @@ export function registerSection(program: Command, context: CommandContext): void
         totalFlow: quantityOption(options.flow, '--flow', 'flow', true),
       };
       const summary = analyseSection(query);
-      if (options.plot) writeFileAtomic(options.plot, flowFractionChart(section, query.muA, query.muB, summary.holdup));
-      if (options.field) writeFileAtomic(options.field, velocityFieldChart(section, query.muA, query.muB, summary.holdup));
+      const outputs: Output[] = [];
+      if (plot) outputs.push({ path: plot, option: '--plot', content: flowFractionChart(section, query.muA, query.muB, summary.holdup) });
+      if (field) outputs.push({ path: field, option: '--field', content: velocityFieldChart(section, query.muA, query.muB, summary.holdup) });
+      writeOutputs(outputs);
       context.out(options.json ? JSON.stringify(summary, null, 2) + '\n' : describeSection(section, summary));
     });
 }

@@ -1,13 +1,15 @@
 /**
  * `stratiflow solve FILE`: load a layout, solve the whole chip, print the per-contactor table
- * and summary (or JSON), optionally write the CSV table, or with `--out DIR` the JSON, the CSV,
+ * and summary with the operating verdict (or JSON), optionally write the CSV table, or with `--out DIR` the JSON, the CSV,
  * the drawing and the HTML report. When the layout names a solute, the JSON (printed or written)
  * and the files of `--out` also carry its extraction (src/analyses/extraction.ts, default
- * accuracy); the printed table stays as it is.
+ * accuracy); the printed table stays as it is. A solve that does not converge writes no files:
+ * its table is printed under a NOT CONVERGED banner and the command ends with exit status 4.
  */
 import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { solveChip, type SolvedChip } from '../analyses/chip.js';
+import { operatingVerdict } from '../analyses/verdict.js';
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
 import { join } from 'node:path';
 import { chipText, contactorCsv } from '../render/text.js';
@@ -15,7 +17,7 @@ import { chipDrawing } from '../render/chipDrawing.js';
 import { extractionColouring } from '../render/extractionCharts.js';
 import { chipReport } from '../render/report.js';
 import { choiceOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import type { CommandContext } from './main.js';
 import { StratiflowError, StratiflowErrors } from '../errors.js';
 
@@ -38,23 +40,27 @@ export function registerSolve(program: Command, context: CommandContext): void {
     .action((file: string, options: SolveOptions) => {
       const chip = loadLayout(file);
       const linear = choiceOption(options.linear, '--linear', ['sparse', 'dense'] as const);
+      const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
+      const out = options.out === undefined ? undefined : outputFolder(options.out, '--out');
       const solved = solveChip(chip, { linear });
       const { result } = solved;
       const extraction = options.out || options.json ? layoutExtraction(solved, context) : undefined;
       const json = JSON.stringify(extraction ? { ...result, extraction } : result, jsonNumbers, 2) + '\n';
-      if (options.csv) writeFileAtomic(options.csv, contactorCsv(result));
-      if (options.out) {
+      if (result.converged) {
         // Everything is rendered before the first file is written.
-        const files: Array<[string, string]> = [
-          ['result.json', json],
-          ['contactors.csv', contactorCsv(result)],
-          ['chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {})],
-          ['report.html', chipReport(solved, { extraction })],
-        ];
-        for (const [name, content] of files) writeFileAtomic(join(options.out, name), content);
+        const files: Output[] = [];
+        if (csv) files.push({ path: csv, option: '--csv', content: contactorCsv(result) });
+        if (out) {
+          const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
+          into('result.json', json);
+          into('contactors.csv', contactorCsv(result));
+          into('chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {}));
+          into('report.html', chipReport(solved, { extraction }));
+        }
+        writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }
-      context.out(options.json ? json : chipText(chip.name, result));
-      if (!result.converged) throw new StratiflowError('no-convergence', result.message ?? 'the solve did not converge', { file });
+      context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined));
+      if (!result.converged) throw unconverged(result.message, file, Boolean(csv || out));
     });
 }
 
@@ -73,6 +79,11 @@ function layoutExtraction(solved: SolvedChip, context: CommandContext): Extracti
     context.err(lines.join('') + 'stratiflow: no extraction: `stratiflow extract` takes the missing values as options\n');
     return undefined;
   }
+}
+
+/** The error of a solve that did not settle; `unwritten` says that the files asked for were not written. */
+export function unconverged(message: string | undefined, file: string, unwritten: boolean): StratiflowError {
+  return new StratiflowError('no-convergence', `${message ?? 'the solve did not converge'}${unwritten ? '; no files written (results that did not converge are not saved)' : ''}`, { file });
 }
 
 /** JSON has no Infinity or NaN: such values become null. */

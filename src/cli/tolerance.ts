@@ -18,11 +18,25 @@ import { runTolerance, type ChannelTolerance, type DimensionTolerance, type Tole
 import { toleranceCsv, toleranceText } from '../render/toleranceText.js';
 import { toleranceCharts } from '../render/toleranceCharts.js';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
-import { choiceOption, numberOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { choiceOption, numberOption, wholeNumberOption, MAX_WORKERS } from './options.js';
+import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers } from './solve.js';
 import type { CommandContext } from './main.js';
 import { StratiflowError, StratiflowErrors, optionError, type ErrorPlace } from '../errors.js';
+
+/**
+ * At most this many realisations: enough to put the chance that every split stays pinned within
+ * ±0.3 % (95 %: 1.96·√(0.25/n) for n = 1e5, the binomial standard error), and few enough that the
+ * rows kept for the CSV fit in memory.
+ */
+const MAX_SAMPLES = 100_000;
+/** At most this many tolerance multiples in --sweep, each costing a full set of samples. */
+const MAX_SWEEP = 20;
+/** Multiples of the tolerances in --sweep go up to this: beyond it a chip is a different design. */
+const MAX_MULTIPLE = 100;
+
+/** Relative tolerances go up to this share of the value: a 100 % spread already draws channels of no size. */
+const MAX_RELATIVE = 1;
 
 /** A unit to suggest in messages, per dimension a tolerance can have. */
 const EXAMPLE_UNIT: Partial<Record<Dimension, string>> = { length: 'um', viscosity: 'mPa.s', tension: 'mN/m', angle: 'deg' };
@@ -42,7 +56,11 @@ export function parseTolerance(value: unknown, dimension: Dimension, place: Erro
   const body = uniform ? text.slice(uniform[0].length) : text;
   const distribution = uniform ? 'uniform' : 'normal';
   const percent = /^(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*%$/.exec(body);
-  if (percent) return { distribution, size: Number(body.slice(0, -1)) / 100, relative: true };
+  if (percent) {
+    const size = Number(body.slice(0, -1)) / 100;
+    if (size > MAX_RELATIVE) throw fail(`"${text}" is more than ${100 * MAX_RELATIVE} % of the value: such a chip or liquid is not the one in the layout`);
+    return { distribution, size, relative: true };
+  }
   const size = parseQuantity(body, dimension, place);
   if (!(size >= 0)) throw fail(`"${text}" is not a tolerance ≥ 0`);
   return { distribution, size, relative: false };
@@ -57,7 +75,7 @@ const dimension = z.strictObject({
   offset: tolerance.optional().describe('one offset per chip, shared by the channels of this rule (wafer to wafer)'),
 });
 const toleranceFileSchema = z.strictObject({
-  samples: z.number().int().min(0).optional(),
+  samples: z.number().int().min(1).max(MAX_SAMPLES).optional(),
   seed: z.number().int().min(0).max(Number.MAX_SAFE_INTEGER).optional(),
   channels: z
     .array(z.strictObject({ group: z.string().min(1).optional(), depth: dimension.optional(), width: dimension.optional() }))
@@ -169,11 +187,13 @@ function mergedSpec(fromFile: ToleranceSpec | undefined, o: ToleranceOptions): T
   return spec;
 }
 
-function wholeNumber(value: string | undefined, flag: string, min: number, max = Number.MAX_SAFE_INTEGER): number | undefined {
-  if (value === undefined) return undefined;
-  const n = numberOption(value, flag)!;
-  if (!Number.isInteger(n) || n < min || n > max) throw optionError(flag, `must be a whole number from ${min} to ${max}`);
-  return n;
+
+/** The error of a study in which no realisation solved, naming the most frequent reason. */
+function noneSolved(notSolved: ReadonlyArray<{ problem: string }>, file: string): StratiflowError {
+  const counts = new Map<string, number>();
+  for (const { problem } of notSolved) counts.set(problem, (counts.get(problem) ?? 0) + 1);
+  const [problem, count] = [...counts].sort((a, b) => b[1] - a[1])[0] ?? ['no reason given', 0];
+  return new StratiflowError('no-convergence', `none of the ${notSolved.length} realisations solved (${count} of them: ${problem}); no files written — narrower tolerances may help`, { file });
 }
 
 const FILE_HELP = `
@@ -221,15 +241,18 @@ export function registerTolerance(program: Command, context: CommandContext): vo
       const chip = loadLayout(file);
       const fromFile = o.spec ? readToleranceFile(o.spec) : undefined;
       const spec = mergedSpec(fromFile?.spec, o);
-      const samples = wholeNumber(o.samples, '--samples', 0) ?? fromFile?.samples ?? 1000;
-      const seed = wholeNumber(o.seed, '--seed', 0) ?? fromFile?.seed ?? 1;
-      const workers = wholeNumber(o.workers, '--workers', 1, 256) ?? availableParallelism();
+      const samples = wholeNumberOption(o.samples, '--samples', 1, MAX_SAMPLES) ?? fromFile?.samples ?? 1000;
+      const seed = wholeNumberOption(o.seed, '--seed', 0, Number.MAX_SAFE_INTEGER) ?? fromFile?.seed ?? 1;
+      const workers = wholeNumberOption(o.workers, '--workers', 1, MAX_WORKERS) ?? availableParallelism();
       const scales = o.sweep === undefined ? [] : o.sweep.split(',').map((s) => {
         const v = numberOption(s.trim(), '--sweep')!;
-        if (!(v >= 0)) throw optionError('--sweep', `${s} is not a multiple ≥ 0`);
+        if (!(v >= 0 && v <= MAX_MULTIPLE)) throw optionError('--sweep', `${s} is not a multiple from 0 to ${MAX_MULTIPLE}`);
         return v;
       });
+      if (scales.length > MAX_SWEEP) throw optionError('--sweep', `${scales.length} multiples given; at most ${MAX_SWEEP}`);
       const linear = choiceOption(o.linear, '--linear', ['sparse', 'dense'] as const);
+      const csv = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
+      const svg = o.svg === undefined ? undefined : outputFolder(o.svg, '--svg');
 
       const bar = process.stderr.isTTY
         ? new cliProgress.SingleBar({ stream: process.stderr, format: 'solving |{bar}| {value}/{total} solves, {eta_formatted} left', hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic)
@@ -258,8 +281,14 @@ export function registerTolerance(program: Command, context: CommandContext): vo
       }
       const seconds = (performance.now() - start) / 1000;
 
-      if (o.csv) writeFileAtomic(o.csv, toleranceCsv(result, result.contactors.map((c) => c.id)));
-      if (o.svg) for (const chart of toleranceCharts(result)) writeFileAtomic(join(o.svg, chart.name), chart.svg);
+      if (result.sampled && result.solved === 0) {
+        context.out(o.json ? JSON.stringify(result, jsonNumbers, 2) + '\n' : toleranceText(result, { workers, seconds }));
+        throw noneSolved(result.notSolved, file);
+      }
+      const outputs: Output[] = [];
+      if (csv) outputs.push({ path: csv, option: '--csv', content: toleranceCsv(result, result.contactors.map((c) => c.id)) });
+      if (svg) for (const chart of toleranceCharts(result)) outputs.push({ path: join(svg, chart.name), option: '--svg', content: chart.svg });
+      writeOutputs(outputs, svg ? [{ path: svg, option: '--svg' }] : []);
       context.out(o.json ? JSON.stringify(result, jsonNumbers, 2) + '\n' : toleranceText(result, { workers, seconds }));
     });
 }

@@ -14,10 +14,11 @@ import { loadLayout } from '../layout/load.js';
 import { parseSetting, settingName, type Setting } from '../analyses/window.js';
 import { tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { chipText, textTable } from '../render/text.js';
-import { DISPLAY, fmt } from '../units/format.js';
+import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
+import { pressureResolution } from '../analyses/resolution.js';
 import { parseQuantity } from '../units/quantity.js';
 import { choiceOption, numberOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { outputFile, writeOutputs } from './io.js';
 import { jsonNumbers } from './solve.js';
 import type { CommandContext } from './main.js';
 import { StratiflowError, optionError } from '../errors.js';
@@ -105,15 +106,16 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
   ));
   out.push('');
   const splits = result.solved.result.splits;
+  const resolution = pressureResolution(result.solved.result);
   if (splits.length > 0) {
-    out.push(`split windows (p_B − p_A, Pa): smallest margin ${fmt(result.minMargin)} Pa${result.spareFreedom > 0 ? `, raised as far as the ${result.spareFreedom} spare direction${result.spareFreedom > 1 ? 's' : ''} of the settings allow` : ''}`);
+    out.push(`split windows (p_B − p_A, Pa): smallest margin ${fmtResolved(result.minMargin, resolution)} Pa${result.spareFreedom > 0 ? `, raised as far as the ${result.spareFreedom} spare direction${result.spareFreedom > 1 ? 's' : ''} of the settings allow` : ''}`);
     if (result.spareFreedom === 0) {
       const outlet = chip.nodes.find((n) => n.kind === 'outlet' && !result.settings.some((x) => x.setting.node === n.id));
       out.push(`  the targets fix every setting, so the margins are what they are${outlet ? `; to centre the splits, let an outlet back-pressure vary too (--vary ${outlet.id}.pressure)` : ''}`);
     }
     out.push(textTable(
       ['split', 'state', 'p_B − p_A', 'window', 'margin low', 'margin high'],
-      splits.map((s) => [s.id, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmt(s.pressureDifference - s.window[0]), fmt(s.window[1] - s.pressureDifference)]),
+      splits.map((s) => [s.id, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmtResolved(s.pressureDifference - s.window[0], resolution), fmtResolved(s.window[1] - s.pressureDifference, resolution)]),
     ));
     out.push('');
   }
@@ -123,7 +125,8 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
     : 'the layout gives no pressure rating (maxPressure): check the tuned pressures against the rating of the chip, fittings and tubing yourself');
   if (written) out.push(`tuned layout written to ${written}`);
   out.push('');
-  out.push(chipText(chip.name, result.solved.result));
+  // tuneChip returns only settings at which the chip works (src/analyses/verdict.ts): an empty verdict.
+  out.push(chipText(chip.name, result.solved.result, []));
   return out.join('\n');
 }
 
@@ -185,6 +188,8 @@ export function registerTune(program: Command, context: CommandContext): void {
       const vary = o.vary.length > 0
         ? o.vary.map((v) => freedomOption(v, chip))
         : chip.nodes.filter((n) => n.kind === 'inlet').map((n) => ({ setting: { node: n.id, quantity: 'pressure' as const } }));
+      const ext = extname(file);
+      const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`), '--out');
       let result: TuneResult;
       try {
         result = tuneChip(chip, { targets, vary, solver: { linear } });
@@ -192,10 +197,8 @@ export function registerTune(program: Command, context: CommandContext): void {
         if (error instanceof StratiflowError && !error.place.file) throw new StratiflowError(error.code, error.message, { file });
         throw error;
       }
-      const ext = extname(file);
-      const out = o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`);
       const header = ` Tuned by stratiflow tune for ${result.targets.map((t) => `${TARGET_LABELS[t.kind]} ${withUnit(t.target, targetUnit(t.kind))}`).join(', ')}: ${result.settings.map((s) => settingName(s.setting)).join(', ')} set.`;
-      writeFileAtomic(out, tunedLayoutText(readFileSync(file, 'utf8'), out.endsWith('.json'), result, header));
+      writeOutputs([{ path: out, option: '--out', content: tunedLayoutText(readFileSync(file, 'utf8'), out.endsWith('.json'), result, header) }]);
       if (o.json) {
         const { chip: _tuned, solved, ...rest } = result;
         context.out(JSON.stringify({ layout: file, written: out, ...rest, result: solved.result }, jsonNumbers, 2) + '\n');

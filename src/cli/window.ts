@@ -15,12 +15,15 @@ import { targetCrossings, windowChart, windowCsv, windowText, type MapTarget, ty
 import type { Point } from '../render/chart.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { parseQuantity } from '../units/quantity.js';
-import { choiceOption, numberOption } from './options.js';
-import { writeFileAtomic } from './io.js';
+import { choiceOption, numberOption, wholeNumberOption, MAX_WORKERS } from './options.js';
+import { outputFile, writeOutputs, type Output } from './io.js';
 import { jsonNumbers } from './solve.js';
 import type { CommandContext } from './main.js';
 import { StratiflowError, optionError } from '../errors.js';
 import type { Chip } from '../network/model.js';
+
+/** At most this many grid values along an axis: a million points at the most, hours of solves. */
+const MAX_STEPS = 1000;
 
 interface WindowOptions {
   x?: string;
@@ -54,13 +57,6 @@ export function mapTarget(t: { flowA?: number; flowB?: number; throughput?: numb
   else if (flowB !== undefined && ratio !== undefined) throughput = flowB * (1 + ratio);
   else if (flowA !== undefined || flowB !== undefined) return undefined;
   return { throughput, ratio };
-}
-
-function wholeNumber(value: string | undefined, flag: string, min: number, max: number): number | undefined {
-  if (value === undefined) return undefined;
-  const n = numberOption(value, flag)!;
-  if (!Number.isInteger(n) || n < min || n > max) throw optionError(flag, `must be a whole number from ${min} to ${max}`);
-  return n;
 }
 
 function settingOption(text: string, flag: string, chip: Chip): Setting {
@@ -125,7 +121,10 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const ratio = o.ratio === undefined ? undefined : numberOption(o.ratio, '--ratio');
       if (ratio !== undefined && !(ratio > 0)) throw optionError('--ratio', 'must be positive');
       const target = mapTarget({ flowA: flowTarget(o.flowA, '--flow-a'), flowB: flowTarget(o.flowB, '--flow-b'), throughput: flowTarget(o.throughput, '--throughput'), ratio });
-      const workers = wholeNumber(o.workers, '--workers', 1, 256) ?? availableParallelism();
+      const workers = wholeNumberOption(o.workers, '--workers', 1, MAX_WORKERS) ?? availableParallelism();
+      const svgFile = outputFile(o.svg, '--svg');
+      const jsonFile = o.json === undefined ? undefined : outputFile(o.json, '--json');
+      const csvFile = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
 
       // The chip as given: its settings mark the map and seed the sweep.
       const base: SolvedChip = solveChip(chip, { linear });
@@ -133,8 +132,8 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const [xFrom, xTo] = rangeOption(o.xRange, '--x-range', xs, current?.[0]);
       const [yFrom, yTo] = rangeOption(o.yRange, '--y-range', ys, current?.[1]);
       const spec = {
-        x: { setting: xs, from: xFrom, to: xTo, steps: wholeNumber(o.xSteps, '--x-steps', 2, 1000)! },
-        y: { setting: ys, from: yFrom, to: yTo, steps: wholeNumber(o.ySteps, '--y-steps', 2, 1000)! },
+        x: { setting: xs, from: xFrom, to: xTo, steps: wholeNumberOption(o.xSteps, '--x-steps', 2, MAX_STEPS)! },
+        y: { setting: ys, from: yFrom, to: yTo, steps: wholeNumberOption(o.ySteps, '--y-steps', 2, MAX_STEPS)! },
         solver: { linear },
       };
 
@@ -161,12 +160,10 @@ export function registerWindow(program: Command, context: CommandContext): void 
 
       const marks: WindowMarks = { current, target, crossings: target ? targetCrossings(map, target) : [] };
       const currentClass = current ? describePoint(chip, base, { i: -1, j: -1, x: current[0], y: current[1] }).class : undefined;
-      const svg = windowChart(chip.name, map, marks);
-      const json = o.json ? JSON.stringify({ layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings }, jsonNumbers, 2) + '\n' : undefined;
-      const csv = o.csv ? windowCsv(map) : undefined;
-      writeFileAtomic(o.svg, svg);
-      if (o.json) writeFileAtomic(o.json, json!);
-      if (o.csv) writeFileAtomic(o.csv, csv!);
+      const outputs: Output[] = [{ path: svgFile, option: '--svg', content: windowChart(chip.name, map, marks) }];
+      if (jsonFile) outputs.push({ path: jsonFile, option: '--json', content: JSON.stringify({ layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings }, jsonNumbers, 2) + '\n' });
+      if (csvFile) outputs.push({ path: csvFile, option: '--csv', content: windowCsv(map) });
+      writeOutputs(outputs);
       context.out(windowText(chip.name, map, marks, { seconds, workers, current: currentClass }));
     });
 }

@@ -198,12 +198,15 @@ function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], width
   const g = new dagre.graphlib.Graph({ multigraph: true });
   g.setGraph({ rankdir: 'TB', nodesep: widest + 28, ranksep: 70 + widest, edgesep: widest + 12, marginx: 0, marginy: 0 });
   g.setDefaultEdgeLabel(() => ({}));
-  for (const n of chip.nodes) g.setNode(n.id, { width: 12, height: 12 });
+  // dagre keeps its graph in plain objects keyed by name: it is given index names, so that any id
+  // of the layout (`__proto__`, `hasOwnProperty`) stays data.
+  const name = new Map(chip.nodes.map((n, i) => [n.id, `n${i}`]));
+  for (const n of chip.nodes) g.setNode(name.get(n.id)!, { width: 12, height: 12 });
   // Contactors span two ranks and pull straight, so that they stand out as the longest channels.
   const isContactor = new Set(contactors.map((c) => c.id));
-  for (const s of chip.segments) g.setEdge(s.from, s.to, isContactor.has(s.id) ? { minlen: 2, weight: 4 } : {}, s.id);
+  chip.segments.forEach((s, e) => g.setEdge(name.get(s.from)!, name.get(s.to)!, isContactor.has(s.id) ? { minlen: 2, weight: 4 } : {}, `e${e}`));
   dagre.layout(g);
-  const raw = chip.nodes.map((n) => g.node(n.id) as { x: number; y: number });
+  const raw = chip.nodes.map((n) => g.node(name.get(n.id)!) as { x: number; y: number });
   const minX = Math.min(...raw.map((p) => p.x));
   const minY = Math.min(...raw.map((p) => p.y));
   const at = new Map(chip.nodes.map((n, i) => [n.id, { x: raw[i]!.x - minX, y: raw[i]!.y - minY }]));
@@ -402,7 +405,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
 
 /** The caption sentence of the extraction colouring, naming the contactors it leaves out. */
 function extractionCaption(extraction: ExtractionColouring, contactors: ChipSegment[]): string {
-  const left = contactors.filter((s) => extraction.fill[s.id] === undefined).length;
+  const left = contactors.filter((s) => !extraction.fill.has(s.id)).length;
   return (
     `Contactors coloured by ${extraction.title} (0: no solute transferred, 1: at equilibrium by the outlet) in both bands, phase B hatched` +
     (left > 0 ? `; ${left} contactor${left === 1 ? '' : 's'} not analysed keep${left === 1 ? 's' : ''} the phase colours.` : '.')
@@ -503,8 +506,8 @@ function drawContactors(
     const near = nearIsA ? row.holdupA : 1 - row.holdupA;
     const w = drawnWidth(c.segment);
     const frame = channelFrame(a, b, w);
-    const approachFill = extraction?.fill[c.segment.id];
-    const approachText = extraction?.label[c.segment.id];
+    const approachFill = extraction?.fill.get(c.segment.id);
+    const approachText = extraction?.label.get(c.segment.id);
     const g = el(group, 'g', {
       class: `contactor${c.section.orientation === 'stacked' ? ' stacked' : ''}${approachFill !== undefined ? ' by-approach' : ''}`,
       'data-segment': c.segment.id,

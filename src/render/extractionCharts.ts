@@ -57,21 +57,17 @@ export function approachColour(approach: number): string {
 export interface ExtractionColouring {
   /** Legend title of the colour scale. */
   title: string;
-  /** Fill colour by contactor segment id; contactors not analysed are absent. */
-  fill: Record<string, string>;
+  /** Fill colour by contactor segment id; contactors not analysed are absent. Maps, so that any id (even `__proto__`) is only a key. */
+  fill: ReadonlyMap<string, string>;
   /** Short label by contactor segment id, e.g. "93.1 %". */
-  label: Record<string, string>;
+  label: ReadonlyMap<string, string>;
   /** Colour stops for a legend bar from approach 0 to 1. */
   stops: Array<{ value: number; colour: string }>;
 }
 
 export function extractionColouring(result: ExtractionResult): ExtractionColouring {
-  const fill: Record<string, string> = {};
-  const label: Record<string, string> = {};
-  for (const r of result.contactors) {
-    fill[r.id] = approachColour(r.approach);
-    label[r.id] = `${percent(r.approach).toFixed(1)} %`;
-  }
+  const fill = new Map(result.contactors.map((r) => [r.id, approachColour(r.approach)]));
+  const label = new Map(result.contactors.map((r) => [r.id, `${percent(r.approach).toFixed(1)} %`]));
   const stops = Array.from({ length: 11 }, (_, k) => ({ value: k / 10, colour: approachColour(k / 10) }));
   return { title: 'approach to equilibrium', fill, label, stops };
 }

@@ -96,3 +96,47 @@ describe('stratiflow tolerance', () => {
     expect(none.err).toMatch(/no tolerance given/);
   });
 });
+
+describe('stratiflow tolerance with counts and sizes out of bounds (tracker issue 11, item 7)', () => {
+  it('refuses absurd sample counts, worker counts and sweeps in one line with status 2, before any solve', async () => {
+    const { layout } = demoFiles();
+    const cases: Array<[string[], RegExp]> = [
+      [['--samples', '1e9'], /--samples: "1e9" is not allowed: give a whole number from 1 to 100000/],
+      [['--samples', '0'], /--samples: "0" is not allowed/],
+      [['--samples', '2.5'], /--samples: "2.5" is not allowed/],
+      [['--workers', '0'], /--workers: "0" is not allowed/],
+      [['--sweep', '1e9'], /--sweep: 1e9 is not a multiple from 0 to 100/],
+      [['--depth', '500%'], /--depth: "500%" is more than 100 % of the value/],
+    ];
+    for (const [args, message] of cases) {
+      const run = await runCli(['tolerance', layout, '--depth', '1%', ...args]);
+      expect(run.code, args.join(' ')).toBe(2);
+      expect(run.out).toBe('');
+      expect(run.err.trim().split('\n')).toHaveLength(1);
+      expect(run.err).toMatch(message);
+    }
+  });
+
+  it('refuses a tolerance file that asks for no samples', async () => {
+    const { dir, layout } = demoFiles();
+    const spec = join(dir, 'none.yaml');
+    writeFileSync(spec, 'samples: 0\nviscosityA: 1%\n');
+    const run = await runCli(['tolerance', layout, '--spec', spec]);
+    expect(run.code).toBe(2);
+    expect(run.err).toMatch(/none\.yaml: samples: /);
+  });
+
+  it('ends with status 4 and one line when no realisation solves, and writes no files', async () => {
+    const { dir, layout } = demoFiles();
+    // With an sd of 90 % each etched channel is drawn at zero depth or less with a chance of 13 %
+    // (Φ(−1/0.9)), so some of the ladder's 30-odd etched channels fails in all but ~1.5 % (0.87^30)
+    // of the realisations; the seed is fixed, so the outcome is too.
+    const csv = join(dir, 'rows.csv');
+    const run = await runCli(['tolerance', layout, '--depth', '90%', '--samples', '3', '--workers', '1', '--csv', csv]);
+    expect(run.code).toBe(4);
+    const lines = run.err.split('\n').filter((l) => l !== '');
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(/ladder\.json: none of the 3 realisations solved \(\d of them: .+\); no files written/);
+    expect(readdirSync(dir)).not.toContain('rows.csv');
+  });
+});

@@ -304,11 +304,11 @@ describe('chipDrawing with the contactors coloured by approach to equilibrium', 
       expect(g.attrs.class).toContain('by-approach');
       const bands = bandsOf(g);
       expect(bands.length).toBeGreaterThan(0);
-      for (const band of bands) expect(band.attrs.fill, id).toBe(colouring.fill[id]);
+      for (const band of bands) expect(band.attrs.fill, id).toBe(colouring.fill.get(id));
       expect(all(g, hasClass('interface'))).toHaveLength(1);
       const bandsOfB = bands.filter((b) => b.attrs.class!.includes('phase-B'));
       expect(all(g, hasClass('hatch'))).toHaveLength(bandsOfB.length);
-      expect(textOf(g)).toContain(`approach to equilibrium ${colouring.label[id]}`);
+      expect(textOf(g)).toContain(`approach to equilibrium ${colouring.label.get(id)}`);
     }
   });
 
@@ -316,8 +316,8 @@ describe('chipDrawing with the contactors coloured by approach to equilibrium', 
     const [left, ...rest] = contactorIds;
     const partial: ExtractionColouring = {
       ...colouring,
-      fill: Object.fromEntries(rest.map((id) => [id, colouring.fill[id]!])),
-      label: Object.fromEntries(rest.map((id) => [id, colouring.label[id]!])),
+      fill: new Map(rest.map((id) => [id, colouring.fill.get(id)!])),
+      label: new Map(rest.map((id) => [id, colouring.label.get(id)!])),
     };
     const root = parse(chipDrawing(leaky, { extraction: partial }));
     const g = all(root, (e) => hasClass('contactor')(e) && e.attrs['data-segment'] === left)[0]!;
@@ -349,7 +349,7 @@ describe('chipDrawing with the contactors coloured by approach to equilibrium', 
   it('labels each contactor with its approach along the channel where neighbours leave room', () => {
     const root = parse(chipDrawing(leaky, { extraction: colouring }));
     const labels = all(all(root, hasClass('approach-labels'))[0]!, (e) => e.name === 'text').map((e) => e.text);
-    expect(labels).toEqual(contactorIds.map((id) => colouring.label[id]));
+    expect(labels).toEqual(contactorIds.map((id) => colouring.label.get(id)));
   });
 
   it('puts the pressure and approach colour bars side by side inside the canvas', () => {

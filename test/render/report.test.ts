@@ -171,11 +171,11 @@ describe('chipReport with an extraction', () => {
     const drawing = html.slice(html.indexOf('<h2>Chip drawing</h2>'), html.indexOf('<h2>Charts</h2>'));
     expect(drawing).toContain('class="colour-bar approach"');
     const groups = [...drawing.matchAll(/<g class="contactor by-approach" data-segment="([^"]+)"(.*?)<\/g>/gs)];
-    expect(groups.map((g) => g[1]).sort()).toEqual(Object.keys(fill).sort());
+    expect(groups.map((g) => g[1]).sort()).toEqual([...fill.keys()].sort());
     for (const [, id, body] of groups) {
       const bands = [...body!.matchAll(/class="band [^"]*" d="[^"]*" fill="([^"]+)"/g)].map((m) => m[1]);
       expect(bands.length, id).toBeGreaterThan(0);
-      for (const colour of bands) expect(colour).toBe(fill[id!]);
+      for (const colour of bands) expect(colour).toBe(fill.get(id!));
     }
   });
 
