@@ -4,7 +4,7 @@
 import type { Command } from 'commander';
 import { stringify } from 'yaml';
 import { ladderLayout, treeLayout, LADDER_DEFAULTS, TREE_DEFAULTS, type CommonOptions } from '../layout/generate.js';
-import { choiceOption, numberOption, quantityOption } from './options.js';
+import { choiceOption, numberOption, quantityOption, wholeNumberOption } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
 import { optionError } from '../errors.js';
 import type { CommandContext } from './main.js';
@@ -83,8 +83,7 @@ export function registerMake(program: Command, context: CommandContext): void {
     .option('--inlets <end|middle>', 'where the inlets join the distribution manifolds', 'end')
     .option('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds', 'opposite')
     .action((o: Raw) => {
-      const contactors = numberOption(o.contactors, '--contactors')!;
-      if (!Number.isInteger(contactors) || contactors < 1 || contactors > 100000) throw optionError('--contactors', 'must be a whole number from 1 to 100000');
+      const contactors = wholeNumberOption(o.contactors, '--contactors', 1, 100000)!;
       emit(context, ladderLayout({
         ...common(o, LADDER_DEFAULTS),
         contactors,
@@ -99,8 +98,7 @@ export function registerMake(program: Command, context: CommandContext): void {
     .option('--branch-width <length>', 'width of the root branch')
     .option('--branch-scale <factor>', 'width factor from one level to the next', '0.8')
     .action((o: Raw) => {
-      const levels = numberOption(o.levels, '--levels')!;
-      if (!Number.isInteger(levels) || levels < 0 || levels > 14) throw optionError('--levels', 'must be a whole number from 0 to 14');
+      const levels = wholeNumberOption(o.levels, '--levels', 0, 14)!;
       emit(context, treeLayout({
         ...common(o, TREE_DEFAULTS),
         levels,
