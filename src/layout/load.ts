@@ -1,9 +1,11 @@
 /**
  * Reading a layout file into the validated chip model. Exports `loadLayout(path)`,
- * `parseLayout(text, source)` and `layoutToChip(raw, source)`. Collects every problem it can
- * find (schema, units, topology) with the element id and field, then fails with all of them.
+ * `parseLayout(text, source)`, `layoutToChip(raw, source)` and `MAX_LAYOUT_BYTES`. Collects
+ * every problem it can find (schema, units, plausible ranges, topology, the phases of the
+ * streams) with the element id and field, then fails with all of them. The warnings of a layout
+ * that loads (./phases.ts) go into `chip.warnings`.
  */
-import { readFileSync } from 'node:fs';
+import { readFileSync, statSync } from 'node:fs';
 import { parse as parseYaml, YAMLParseError } from 'yaml';
 import { layoutSchema, type LayoutFile, type LayoutNode } from './schema.js';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
@@ -12,15 +14,29 @@ import { findFluid } from '../physics/fluids.js';
 import type { Chip, ChipNode, ChipSegment, Phase, PhaseName } from '../network/model.js';
 import type { Section } from '../physics/section.js';
 import { checkTopology } from '../network/topology.js';
+import { implausible, mustBePositive, PLAUSIBLE, type PlausibleKind } from './plausibility.js';
+import { checkPhases } from './phases.js';
 
 /** Standard gravity, m/s² (CGPM 1901, exact by definition). */
 const GRAVITY = 9.80665;
 
+/**
+ * The largest layout file read, bytes. A 1000-contactor ladder takes about 2 MB of YAML; parsing
+ * a file of some 90 MB exhausts the memory of a default Node process.
+ */
+export const MAX_LAYOUT_BYTES = 16 * 2 ** 20;
+
 export function loadLayout(path: string): Chip {
   let text: string;
   try {
+    const stat = statSync(path);
+    if (stat.isDirectory()) throw new StratiflowError('bad-file', 'is a folder, not a layout file', { file: path });
+    if (stat.size > MAX_LAYOUT_BYTES) {
+      throw new StratiflowError('bad-file', `is ${(stat.size / 2 ** 20).toFixed(0)} MB; a layout file is at most ${MAX_LAYOUT_BYTES / 2 ** 20} MB`, { file: path });
+    }
     text = readFileSync(path, 'utf8');
   } catch (error) {
+    if (error instanceof StratiflowError) throw error;
     const reason = (error as NodeJS.ErrnoException).code === 'ENOENT' ? 'file not found' : 'cannot be read';
     throw new StratiflowError('bad-file', reason, { file: path });
   }
@@ -28,12 +44,15 @@ export function loadLayout(path: string): Chip {
 }
 
 export function parseLayout(text: string, source: string): Chip {
+  // Text never holds NUL; a file that does is an image, an archive or the like.
+  if (text.includes('\0')) throw new StratiflowError('bad-file', 'a binary file, not YAML or JSON', { file: source });
   let data: unknown;
   try {
     data = parseYaml(text, { prettyErrors: true });
   } catch (error) {
     const where = error instanceof YAMLParseError && error.linePos ? `line ${error.linePos[0].line}` : undefined;
-    const message = error instanceof Error ? error.message.split('\n')[0]!.replace(/ at line \d+, column \d+:?$/, '') : String(error);
+    const first = error instanceof Error ? error.message.split('\n')[0]!.replace(/ at line \d+, column \d+:?$/, '') : String(error);
+    const message = first.startsWith('Source contains multiple documents') ? 'it holds several YAML documents (---); a layout file holds one' : first;
     throw new StratiflowError('bad-file', `not valid YAML or JSON: ${message}`, { file: source, element: where });
   }
   return layoutToChip(data, source);
@@ -46,13 +65,45 @@ function describePath(data: unknown, path: PropertyKey[]): { element?: string; f
     const list = (data as Record<string, unknown[]>)[head as string];
     const item = Array.isArray(list) ? (list[index] as { id?: unknown } | undefined) : undefined;
     const kind = head === 'nodes' ? 'node' : 'segment';
-    const element = typeof item?.id === 'string' ? `${kind} ${item.id}` : `${kind} #${index + 1}`;
+    const element = typeof item?.id === 'string' && item.id !== '' ? `${kind} ${item.id}` : `${kind} #${index + 1}`;
     return { element, field: rest.length ? rest.join('.') : undefined };
   }
   return { field: path.length ? path.map(String).join('.') : undefined };
 }
 
+/** What the top of a file holds when it is not a mapping, in words. */
+function kindOfValue(data: unknown): string {
+  if (Array.isArray(data)) return 'a list';
+  return typeof data === 'string' ? 'a line of text' : `a ${typeof data}`;
+}
+
+/**
+ * Names JavaScript objects already carry (`__proto__`, `constructor`, `toString`, …): an id
+ * of that name would collide with them wherever ids become keys.
+ */
+const RESERVED_NAMES = new Set(Object.getOwnPropertyNames(Object.prototype));
+
+function reservedNames(raw: LayoutFile, source: string): StratiflowError[] {
+  const problems: StratiflowError[] = [];
+  const check = (name: string | undefined, element: string, field: string) => {
+    if (name !== undefined && RESERVED_NAMES.has(name)) problems.push(new StratiflowError('bad-layout', `"${name}" is a reserved name; choose another`, { file: source, element, field }));
+  };
+  for (const [i, n] of raw.nodes.entries()) check(n.id, `node #${i + 1}`, 'id');
+  const groups = new Set<string>();
+  for (const [i, s] of raw.segments.entries()) {
+    check(s.id, `segment #${i + 1}`, 'id');
+    // A group is named once, at its first segment.
+    if (s.group !== undefined && !groups.has(s.group)) check(s.group, `segment ${s.id}`, 'group');
+    if (s.group !== undefined) groups.add(s.group);
+  }
+  return problems;
+}
+
 export function layoutToChip(data: unknown, source: string): Chip {
+  if (data === null || data === undefined) throw new StratiflowError('bad-file', 'the file is empty (a layout gives name, phases, nodes and segments)', { file: source });
+  if (typeof data !== 'object' || Array.isArray(data)) {
+    throw new StratiflowError('bad-file', `holds ${kindOfValue(data)}, not a layout (a mapping of name, phases, nodes and segments)`, { file: source });
+  }
   const parsed = layoutSchema.safeParse(data);
   if (!parsed.success) {
     const problems = parsed.error.issues.map((issue) => {
@@ -61,9 +112,14 @@ export function layoutToChip(data: unknown, source: string): Chip {
     });
     throw new StratiflowErrors(problems);
   }
+  const reserved = reservedNames(parsed.data, source);
+  if (reserved.length > 0) throw new StratiflowErrors(reserved);
   const { chip, problems } = convert(parsed.data, source);
   try {
     checkTopology(chip);
+    const phases = checkPhases(chip);
+    problems.push(...phases.problems);
+    chip.warnings = phases.warnings;
   } catch (error) {
     if (error instanceof StratiflowErrors) problems.push(...error.problems);
     else throw error;
@@ -88,6 +144,8 @@ function describeIssue(issue: { code: string; message: string; keys?: string[] }
     return `unknown key${keys.length > 1 ? 's' : ''} ${keys.map((k) => `"${k}"`).join(', ')}`;
   }
   if (value === undefined) return 'missing (required)';
+  if (issue.code === 'too_small' && value === '') return 'must not be empty';
+  if (issue.code === 'too_small' && Array.isArray(value)) return 'needs at least one entry';
   if (issue.code === 'invalid_union' && (typeof value === 'boolean' || typeof value === 'object')) {
     return `${JSON.stringify(value)} is not a number or a quantity with a unit (such as "200 um")`;
   }
@@ -105,22 +163,43 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     tension: units.tension,
     density: units.density,
   };
+  const unreadable = new Set<Dimension>();
+  for (const [dimension, unit] of Object.entries(unitOf) as [Dimension, string | undefined][]) {
+    if (unit === undefined) continue;
+    try {
+      parseQuantity(`1 ${unit}`, dimension);
+    } catch {
+      unreadable.add(dimension);
+      problems.push(new StratiflowError('bad-unit', `"${unit}" is not a unit of ${dimension}`, { file: source, element: 'units', field: dimension }));
+    }
+  }
   const read = (value: unknown, dimension: Dimension, element: string | undefined, field: string): number => {
+    // Plain numbers in a unit the units block got wrong are named once, there.
+    if (typeof value === 'number' && unreadable.has(dimension)) return NaN;
+    const place = { file: source, element, field };
     try {
       const fileUnit = unitOf[dimension];
       const withUnit = typeof value === 'number' && fileUnit ? `${value} ${fileUnit}` : value;
-      return parseQuantity(withUnit, dimension, { file: source, element, field }, { angleNumbersInDegrees: true });
+      const si = parseQuantity(withUnit, dimension, place, { angleNumbersInDegrees: true });
+      if (Number.isFinite(si)) return si;
+      problems.push(new StratiflowError('bad-unit', `${typeof value === 'number' ? value : `"${String(value)}"`} is too large a number once converted to SI`, place));
     } catch (error) {
       if (error instanceof StratiflowError) problems.push(error);
-      return NaN;
     }
+    return NaN;
   };
-  const optional = (value: unknown, dimension: Dimension, element: string | undefined, field: string) =>
-    value === undefined ? undefined : read(value, dimension, element, field);
-  const positive = (value: number, element: string | undefined, field: string, what: string) => {
-    if (Number.isFinite(value) && !(value > 0)) problems.push(new StratiflowError('bad-layout', `${what} must be positive`, { file: source, element, field }));
-    return value;
+  /** Reads a value of `kind` and checks it lies in its plausible range (./plausibility.ts). */
+  const quantity = (value: unknown, kind: PlausibleKind, element: string | undefined, field: string, name = field): number => {
+    const si = read(value, PLAUSIBLE[kind].dimension, element, field);
+    if (Number.isNaN(si)) return si;
+    const fileUnit = unitOf[PLAUSIBLE[kind].dimension];
+    const written = typeof value === 'number' && fileUnit ? `${value} ${fileUnit}` : value;
+    const message = mustBePositive(kind) && !(si > 0) ? `${name} must be positive` : implausible(kind, si, written);
+    if (message) problems.push(new StratiflowError('bad-layout', message, { file: source, element, field }));
+    return si;
   };
+  const optional = (value: unknown, kind: PlausibleKind, element: string | undefined, field: string) =>
+    value === undefined ? undefined : quantity(value, kind, element, field);
 
   const phases = {} as Record<PhaseName, Phase>;
   for (const name of ['A', 'B'] as const) {
@@ -128,11 +207,9 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     const element = `phase ${name}`;
     const fluid = p.fluid !== undefined ? findFluid(p.fluid) : undefined;
     if (p.fluid !== undefined && !fluid) problems.push(new StratiflowError('bad-layout', `unknown fluid "${p.fluid}" (see stratiflow fluids)`, { file: source, element, field: 'fluid' }));
-    const viscosity = p.viscosity !== undefined ? read(p.viscosity, 'viscosity', element, 'viscosity') : fluid?.viscosity;
-    const density = p.density !== undefined ? read(p.density, 'density', element, 'density') : fluid?.density;
+    const viscosity = optional(p.viscosity, 'viscosity', element, 'viscosity') ?? fluid?.viscosity;
+    const density = optional(p.density, 'density', element, 'density') ?? fluid?.density;
     if (viscosity === undefined) problems.push(new StratiflowError('bad-layout', 'missing (give viscosity or a known fluid)', { file: source, element, field: 'viscosity' }));
-    positive(viscosity ?? NaN, element, 'viscosity', 'viscosity');
-    positive(density ?? 1000, element, 'density', 'density');
     phases[name] = {
       label: p.label ?? fluid?.label ?? `phase ${name}`,
       viscosity: viscosity ?? NaN,
@@ -141,8 +218,7 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     };
   }
 
-  const tension = optional(raw.interfacialTension, 'tension', undefined, 'interfacialTension');
-  if (tension !== undefined) positive(tension, undefined, 'interfacialTension', 'interfacial tension');
+  const tension = raw.interfacialTension === undefined ? undefined : quantity(raw.interfacialTension, 'tension', undefined, 'interfacialTension', 'interfacial tension');
   let contactAngle: Chip['contactAngle'];
   if (raw.contactAngleA) {
     const c = raw.contactAngleA;
@@ -160,32 +236,32 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
   }
   const readWindow = (w: { low: unknown; high: unknown } | undefined, element: string | undefined, field: string): [number, number] | undefined => {
     if (!w) return undefined;
-    const low = read(w.low, 'pressure', element, `${field}.low`);
-    const high = read(w.high, 'pressure', element, `${field}.high`);
+    const low = quantity(w.low, 'window', element, `${field}.low`);
+    const high = quantity(w.high, 'window', element, `${field}.high`);
     if (low > high) problems.push(new StratiflowError('bad-layout', 'low must not exceed high', { file: source, element, field }));
     return [low, high];
   };
   const splitWindow = readWindow(raw.splitWindow, undefined, 'splitWindow');
-  const maxPressure = optional(raw.maxPressure, 'pressure', undefined, 'maxPressure');
+  const maxPressure = raw.maxPressure === undefined ? undefined : quantity(raw.maxPressure, 'rating', undefined, 'maxPressure', 'the pressure rating');
 
   const nodes: ChipNode[] = raw.nodes.map((n: LayoutNode) => {
     const element = `node ${n.id}`;
-    const base = { id: n.id, note: n.note, x: optional(n.x, 'length', element, 'x'), y: optional(n.y, 'length', element, 'y') };
+    const base = { id: n.id, note: n.note, x: optional(n.x, 'position', element, 'x'), y: optional(n.y, 'position', element, 'y') };
     switch (n.type) {
       case 'inlet': {
         if ((n.pressure === undefined) === (n.flow === undefined)) {
           problems.push(new StratiflowError('bad-layout', 'give exactly one of pressure and flow', { file: source, element, field: 'pressure' }));
         }
-        const height = optional(n.reservoirHeight, 'length', element, 'reservoirHeight') ?? 0;
+        const height = optional(n.reservoirHeight, 'height', element, 'reservoirHeight') ?? 0;
         const head = phases[n.phase].density * GRAVITY * height;
         const pressure = optional(n.pressure, 'pressure', element, 'pressure');
-        const flow = optional(n.flow, 'flow', element, 'flow');
+        const flow = n.flow === undefined ? undefined : quantity(n.flow, 'flow', element, 'flow', 'an inlet flow');
         return { ...base, kind: 'inlet', phase: n.phase, pressure: pressure === undefined ? undefined : pressure + head, flow, head };
       }
       case 'outlet': {
-        const height = optional(n.reservoirHeight, 'length', element, 'reservoirHeight') ?? 0;
+        const height = optional(n.reservoirHeight, 'height', element, 'reservoirHeight') ?? 0;
         const head = phases[n.phase ?? 'A'].density * GRAVITY * height;
-        return { ...base, kind: 'outlet', pressure: read(n.pressure, 'pressure', element, 'pressure') + head, head, phase: n.phase };
+        return { ...base, kind: 'outlet', pressure: quantity(n.pressure, 'pressure', element, 'pressure') + head, head, phase: n.phase };
       }
       case 'junction':
         return { ...base, kind: 'junction' };
@@ -198,20 +274,20 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
 
   const segments: ChipSegment[] = raw.segments.map((s) => {
     const element = `segment ${s.id}`;
-    const need = (value: unknown, field: string) => {
+    const need = (value: unknown, field: string, kind: PlausibleKind) => {
       if (value === undefined) {
         problems.push(new StratiflowError('bad-layout', `missing (a ${s.shape} segment needs it)`, { file: source, element, field }));
         return NaN;
       }
-      return positive(read(value, 'length', element, field), element, field, field);
+      return quantity(value, kind, element, field);
     };
     let section: Section;
     if (s.shape === 'rect') {
-      section = { shape: 'rect', width: need(s.width, 'width'), depth: need(s.depth, 'depth'), orientation: s.orientation ?? 'side' };
+      section = { shape: 'rect', width: need(s.width, 'width', 'channel'), depth: need(s.depth, 'depth', 'channel'), orientation: s.orientation ?? 'side' };
     } else {
-      section = { shape: 'tube', diameter: need(s.diameter, 'diameter') };
+      section = { shape: 'tube', diameter: need(s.diameter, 'diameter', 'diameter') };
     }
-    const length = positive(read(s.length, 'length', element, 'length'), element, 'length', 'length');
+    const length = quantity(s.length, 'length', element, 'length');
     return { id: s.id, from: s.from, to: s.to, section, length, group: s.group, note: s.note };
   });
 
@@ -219,9 +295,9 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
   if (raw.solute) {
     solute = {
       label: raw.solute.label ?? 'solute',
-      partition: positive(read(raw.solute.partition, 'dimensionless', 'solute', 'partition'), 'solute', 'partition', 'partition coefficient'),
+      partition: quantity(raw.solute.partition, 'partition', 'solute', 'partition', 'partition coefficient'),
       feedPhase: raw.solute.feedPhase,
-      feedConcentration: positive(read(raw.solute.feedConcentration, 'concentration', 'solute', 'feedConcentration'), 'solute', 'feedConcentration', 'feed concentration'),
+      feedConcentration: quantity(raw.solute.feedConcentration, 'concentration', 'solute', 'feedConcentration', 'feed concentration'),
     };
   }
 

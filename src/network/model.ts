@@ -95,4 +95,6 @@ export interface Chip {
   solute?: Solute;
   nodes: ChipNode[];
   segments: ChipSegment[];
+  /** What the loader found legal but suspicious, one line each (src/layout/phases.ts). */
+  warnings?: string[];
 }

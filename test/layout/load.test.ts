@@ -2,9 +2,12 @@
  * Tests of src/layout/load.ts: layout files (YAML or JSON) become chips in SI units; every
  * problem found is collected, with its element and field, before loading fails.
  */
-import { describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, it } from 'vitest';
 import { stringify } from 'yaml';
-import { layoutToChip, parseLayout } from '../../src/layout/load.js';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { layoutToChip, loadLayout, MAX_LAYOUT_BYTES, parseLayout } from '../../src/layout/load.js';
 import { StratiflowError, StratiflowErrors } from '../../src/errors.js';
 import type { InletNode, OutletNode, SplitNode } from '../../src/network/model.js';
 import { singleContactorLayout } from '../support/layouts.js';
@@ -134,5 +137,73 @@ describe('layoutToChip on a faulty layout', () => {
   it('rejects a window whose low limit exceeds its high limit', () => {
     const layout = { ...singleContactorLayout(), splitWindow: { low: 100, high: -100 } };
     expect(() => layoutToChip(layout, 'x')).toThrow(/splitWindow: low must not exceed high/);
+  });
+});
+
+describe('layoutToChip on names and unit blocks', () => {
+  it('refuses node and segment ids and group names that JavaScript objects already carry', () => {
+    const layout = singleContactorLayout();
+    layout.nodes[2] = { ...layout.nodes[2]!, id: '__proto__' } as never;
+    layout.segments[1] = { ...layout.segments[1]!, id: 'hasOwnProperty' };
+    layout.segments[2] = { ...layout.segments[2]!, group: 'constructor' };
+    layout.segments[3] = { ...layout.segments[3]!, group: 'constructor' };
+    expect(() => layoutToChip(layout, 'x')).toThrow(
+      new StratiflowErrors([
+        new StratiflowError('bad-layout', '"__proto__" is a reserved name; choose another', { file: 'x', element: 'node #3', field: 'id' }),
+        new StratiflowError('bad-layout', '"hasOwnProperty" is a reserved name; choose another', { file: 'x', element: 'segment #2', field: 'id' }),
+        new StratiflowError('bad-layout', '"constructor" is a reserved name; choose another', { file: 'x', element: 'segment k', field: 'group' }),
+      ]),
+    );
+  });
+
+  it('names a unit of the units block that is not of its kind once, not at every plain number', () => {
+    const layout = { ...singleContactorLayout(), units: { length: 'kPa' } };
+    expect(() => layoutToChip(layout, 'x')).toThrow(new StratiflowErrors([new StratiflowError('bad-unit', '"kPa" is not a unit of length', { file: 'x', element: 'units', field: 'length' })]));
+  });
+
+  it('names an empty id as empty and an empty list as needing an entry', () => {
+    const layout = singleContactorLayout();
+    layout.nodes[0] = { ...layout.nodes[0]!, id: '' } as never;
+    expect(() => layoutToChip(layout, 'x')).toThrow(/^x: node #1: id: must not be empty$/);
+    expect(() => layoutToChip({ ...singleContactorLayout(), segments: [] }, 'x')).toThrow(/^x: segments: needs at least one entry$/);
+  });
+});
+
+/** The one line a failing load prints. */
+function lineOf(load: () => unknown): string {
+  try {
+    load();
+  } catch (error) {
+    if (error instanceof StratiflowError) return error.format();
+    throw error;
+  }
+  return 'loaded';
+}
+
+describe('loadLayout and parseLayout on files that are not layouts', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-load-'));
+  afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+  it('call an empty file empty, and name what a file holds instead of a mapping', () => {
+    expect(lineOf(() => parseLayout('', 'e.yaml'))).toMatch(/^e\.yaml: the file is empty/);
+    expect(lineOf(() => parseLayout('# only a comment\n', 'e.yaml'))).toMatch(/^e\.yaml: the file is empty/);
+    expect(lineOf(() => parseLayout('[1, 2]', 'l.yaml'))).toMatch(/^l\.yaml: holds a list, not a layout/);
+    expect(lineOf(() => parseLayout('42', 'n.yaml'))).toMatch(/^n\.yaml: holds a number, not a layout/);
+  });
+
+  it('call a file with NUL bytes a binary file', () => {
+    expect(lineOf(() => parseLayout('PK\u0003\u0004\u0000\u0000junk', 'z.yaml'))).toMatch(/^z\.yaml: a binary file, not YAML or JSON$/);
+  });
+
+  it('say a file holds several YAML documents in plain words', () => {
+    expect(lineOf(() => parseLayout('name: a\n---\nname: b\n', 'd.yaml'))).toMatch(/several YAML documents \(---\); a layout file holds one$/);
+  });
+
+  it('refuse a file larger than MAX_LAYOUT_BYTES before reading it, and a folder', () => {
+    // Regression: a 90 MB file of nodes ran the process out of memory after two minutes.
+    const file = join(dir, 'huge.yaml');
+    writeFileSync(file, 'name: huge\n' + '#'.repeat(MAX_LAYOUT_BYTES));
+    expect(lineOf(() => loadLayout(file))).toMatch(/huge\.yaml: is 16 MB; a layout file is at most 16 MB$/);
+    expect(lineOf(() => loadLayout(dir))).toMatch(/: is a folder, not a layout file$/);
   });
 });
