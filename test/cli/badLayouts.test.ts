@@ -5,13 +5,14 @@
  */
 import { afterAll, describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { main } from '../../src/cli/main.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { layoutOf, rect, singleContactorLayout } from '../support/layouts.js';
+import { runCli } from '../support/cli.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'stratiflow-bad-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -221,6 +222,87 @@ segments:
     const { code, err } = await solve(file);
     expect(code).toBe(2);
     expect(err).toBe(`stratiflow: ${file}: file not found\n`);
+  });
+});
+
+describe('a layout that cannot work', () => {
+  // Regression: each of these was solved with exit status 0.
+  it('names a chip without an inlet of phase B', async () => {
+    const layout = good();
+    (layout.nodes[1] as { phase: string }).phase = 'A';
+    await expectProblems(layout, [{ element: 'chip', message: /no inlet of phase B/ }]);
+  });
+
+  it('names a merge whose two inlets carry the same phase', async () => {
+    const layout = good();
+    layout.segments = layout.segments.map((s) => (s.id === 'fB' ? { ...s, from: 'inA' } : s));
+    layout.segments.push(rect('spare', 'inB', 'outB', 100e-6, 50e-6, 5e-3));
+    await expectProblems(layout, [{ element: 'node m', field: 'inlets', message: /both inlets carry phase A \(fA from inlet inA, fB from inlet inA\)/ }]);
+  });
+
+  it('names a split whose outlets are listed in the wrong order', async () => {
+    const layout = good();
+    layout.nodes = layout.nodes.map((n) => (n.type === 'split' ? { ...n, outlets: ['oB', 'oA'] } : n));
+    await expectProblems(layout, [{ element: 'node s', field: 'outlets', message: /near lane carries phase A .* oB leads to outlet outB \(phase B\).*list the outlets as \[oA, oB\]/ }]);
+  });
+});
+
+describe('a layout with implausible values', () => {
+  // Regression: a bare width of 200 was read as 200 m, a rating of -1 kPa was taken, a depth of
+  // 1 nm ended in a solver failure and a length of 1e308 in a crash.
+  it('names a bare width of 200 with the unit it was probably meant in', async () => {
+    const layout = good();
+    layout.segments = layout.segments.map((s) => (s.id === 'k' ? { ...s, width: 200 } : s));
+    await expectProblems(layout, [{ element: 'segment k', field: 'width', message: /^.*200 m is outside the range of a channel width or depth \(1 um to 10 mm\); did you mean 200 um\?$/ }]);
+  });
+
+  it('names a negative pressure rating, a depth of 1 nm and a length of 1e308', async () => {
+    const layout = { ...good(), maxPressure: '-1 kPa' };
+    layout.segments = layout.segments.map((s) => (s.id === 'k' ? { ...s, depth: '1 nm' } : s.id === 'fA' ? { ...s, length: 1e308 } : s));
+    await expectProblems(layout, [
+      { field: 'maxPressure', message: /the pressure rating must be positive/ },
+      { element: 'segment k', field: 'depth', message: /"1 nm" is outside the range/ },
+      { element: 'segment fA', field: 'length', message: /1e\+308 m is outside the range of a segment length/ },
+    ]);
+  });
+
+  it('names a pressure, a flow and an interfacial tension of 1e308', async () => {
+    const layout = { ...good(), interfacialTension: 1e308, contactAngleA: { angle: 120 } };
+    layout.nodes = layout.nodes.map((n) => (n.id === 'inA' ? { id: 'inA', type: 'inlet', phase: 'A', flow: 1e308 } : n.id === 'inB' ? { ...n, pressure: 1e308 } : n));
+    await expectProblems(layout, [
+      { field: 'interfacialTension', message: /outside the range of an interfacial tension/ },
+      { element: 'node inA', field: 'flow', message: /outside the range of a flow/ },
+      { element: 'node inB', field: 'pressure', message: /outside the range of a gauge pressure/ },
+    ]);
+  });
+});
+
+describe('a layout with hostile names or contents', () => {
+  it('names ids that JavaScript objects already carry, and draw and solve --out write nothing', async () => {
+    // Regression: a contactor named __proto__ on a layout with a solute crashed solve --out (exit 70).
+    const text = readFileSync(new URL('../../layouts/dye-octanol-8.yaml', import.meta.url), 'utf8').replace(/\bk1\b/g, '__proto__').replace(/\bm2\b/g, 'hasOwnProperty');
+    const file = write(text);
+    for (const args of [['draw', file, '--out', join(dir, 'hostile.svg')], ['solve', file, '--out', join(dir, 'hostile')]]) {
+      const { code, out, err } = await runCli(args);
+      expect(code, err).toBe(2);
+      expect(out).toBe('');
+      expect(err.split('\n').filter(Boolean)).toEqual([
+        `stratiflow: ${file}: node #35: id: "hasOwnProperty" is a reserved name; choose another`,
+        `stratiflow: ${file}: segment #3: id: "__proto__" is a reserved name; choose another`,
+      ]);
+    }
+    expect(existsSync(join(dir, 'hostile.svg'))).toBe(false);
+    expect(existsSync(join(dir, 'hostile'))).toBe(false);
+  });
+
+  it('names an empty file, a binary file and a file of several YAML documents', async () => {
+    await expectProblems('', [{ message: /the file is empty/ }]);
+    const binary = write('');
+    writeFileSync(binary, Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a, 0x00, 0x00, 0x00, 0x0d]));
+    const { code, err } = await solve(binary);
+    expect(code).toBe(2);
+    expect(err).toBe(`stratiflow: ${binary}: a binary file, not YAML or JSON\n`);
+    await expectProblems('name: a\n---\nname: b\n', [{ message: /several YAML documents/ }]);
   });
 });
 
