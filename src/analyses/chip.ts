@@ -157,7 +157,8 @@ export function spreadOf(values: number[]): Spread {
 export function summariseSolution(network: Network, raw: NetworkSolution): ChipSolution {
   const { chip, ports, plains, contactors, splits } = network;
   const { A, B } = chip.phases;
-  const warnings: string[] = [];
+  // What the loader found suspicious in the layout comes first.
+  const warnings: string[] = [...(chip.warnings ?? [])];
   const p = raw.pressure;
 
   const nodes: NodeResult[] = chip.nodes.map((node) => {

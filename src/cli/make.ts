@@ -98,7 +98,9 @@ export function registerMake(program: Command, context: CommandContext): void {
     .option('--branch-width <length>', 'width of the root branch')
     .option('--branch-scale <factor>', 'width factor from one level to the next', '0.8')
     .action((o: Raw) => {
-      const levels = wholeNumberOption(o.levels, '--levels', 0, 14)!;
+      // With the default root branch (4 mm, halved at every level) the leaves of a twelfth level
+      // would be shorter than the 1 µm the loader accepts for a channel.
+      const levels = wholeNumberOption(o.levels, '--levels', 0, 11)!;
       emit(context, treeLayout({
         ...common(o, TREE_DEFAULTS),
         levels,

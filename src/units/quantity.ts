@@ -86,6 +86,8 @@ export function parseQuantity(
     if (percent && Number.isFinite(Number(percent[1]))) return Number(percent[1]) / 100;
     throw fail(`"${text}" is not a plain number`);
   }
+  const leading = /^[-+]?(Infinity|NaN|(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?)/.exec(text);
+  if (leading && !Number.isFinite(Number(leading[0]))) throw fail(`"${text}": the number ${leading[0]} is not finite`);
   let q: Qty;
   try {
     q = Qty(normalise(text));

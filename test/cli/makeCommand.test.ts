@@ -71,4 +71,12 @@ describe('stratiflow make', () => {
     expect(err.trim().split('\n')).toHaveLength(1);
     expect(err).toMatch(/--contactors/);
   });
+
+  it('refuses a tree deeper than eleven levels, whose leaf branches would be shorter than 1 um, in one line with exit status 2', async () => {
+    const { code, out, err } = await runCli(['make', 'tree', '--levels', '12']);
+    expect(code).toBe(2);
+    expect(out).toBe('');
+    expect(err.trim().split('\n')).toHaveLength(1);
+    expect(err).toMatch(/--levels/);
+  });
 });

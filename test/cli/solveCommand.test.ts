@@ -10,6 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { stringify } from 'yaml';
 import { runCli } from '../support/cli.js';
 import { singleContactorLayout, wellDesignedLadder } from '../support/layouts.js';
+import { ladderLayout } from '../../src/layout/generate.js';
 
 
 const dir = mkdtempSync(join(tmpdir(), 'stratiflow-solve-'));
@@ -140,4 +141,18 @@ describe('stratiflow solve', () => {
       expect(json.converged).toBe(true);
     });
   }
+});
+
+describe('stratiflow solve and the loader', () => {
+  it('prints what the loader found suspicious among the warnings: a merge and split listed the other way from the rest', async () => {
+    const layout = ladderLayout({ contactors: 4 });
+    for (const node of layout.nodes) {
+      if (node.id === 'm2' && node.type === 'merge') node.inlets = ['fB2', 'fA2'];
+      if (node.id === 's2' && node.type === 'split') node.outlets = ['oB2', 'oA2'];
+    }
+    const file = join(dir, 'swapped.yaml');
+    writeFileSync(file, stringify(layout));
+    const { out } = await runCli(['solve', file]);
+    expect(out).toMatch(/merge m2: phase B on the near side/);
+  });
 });
