@@ -13,6 +13,8 @@ import { benchNetwork } from './network.js';
 import { benchTolerance } from './tolerance.js';
 import { benchExtraction } from './extraction.js';
 import { benchWindow } from './window.js';
+import { benchSparseLu } from './sparseLu.js';
+import { benchMaldistribution } from './maldistribution.js';
 
 interface Benchmark {
   name: string;
@@ -23,6 +25,8 @@ const BENCHMARKS: Benchmark[] = [
   { name: 'section', run: benchSection },
   { name: 'render', run: benchRender },
   { name: 'network', run: benchNetwork },
+  { name: 'maldistribution', run: benchMaldistribution },
+  { name: 'sparse-lu', run: benchSparseLu },
   { name: 'extraction', run: benchExtraction },
   { name: 'tolerance', run: benchTolerance },
   { name: 'window', run: benchWindow },

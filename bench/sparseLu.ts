@@ -7,12 +7,7 @@
  */
 
 import { SparseLuSymbolic, TripletBuilder, approximateMinimumDegree, factorizeDense, type SparseMatrix } from '../src/solver/linear.js';
-
-export interface BenchFigure {
-  name: string;
-  value: number;
-  unit: string;
-}
+import type { Row } from './report.js';
 
 /**
  * The minimal standard generator (Park & Miller, 1988) with the multiplier 48271 of Park, Miller &
@@ -74,7 +69,7 @@ function fastest(runs: number, task: () => void): number {
   return best;
 }
 
-export function benchSparseLu(): BenchFigure[] {
+export function benchSparseLu(): Row[] {
   const sparseSize = 10_000;
   const denseSize = 1_000;
   const a = ladderMatrix(sparseSize);

@@ -10,6 +10,7 @@ import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, PhaseName } from '../network/model.js';
 import { area, hydraulicDiameter } from '../physics/section.js';
 import { spannedDimension } from '../network/topology.js';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 /** Standard gravity, m/s² (CGPM 1901). */
 const GRAVITY = 9.80665;
@@ -147,8 +148,8 @@ function leakStateName(state: SplitState): LeakState {
 
 export function spreadOf(values: number[]): Spread {
   if (values.length === 0) return { min: 0, max: 0, mean: 0, ratio: 1, cv: 0 };
-  const min = Math.min(...values);
-  const max = Math.max(...values);
+  const min = minOf(values) ?? Infinity;
+  const max = maxOf(values) ?? -Infinity;
   const mean = values.reduce((a, b) => a + b, 0) / values.length;
   const variance = values.reduce((a, v) => a + (v - mean) ** 2, 0) / values.length;
   return { min, max, mean, ratio: min !== 0 ? max / min : Infinity, cv: mean !== 0 ? Math.sqrt(variance) / Math.abs(mean) : 0 };
@@ -293,7 +294,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     const hits = regime[key];
     if (hits.length === 0) continue;
     const values = hits.map(([, v]) => v);
-    const range = `${Math.min(...values).toPrecision(3)}${hits.length > 1 ? `–${Math.max(...values).toPrecision(3)}` : ''}`;
+    const range = `${(minOf(values) ?? Infinity).toPrecision(3)}${hits.length > 1 ? `–${(maxOf(values) ?? -Infinity).toPrecision(3)}` : ''}`;
     const names = hits.length <= 3 ? hits.map(([id]) => id).join(', ') : `${hits[0]![0]} … ${hits[hits.length - 1]![0]}`;
     warnings.push(`${hits.length} contactor${hits.length > 1 ? 's' : ''} (${names}): ${regimeText[key]} (${range})`);
   }
@@ -332,7 +333,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     }
     if (node.kind === 'outlet') outlets.push({ id: node.id, pressure: p[i]!, flowA: -netOutA[i]!, flowB: -(netOut[i]! - netOutA[i]!) });
   }
-  const maxPressure = Math.max(...p);
+  const maxPressure = maxOf(p) ?? -Infinity;
   if (chip.maxPressure !== undefined && maxPressure > chip.maxPressure) {
     const over = chip.nodes.filter((n) => (network.portsOf.get(n.id) ?? []).some((i) => p[i]! > chip.maxPressure!)).map((n) => n.id);
     warnings.push(`pressure ${(maxPressure / 1e3).toFixed(1)} kPa exceeds the rating of ${(chip.maxPressure / 1e3).toFixed(1)} kPa at ${over.slice(0, 5).join(', ')}${over.length > 5 ? ` and ${over.length - 5} more` : ''}`);

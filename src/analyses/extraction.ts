@@ -12,6 +12,7 @@ import { holdupForFlowFraction } from '../physics/section.js';
 import { depthAveragedCellMeans, type LayerCells, type LayerFaces } from '../physics/profile.js';
 import { solveTransport, TRANSPORT_DEFAULTS, type TransportResult } from '../physics/transport.js';
 import { StratiflowError, StratiflowErrors } from '../errors.js';
+import { max as maxOf } from 'd3-array';
 
 export interface SoluteSetup {
   label: string;
@@ -309,7 +310,7 @@ export function analyseExtraction(solved: SolvedChip, solute: SoluteSetup, optio
       spreadCost: fed > 0 ? (evenTransferred - transferred) / fed : 0,
       extraction: spreadOf(contactors.map((r) => r.extraction)),
       approach: spreadOf(contactors.map((r) => r.approach)),
-      longest99: all99.some((v) => v === null) || all99.length === 0 ? null : Math.max(...(all99 as number[])),
+      longest99: all99.some((v) => v === null) || all99.length === 0 ? null : (maxOf(all99 as number[]) ?? -Infinity),
       converged: contactors.every((r) => r.converged),
     },
     profiles: featuredProfiles(contactors, transports),

@@ -30,6 +30,7 @@ import type { WarmStart } from '../solver/newton.js';
 import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
 import { describeProblems, operatingVerdict } from './verdict.js';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 export const TARGET_KINDS = ['flowA', 'flowB', 'throughput', 'ratio', 'holdup'] as const;
 export type TargetKind = (typeof TARGET_KINDS)[number];
@@ -175,7 +176,7 @@ export function tuneChip(chip: Chip, spec: TuneSpec): TuneResult {
       return { kind: t.kind, target: t.value, achieved, relativeError: Math.abs(achieved - t.value) / Math.abs(t.value) };
     }),
     sensitivity: lin.J.to2DArray().map((row, k) => row.map((v, l) => (v * Math.abs(spec.targets[k]!.value)) / scale[l]!)),
-    minMargin: solved.result.splits.length ? Math.min(...solved.result.splits.map((s) => s.margin)) : Infinity,
+    minMargin: solved.result.splits.length ? (minOf(solved.result.splits.map((s) => s.margin)) ?? Infinity) : Infinity,
     spareFreedom,
     solves: seeker.solves,
   };
@@ -294,7 +295,7 @@ class Seeker {
 
   /** Newton on the targets within the bounds, minimum-norm steps with backtracking. */
   meetTargets(start: Evaluation, bounds: Bounds): { at: Evaluation; lin: Linearisation; met: boolean } {
-    const worst = (e: Evaluation) => Math.max(...e.r.map(Math.abs));
+    const worst = (e: Evaluation) => (maxOf(e.r.map(Math.abs)) ?? -Infinity);
     let at = start;
     let lin = this.linearise(at);
     for (let step = 0; step < MAX_NEWTON_STEPS && worst(at) > TARGET_TOLERANCE; step++) {
@@ -450,14 +451,14 @@ function movingDirections(lin: Linearisation): Matrix {
   const square = new Matrix(n, n);
   J.to2DArray().forEach((row, k) => row.forEach((v, l) => square.set(k, l, v)));
   const svd = new SingularValueDecomposition(square, { autoTranspose: false });
-  const largest = Math.max(...svd.diagonal, 1e-300);
+  const largest = Math.max(maxOf(svd.diagonal) ?? 0, 1e-300);
   const nullColumns = svd.diagonal.flatMap((s, l) => (s <= 1e-10 * largest ? [l] : []));
   if (nullColumns.length === 0 || G.rows === 0) return new Matrix(n, 0);
   const N = new Matrix(svd.rightSingularVectors.to2DArray().map((row) => nullColumns.map((l) => row[l]!)));
   const effect = G.mmul(N);
   const inner = new SingularValueDecomposition(effect.rows >= effect.columns ? effect : effect.transpose(), { autoTranspose: false });
   const sigma = inner.diagonal;
-  const strongest = Math.max(...sigma, 0);
+  const strongest = Math.max(maxOf(sigma) ?? 0, 0);
   if (strongest === 0) return new Matrix(n, 0);
   const V = effect.rows >= effect.columns ? inner.rightSingularVectors : inner.leftSingularVectors;
   const keep = sigma.flatMap((s, q) => (s > FLAT * strongest ? [q] : []));
@@ -578,13 +579,13 @@ function checkOutcome(
   if (outside.length === 0) return;
   const splitIds = solved.network.splits.map((s) => s.node.id);
   // Can one common shift of every split's p_B − p_A bring all into their windows?
-  const lowest = Math.max(...at.delta.map((d, i) => windows[i]![0] - d));
-  const highest = Math.min(...at.delta.map((d, i) => windows[i]![1] - d));
-  const iMin = at.delta.indexOf(Math.min(...at.delta));
-  const iMax = at.delta.indexOf(Math.max(...at.delta));
+  const lowest = maxOf(at.delta.map((d, i) => windows[i]![0] - d)) ?? -Infinity;
+  const highest = minOf(at.delta.map((d, i) => windows[i]![1] - d)) ?? Infinity;
+  const iMin = at.delta.indexOf((minOf(at.delta) ?? Infinity));
+  const iMax = at.delta.indexOf((maxOf(at.delta) ?? -Infinity));
   const spread = at.delta[iMax]! - at.delta[iMin]!;
   const widths = windows.map(([low, high]) => high - low);
-  const width = Math.min(...widths);
+  const width = minOf(widths) ?? Infinity;
   const where = `${outside.length} of ${at.delta.length} splits outside their windows`;
   if (lowest > highest) {
     const factor = spread / width;

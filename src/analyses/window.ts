@@ -26,6 +26,7 @@ import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, ChipNode } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
 import { operatingVerdict } from './verdict.js';
+import { min as minOf } from 'd3-array';
 
 // ---------------------------------------------------------------------------------------------
 // Settings
@@ -212,7 +213,7 @@ export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, 
     flowRatio: summary.throughputB > 0 ? summary.throughputA / summary.throughputB : Infinity,
     spreadCv: summary.spread.total.cv,
     spreadMaxMin: summary.spread.total.ratio,
-    minMargin: result.splits.length ? Math.min(...result.splits.map((s) => s.margin)) : NaN,
+    minMargin: result.splits.length ? (minOf(result.splits.map((s) => s.margin)) ?? Infinity) : NaN,
   };
 }
 

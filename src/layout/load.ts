@@ -46,6 +46,16 @@ export function loadLayout(path: string): Chip {
 export function parseLayout(text: string, source: string): Chip {
   // Text never holds NUL; a file that does is an image, an archive or the like.
   if (text.includes('\0')) throw new StratiflowError('bad-file', 'a binary file, not YAML or JSON', { file: source });
+  // JSON files go through JSON.parse, two orders of magnitude faster than a YAML parser on a
+  // chip of thousands of contactors. Everything else, and a JSON file that JSON.parse refuses,
+  // goes through the YAML parser (JSON is a subset of YAML), whose message names the line.
+  if (/\.json$/i.test(source)) {
+    try {
+      return layoutToChip(JSON.parse(text), source);
+    } catch (error) {
+      if (!(error instanceof SyntaxError)) throw error;
+    }
+  }
   let data: unknown;
   try {
     data = parseYaml(text, { prettyErrors: true });

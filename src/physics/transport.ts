@@ -28,6 +28,7 @@
  * when two successive extrapolations differ by less than the tolerance.
  */
 import type { LayerCells, LayerFaces } from './profile.js';
+import { min as minOf } from 'd3-array';
 
 export type FeedPhase = 'A' | 'B';
 
@@ -180,7 +181,7 @@ export function transferLength(grid: TransportGrid, partition: number): number {
     return count;
   };
   // The smallest eigenvalue is 0 (equilibrium); κ₁ is where the count reaches 2.
-  let hi = Math.min(...Array.from(diag).filter((d) => d > 0));
+  let hi = minOf(Array.from(diag).filter((d) => d > 0)) ?? Infinity;
   while (below(hi) < 2) hi *= 4;
   let lo = hi / 4;
   for (let i = 0; i < 200 && below(lo) >= 2; i++) lo /= 4;

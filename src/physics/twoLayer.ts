@@ -9,6 +9,7 @@
  * width W and depth D, S = W and L = D; for layers one above the other, S = D and L = W.
  */
 import { gaussLegendre16, oddPowerTail } from './series.js';
+import { min as minOf } from 'd3-array';
 
 export interface TwoLayerInput {
   /** Dimension across which the two layers lie, m. */
@@ -179,7 +180,7 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
     let lo = start;
     while (lo < end) {
       const active = [a, b].filter((len) => !saturatedAt(lo, len)).map(smoothScale);
-      const scale = active.length > 0 ? Math.min(...active) : Infinity;
+      const scale = active.length > 0 ? (minOf(active) ?? Infinity) : Infinity;
       const hi = Math.min(end, lo + Math.min(lo, 2 * scale));
       gaussLegendre16(summand, lo, hi, 4, panel, scratch);
       for (let i = 0; i < 4; i++) sum[i] += 0.5 * panel[i]!;

@@ -14,6 +14,7 @@ import type { SolvedChip } from '../analyses/chip.js';
 import type { PhaseName } from '../network/model.js';
 import { DISPLAY } from '../units/format.js';
 import { barChart, dotChart, lineChart, type LineSeries } from './chart.js';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 export interface ChipChart {
   /** Short stable name, usable as a file name or an HTML id. */
@@ -48,8 +49,8 @@ const MIN_SPAN = { holdup: 0.01, deviation: 2 };
 function atLeast(values: number[], span: number, lo = -Infinity, hi = Infinity): [number, number] | undefined {
   const finite = values.filter(Number.isFinite);
   if (finite.length === 0) return undefined;
-  const min = Math.min(...finite);
-  const max = Math.max(...finite);
+  const min = minOf(finite) ?? Infinity;
+  const max = maxOf(finite) ?? -Infinity;
   if (max - min >= span) return undefined;
   const start = Math.min(Math.max((min + max) / 2 - span / 2, lo), hi - span);
   return [start, start + span];

@@ -32,6 +32,7 @@ import {
   FONT_SIZE, TEXT_HALO, TITLE_SIZE, createDocument, drawLegend, el, hatchDefs, hatchFill, label, legendSize, num, serialise, textWidth,
   type LegendEntry, type SvgNode,
 } from './svg.js';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 export interface ChipDrawingOptions {
   /** 'phase' (default): channels in their phase's colour; 'pressure': nodes and single-phase channels by pressure. */
@@ -158,11 +159,11 @@ function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widthScale:
   const { chip } = solved;
   const xs = chip.nodes.map((n) => n.x!);
   const ys = chip.nodes.map((n) => n.y!);
-  const [x0, x1, y0, y1] = [Math.min(...xs), Math.max(...xs), Math.min(...ys), Math.max(...ys)];
+  const [x0, x1, y0, y1] = [(minOf(xs) ?? Infinity), (maxOf(xs) ?? -Infinity), (minOf(ys) ?? Infinity), (maxOf(ys) ?? -Infinity)];
   const dx = x1 - x0;
   const dy = y1 - y0;
   const fits = [dx > 0 ? FIT.width / dx : Infinity, dy > 0 ? FIT.height / dy : Infinity];
-  let s = Math.min(...fits);
+  let s = minOf(fits) ?? Infinity;
   if (!Number.isFinite(s)) s = 1e5;
   const byId = new Map(chip.nodes.map((n) => [n.id, n]));
   const middles = contactors.map((c) => {
@@ -173,13 +174,13 @@ function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widthScale:
   const pitch = closestPair(middles);
   if (Number.isFinite(pitch)) s = Math.max(s, MIN_PITCH_PX / pitch);
   const longest = Math.max(dx, dy);
-  if (longest > 0) s = Math.min(s, Math.max(MAX_SIDE_PX / longest, Math.min(...fits)));
+  if (longest > 0) s = Math.min(s, Math.max(MAX_SIDE_PX / longest, (minOf(fits) ?? Infinity)));
 
   let factor = widthScale;
   if (factor === undefined) {
     const widths = (contactors.length > 0 ? contactors : chip.segments).map(planWidth);
-    const need = MIN_CONTACTOR_PX / (Math.min(...widths) * s);
-    const cap = Number.isFinite(pitch) ? (MAX_PITCH_SHARE * pitch) / Math.max(...widths) : Infinity;
+    const need = MIN_CONTACTOR_PX / ((minOf(widths) ?? Infinity) * s);
+    const cap = Number.isFinite(pitch) ? (MAX_PITCH_SHARE * pitch) / (maxOf(widths) ?? -Infinity) : Infinity;
     factor = need <= 1 ? 1 : niceCeil(need) <= cap ? niceCeil(need) : cap > 1 ? niceFloor(cap) : 1;
   }
   const at = new Map(chip.nodes.map((n) => [n.id, { x: (n.x! - x0) * s, y: (y1 - n.y!) * s }]));
@@ -190,11 +191,11 @@ function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widthScale:
 function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], widthScale: number | undefined): Placement {
   const { chip } = solved;
   const widths = chip.segments.map(planWidth);
-  const narrow = Math.min(...(contactors.length > 0 ? contactors : chip.segments).map(planWidth));
+  const narrow = minOf((contactors.length > 0 ? contactors : chip.segments).map(planWidth)) ?? Infinity;
   let k = niceCeil(AUTO_WIDTH.contactor / narrow);
-  if (Math.max(...widths) * k > AUTO_WIDTH.widest) k = niceFloor(AUTO_WIDTH.widest / Math.max(...widths));
+  if ((maxOf(widths) ?? -Infinity) * k > AUTO_WIDTH.widest) k = niceFloor(AUTO_WIDTH.widest / (maxOf(widths) ?? -Infinity));
   k *= widthScale ?? 1;
-  const widest = Math.max(...widths) * k;
+  const widest = (maxOf(widths) ?? -Infinity) * k;
   const g = new dagre.graphlib.Graph({ multigraph: true });
   g.setGraph({ rankdir: 'TB', nodesep: widest + 28, ranksep: 70 + widest, edgesep: widest + 12, marginx: 0, marginy: 0 });
   g.setDefaultEdgeLabel(() => ({}));
@@ -207,11 +208,11 @@ function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], width
   chip.segments.forEach((s, e) => g.setEdge(name.get(s.from)!, name.get(s.to)!, isContactor.has(s.id) ? { minlen: 2, weight: 4 } : {}, `e${e}`));
   dagre.layout(g);
   const raw = chip.nodes.map((n) => g.node(name.get(n.id)!) as { x: number; y: number });
-  const minX = Math.min(...raw.map((p) => p.x));
-  const minY = Math.min(...raw.map((p) => p.y));
+  const minX = minOf(raw.map((p) => p.x)) ?? Infinity;
+  const minY = minOf(raw.map((p) => p.y)) ?? Infinity;
   const at = new Map(chip.nodes.map((n, i) => [n.id, { x: raw[i]!.x - minX, y: raw[i]!.y - minY }]));
-  const width = Math.max(...raw.map((p) => p.x)) - minX;
-  const height = Math.max(...raw.map((p) => p.y)) - minY;
+  const width = (maxOf(raw.map((p) => p.x)) ?? -Infinity) - minX;
+  const height = (maxOf(raw.map((p) => p.y)) ?? -Infinity) - minY;
   const missing = chip.nodes.filter((n) => n.x === undefined || n.y === undefined).length;
   const per = 1 / k; // m per px
   const note =
@@ -271,7 +272,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
   const place = toScale ? placeToScale(solved, contactorSegments, options.widthScale) : placeAutomatically(solved, contactorSegments, options.widthScale);
   const drawnWidth = (s: ChipSegment) => planWidth(s) * place.widthPx;
-  const widest = Math.max(...chip.segments.map(drawnWidth));
+  const widest = maxOf(chip.segments.map(drawnWidth)) ?? -Infinity;
   const margin = Math.max(48, widest / 2 + 28);
 
   // Header lines and the legend decide where the chip starts.
@@ -315,7 +316,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     return Math.max(n.pressure, n.pressureA ?? -Infinity, n.pressureB ?? -Infinity);
   };
   const pressures = result.nodes.map((n) => nodePressure(n.id)).filter(Number.isFinite);
-  const pressureDomain: [number, number] = pressures.length ? [Math.min(...pressures), Math.max(...pressures)] : [0, 1];
+  const pressureDomain: [number, number] = pressures.length ? [(minOf(pressures) ?? Infinity), (maxOf(pressures) ?? -Infinity)] : [0, 1];
   if (pressureDomain[0] === pressureDomain[1]) pressureDomain[1] = pressureDomain[0] + 1;
   const pressureColour = (p: number) => viridis((p - pressureDomain[0]) / (pressureDomain[1] - pressureDomain[0]));
 
@@ -540,7 +541,7 @@ function drawContactors(
   // Contactor numbers, every k-th when they would crowd each other.
   if (labels.length === 0) return;
   const spacing = closestPair(labels.map((l) => l.p));
-  const widest = Math.max(...labels.map((l) => textWidth(l.text, FONT_SIZE - 1)));
+  const widest = maxOf(labels.map((l) => textWidth(l.text, FONT_SIZE - 1))) ?? -Infinity;
   let every = 1;
   for (const step of [1, 2, 5, 10, 20, 50, 100, 200, 500, 1000]) {
     every = step;

@@ -12,6 +12,7 @@ import { DISPLAY, fmt } from '../units/format.js';
 import { dotChart, lineChart, type LineSeries } from './chart.js';
 import { viridis } from './palette.js';
 import { SAFETY_NOTES, textTable, columnsCsv } from './text.js';
+import { max as maxOf } from 'd3-array';
 
 const MM = DISPLAY.lengthMm.factor;
 const percent = (v: number) => 100 * v;
@@ -139,7 +140,7 @@ export function extractionText(name: string, result: ExtractionResult): string {
   out.push('');
   out.push('chip');
   const items = extractionSummaryItems(result);
-  const width = Math.max(...items.map(([k]) => k.length)) + 2;
+  const width = (maxOf(items.map(([k]) => k.length)) ?? -Infinity) + 2;
   for (const [key, value] of items) out.push(`  ${key.padEnd(width)}${value}`);
   out.push('');
   out.push('model');

@@ -15,6 +15,7 @@
 import { createSVGWindow } from 'svgdom';
 import { SVG, registerWindow, type Dom } from '@svgdotjs/svg.js';
 import { DASH, INK, type MarkerShape } from './palette.js';
+import { max as maxOf } from 'd3-array';
 
 const window = createSVGWindow();
 registerWindow(window, window.document);
@@ -255,7 +256,7 @@ export function legendSize(entries: readonly LegendEntry[], width: number): { wi
   if (entries.length === 0) return { width: 0, height: 0 };
   const places = flowLegend(entries, width);
   const rowEnds = places.map((p, i) => p.x + entryWidth(entries[i]) - LEGEND_GAP);
-  return { width: Math.max(...rowEnds), height: (places[places.length - 1].row + 1) * LEGEND_ROW };
+  return { width: (maxOf(rowEnds) ?? -Infinity), height: (places[places.length - 1].row + 1) * LEGEND_ROW };
 }
 
 /** Entries in rows from (x, y), wrapping at `width`. */

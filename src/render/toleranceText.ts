@@ -7,6 +7,7 @@ import type { Quantity, ToleranceResult, Variation } from '../analyses/tolerance
 import { SAFETY_NOTES, textTable } from './text.js';
 import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
 import { RELATIVE_FLOW_RESOLUTION } from '../analyses/resolution.js';
+import { min as minOf } from 'd3-array';
 
 const UNIT: Record<Quantity, { symbol: string; factor: number }> = {
   depth: DISPLAY.length,
@@ -56,7 +57,7 @@ export function toleranceText(r: ToleranceResult, info: RunInfo): string {
   else {
     if (r.pinned) out.push(`  sampled       ${percent(r.pinned.value, 4)} (95 % interval ${percent(r.pinned.low, 3)} to ${percent(r.pinned.high, 3)}, ${r.pinned.count} of ${r.pinned.of})`);
     out.push(`  first order   ${percent(r.firstOrderPinned, 4)}`);
-    const margin = Math.min(...r.contactors.flatMap((c) => (c.nominalMargin === null ? [] : [c.nominalMargin])));
+    const margin = minOf(r.contactors.flatMap((c) => (c.nominalMargin === null ? [] : [c.nominalMargin]))) ?? Infinity;
     out.push(`  nominal       ${r.nominal.allPinned ? 'every split pinned' : `${r.nominal.leaking.length} splits leak`}; smallest window margin ${fmtResolved(margin, r.nominal.pressureResolution)} Pa`);
   }
   out.push('');

@@ -8,6 +8,7 @@ import { describePoint, settingName, POINT_CLASSES, type PointClass, type Settin
 import { regionMap, type MarkedPoint, type Point } from './chart.js';
 import { SAFETY_NOTES } from './text.js';
 import { DISPLAY, fmt } from '../units/format.js';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 export const CLASS_LABELS: Record<PointClass, string> = {
   pinned: 'all splits pinned',
@@ -74,8 +75,8 @@ export function targetCrossings(map: WindowMap, target: MapTarget): Point[] {
 function contourLevels(values: number[], count: number, extra?: number): number[] {
   const finite = values.filter(Number.isFinite);
   if (finite.length === 0) return [];
-  const lo = Math.min(...finite);
-  const hi = Math.max(...finite);
+  const lo = minOf(finite) ?? Infinity;
+  const hi = maxOf(finite) ?? -Infinity;
   let levels: number[];
   if (lo > 0 && hi / lo > 20) {
     levels = [];
@@ -175,7 +176,7 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
   out.push(`${chipName}: operating window over ${axis(x)} × ${axis(y)}`);
   out.push(`${total} points, ${map.splits} splits each; ${run.seconds.toFixed(1)} s on ${run.workers} worker${run.workers > 1 ? 's' : ''}`);
   out.push('');
-  const width = Math.max(...POINT_CLASSES.map((c) => CLASS_LABELS[c].length));
+  const width = maxOf(POINT_CLASSES.map((c) => CLASS_LABELS[c].length)) ?? -Infinity;
   for (const c of POINT_CLASSES) {
     if (map.counts[c] === 0) continue;
     out.push(`  ${CLASS_LABELS[c].padEnd(width)}  ${String(map.counts[c]).padStart(String(total).length)} points`);
@@ -183,13 +184,13 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
   const pinned = map.points.flat().filter((p) => p.class === 'pinned');
   out.push('');
   if (pinned.length > 0) {
-    const range = (values: number[], s: Setting) => `${show(s, Math.min(...values))} … ${show(s, Math.max(...values))}`;
+    const range = (values: number[], s: Setting) => `${show(s, (minOf(values) ?? Infinity))} … ${show(s, (maxOf(values) ?? -Infinity))}`;
     const flows = pinned.map((p) => p.throughput * DISPLAY.flow.factor);
     const ratios = pinned.map((p) => p.flowRatio);
     out.push('where every split is pinned');
     out.push(`  ${settingName(x.setting)}  ${range(pinned.map((p) => p.x), x.setting)}`);
     out.push(`  ${settingName(y.setting)}  ${range(pinned.map((p) => p.y), y.setting)}`);
-    out.push(`  throughput  ${fmt(Math.min(...flows))} … ${fmt(Math.max(...flows))} ${DISPLAY.flow.symbol}; flow ratio A/B ${fmt(Math.min(...ratios))} … ${fmt(Math.max(...ratios))}`);
+    out.push(`  throughput  ${fmt((minOf(flows) ?? Infinity))} … ${fmt((maxOf(flows) ?? -Infinity))} ${DISPLAY.flow.symbol}; flow ratio A/B ${fmt((minOf(ratios) ?? Infinity))} … ${fmt((maxOf(ratios) ?? -Infinity))}`);
     const best = pinned.reduce((a, b) => (b.minMargin > a.minMargin ? b : a));
     out.push(`  most room: every split at least ${fmt(best.minMargin)} Pa inside its window at ${settingName(x.setting)} = ${show(x.setting, best.x)}, ${settingName(y.setting)} = ${show(y.setting, best.y)}`);
   } else {

@@ -207,3 +207,27 @@ describe('loadLayout and parseLayout on files that are not layouts', () => {
     expect(lineOf(() => loadLayout(dir))).toMatch(/: is a folder, not a layout file$/);
   });
 });
+
+describe('parseLayout on JSON files', () => {
+  it('reads a .json layout into the same chip as the same layout written as YAML', () => {
+    const layout = singleContactorLayout();
+    const fromJson = parseLayout(JSON.stringify(layout), 'chip.json');
+    const fromYaml = parseLayout(stringify(layout), 'chip.yaml');
+    expect({ ...fromJson, source: '' }).toEqual({ ...fromYaml, source: '' });
+  });
+
+  it('names the line of a syntax error in a .json file, in one line', () => {
+    const text = '{\n  "name": "x",\n  "nodes": [ }\n';
+    let error: unknown;
+    try {
+      parseLayout(text, 'broken.json');
+    } catch (e) {
+      error = e;
+    }
+    expect(error).toBeInstanceOf(StratiflowError);
+    const line = (error as StratiflowError).format();
+    expect(line).toMatch(/broken\.json/);
+    expect(line).toMatch(/line 3/);
+    expect(line.split('\n')).toHaveLength(1);
+  });
+});
