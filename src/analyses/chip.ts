@@ -148,8 +148,8 @@ function leakStateName(state: SplitState): LeakState {
 
 export function spreadOf(values: number[]): Spread {
   if (values.length === 0) return { min: 0, max: 0, mean: 0, ratio: 1, cv: 0 };
-  const min = minOf(values) ?? Infinity;
-  const max = maxOf(values) ?? -Infinity;
+  const min = minOf(values)!;
+  const max = maxOf(values)!;
   const mean = values.reduce((a, b) => a + b, 0) / values.length;
   const variance = values.reduce((a, v) => a + (v - mean) ** 2, 0) / values.length;
   return { min, max, mean, ratio: min !== 0 ? max / min : Infinity, cv: mean !== 0 ? Math.sqrt(variance) / Math.abs(mean) : 0 };
@@ -294,7 +294,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     const hits = regime[key];
     if (hits.length === 0) continue;
     const values = hits.map(([, v]) => v);
-    const range = `${(minOf(values) ?? Infinity).toPrecision(3)}${hits.length > 1 ? `–${(maxOf(values) ?? -Infinity).toPrecision(3)}` : ''}`;
+    const range = `${minOf(values)!.toPrecision(3)}${hits.length > 1 ? `–${maxOf(values)!.toPrecision(3)}` : ''}`;
     const names = hits.length <= 3 ? hits.map(([id]) => id).join(', ') : `${hits[0]![0]} … ${hits[hits.length - 1]![0]}`;
     warnings.push(`${hits.length} contactor${hits.length > 1 ? 's' : ''} (${names}): ${regimeText[key]} (${range})`);
   }

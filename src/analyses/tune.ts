@@ -30,7 +30,7 @@ import type { WarmStart } from '../solver/newton.js';
 import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
 import { describeProblems, operatingVerdict } from './verdict.js';
-import { max as maxOf, min as minOf } from 'd3-array';
+import { max as maxOf, maxIndex, min as minOf, minIndex } from 'd3-array';
 
 export const TARGET_KINDS = ['flowA', 'flowB', 'throughput', 'ratio', 'holdup'] as const;
 export type TargetKind = (typeof TARGET_KINDS)[number];
@@ -176,7 +176,7 @@ export function tuneChip(chip: Chip, spec: TuneSpec): TuneResult {
       return { kind: t.kind, target: t.value, achieved, relativeError: Math.abs(achieved - t.value) / Math.abs(t.value) };
     }),
     sensitivity: lin.J.to2DArray().map((row, k) => row.map((v, l) => (v * Math.abs(spec.targets[k]!.value)) / scale[l]!)),
-    minMargin: solved.result.splits.length ? (minOf(solved.result.splits.map((s) => s.margin)) ?? Infinity) : Infinity,
+    minMargin: minOf(solved.result.splits.map((s) => s.margin)) ?? Infinity,
     spareFreedom,
     solves: seeker.solves,
   };
@@ -295,7 +295,7 @@ class Seeker {
 
   /** Newton on the targets within the bounds, minimum-norm steps with backtracking. */
   meetTargets(start: Evaluation, bounds: Bounds): { at: Evaluation; lin: Linearisation; met: boolean } {
-    const worst = (e: Evaluation) => (maxOf(e.r.map(Math.abs)) ?? -Infinity);
+    const worst = (e: Evaluation) => maxOf(e.r.map(Math.abs)) ?? -Infinity;
     let at = start;
     let lin = this.linearise(at);
     for (let step = 0; step < MAX_NEWTON_STEPS && worst(at) > TARGET_TOLERANCE; step++) {
@@ -458,7 +458,7 @@ function movingDirections(lin: Linearisation): Matrix {
   const effect = G.mmul(N);
   const inner = new SingularValueDecomposition(effect.rows >= effect.columns ? effect : effect.transpose(), { autoTranspose: false });
   const sigma = inner.diagonal;
-  const strongest = Math.max(maxOf(sigma) ?? 0, 0);
+  const strongest = maxOf(sigma) ?? 0;
   if (strongest === 0) return new Matrix(n, 0);
   const V = effect.rows >= effect.columns ? inner.rightSingularVectors : inner.leftSingularVectors;
   const keep = sigma.flatMap((s, q) => (s > FLAT * strongest ? [q] : []));
@@ -581,8 +581,8 @@ function checkOutcome(
   // Can one common shift of every split's p_B − p_A bring all into their windows?
   const lowest = maxOf(at.delta.map((d, i) => windows[i]![0] - d)) ?? -Infinity;
   const highest = minOf(at.delta.map((d, i) => windows[i]![1] - d)) ?? Infinity;
-  const iMin = at.delta.indexOf((minOf(at.delta) ?? Infinity));
-  const iMax = at.delta.indexOf((maxOf(at.delta) ?? -Infinity));
+  const iMin = minIndex(at.delta);
+  const iMax = maxIndex(at.delta);
   const spread = at.delta[iMax]! - at.delta[iMin]!;
   const widths = windows.map(([low, high]) => high - low);
   const width = minOf(widths) ?? Infinity;

@@ -213,7 +213,7 @@ export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, 
     flowRatio: summary.throughputB > 0 ? summary.throughputA / summary.throughputB : Infinity,
     spreadCv: summary.spread.total.cv,
     spreadMaxMin: summary.spread.total.ratio,
-    minMargin: result.splits.length ? (minOf(result.splits.map((s) => s.margin)) ?? Infinity) : NaN,
+    minMargin: result.splits.length ? minOf(result.splits.map((s) => s.margin))! : NaN,
   };
 }
 

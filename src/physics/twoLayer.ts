@@ -180,7 +180,7 @@ export function twoLayerFlow(input: TwoLayerInput): TwoLayerFlow {
     let lo = start;
     while (lo < end) {
       const active = [a, b].filter((len) => !saturatedAt(lo, len)).map(smoothScale);
-      const scale = active.length > 0 ? (minOf(active) ?? Infinity) : Infinity;
+      const scale = minOf(active) ?? Infinity;
       const hi = Math.min(end, lo + Math.min(lo, 2 * scale));
       gaussLegendre16(summand, lo, hi, 4, panel, scratch);
       for (let i = 0; i < 4; i++) sum[i] += 0.5 * panel[i]!;

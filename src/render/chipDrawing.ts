@@ -32,7 +32,7 @@ import {
   FONT_SIZE, TEXT_HALO, TITLE_SIZE, createDocument, drawLegend, el, hatchDefs, hatchFill, label, legendSize, num, serialise, textWidth,
   type LegendEntry, type SvgNode,
 } from './svg.js';
-import { max as maxOf, min as minOf } from 'd3-array';
+import { extent, max as maxOf, min as minOf } from 'd3-array';
 
 export interface ChipDrawingOptions {
   /** 'phase' (default): channels in their phase's colour; 'pressure': nodes and single-phase channels by pressure. */
@@ -159,7 +159,8 @@ function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widthScale:
   const { chip } = solved;
   const xs = chip.nodes.map((n) => n.x!);
   const ys = chip.nodes.map((n) => n.y!);
-  const [x0, x1, y0, y1] = [(minOf(xs) ?? Infinity), (maxOf(xs) ?? -Infinity), (minOf(ys) ?? Infinity), (maxOf(ys) ?? -Infinity)];
+  const [x0, x1] = extent(xs) as [number, number];
+  const [y0, y1] = extent(ys) as [number, number];
   const dx = x1 - x0;
   const dy = y1 - y0;
   const fits = [dx > 0 ? FIT.width / dx : Infinity, dy > 0 ? FIT.height / dy : Infinity];
@@ -174,7 +175,7 @@ function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widthScale:
   const pitch = closestPair(middles);
   if (Number.isFinite(pitch)) s = Math.max(s, MIN_PITCH_PX / pitch);
   const longest = Math.max(dx, dy);
-  if (longest > 0) s = Math.min(s, Math.max(MAX_SIDE_PX / longest, (minOf(fits) ?? Infinity)));
+  if (longest > 0) s = Math.min(s, Math.max(MAX_SIDE_PX / longest, minOf(fits) ?? Infinity));
 
   let factor = widthScale;
   if (factor === undefined) {
@@ -193,9 +194,10 @@ function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], width
   const widths = chip.segments.map(planWidth);
   const narrow = minOf((contactors.length > 0 ? contactors : chip.segments).map(planWidth)) ?? Infinity;
   let k = niceCeil(AUTO_WIDTH.contactor / narrow);
-  if ((maxOf(widths) ?? -Infinity) * k > AUTO_WIDTH.widest) k = niceFloor(AUTO_WIDTH.widest / (maxOf(widths) ?? -Infinity));
+  const widestPlan = maxOf(widths) ?? -Infinity;
+  if (widestPlan * k > AUTO_WIDTH.widest) k = niceFloor(AUTO_WIDTH.widest / widestPlan);
   k *= widthScale ?? 1;
-  const widest = (maxOf(widths) ?? -Infinity) * k;
+  const widest = widestPlan * k;
   const g = new dagre.graphlib.Graph({ multigraph: true });
   g.setGraph({ rankdir: 'TB', nodesep: widest + 28, ranksep: 70 + widest, edgesep: widest + 12, marginx: 0, marginy: 0 });
   g.setDefaultEdgeLabel(() => ({}));
@@ -316,7 +318,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     return Math.max(n.pressure, n.pressureA ?? -Infinity, n.pressureB ?? -Infinity);
   };
   const pressures = result.nodes.map((n) => nodePressure(n.id)).filter(Number.isFinite);
-  const pressureDomain: [number, number] = pressures.length ? [(minOf(pressures) ?? Infinity), (maxOf(pressures) ?? -Infinity)] : [0, 1];
+  const pressureDomain: [number, number] = pressures.length ? (extent(pressures) as [number, number]) : [0, 1];
   if (pressureDomain[0] === pressureDomain[1]) pressureDomain[1] = pressureDomain[0] + 1;
   const pressureColour = (p: number) => viridis((p - pressureDomain[0]) / (pressureDomain[1] - pressureDomain[0]));
 

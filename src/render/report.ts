@@ -173,7 +173,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
   }
   for (const i of summary.inlets) items.push([`inlet ${i.id} (${i.phase})`, `${kPa(i.pressure)} kPa, ${flow(i.flow)} µL/min`]);
   for (const o of summary.outlets) items.push([`outlet ${o.id}`, `${kPa(o.pressure)} kPa; A ${flow(o.flowA)} µL/min, B ${flow(o.flowB)} µL/min`]);
-  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved((minOf(result.splits.map((s) => s.margin)) ?? Infinity), pressureResolution(result))} Pa` : ''}`]);
+  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(minOf(result.splits.map((s) => s.margin)) ?? Infinity, pressureResolution(result))} Pa` : ''}`]);
   items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
   out.push(definitionList(items));
 

@@ -184,13 +184,13 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
   const pinned = map.points.flat().filter((p) => p.class === 'pinned');
   out.push('');
   if (pinned.length > 0) {
-    const range = (values: number[], s: Setting) => `${show(s, (minOf(values) ?? Infinity))} … ${show(s, (maxOf(values) ?? -Infinity))}`;
+    const range = (values: number[], s: Setting) => `${show(s, minOf(values) ?? Infinity)} … ${show(s, maxOf(values) ?? -Infinity)}`;
     const flows = pinned.map((p) => p.throughput * DISPLAY.flow.factor);
     const ratios = pinned.map((p) => p.flowRatio);
     out.push('where every split is pinned');
     out.push(`  ${settingName(x.setting)}  ${range(pinned.map((p) => p.x), x.setting)}`);
     out.push(`  ${settingName(y.setting)}  ${range(pinned.map((p) => p.y), y.setting)}`);
-    out.push(`  throughput  ${fmt((minOf(flows) ?? Infinity))} … ${fmt((maxOf(flows) ?? -Infinity))} ${DISPLAY.flow.symbol}; flow ratio A/B ${fmt((minOf(ratios) ?? Infinity))} … ${fmt((maxOf(ratios) ?? -Infinity))}`);
+    out.push(`  throughput  ${fmt(minOf(flows) ?? Infinity)} … ${fmt(maxOf(flows) ?? -Infinity)} ${DISPLAY.flow.symbol}; flow ratio A/B ${fmt(minOf(ratios) ?? Infinity)} … ${fmt(maxOf(ratios) ?? -Infinity)}`);
     const best = pinned.reduce((a, b) => (b.minMargin > a.minMargin ? b : a));
     out.push(`  most room: every split at least ${fmt(best.minMargin)} Pa inside its window at ${settingName(x.setting)} = ${show(x.setting, best.x)}, ${settingName(y.setting)} = ${show(y.setting, best.y)}`);
   } else {
