@@ -165,12 +165,11 @@ function checkAxis(axis: SweepAxis, name: string): void {
 /**
  * Solver settings of a sweep, over the solver's own defaults: a map needs the class of each
  * point and its totals to four or five digits, so mass balances to 1e-5 of the throughput do
- * (one or two Newton steps fewer than 1e-12 from a neighbour's solution; on the 64-contactor
- * ladder the classes came out the same as at 1e-6, and the totals to 7 digits); a point that
- * has not settled in 30 Newton steps or 8 rounds of state changes from a neighbour's solution
- * is, in practice, one the solver will not settle.
+ * (on the 64-contactor ladder the classes came out the same as at 1e-6, and the totals to 7
+ * digits); from a neighbour's solution a point settles in a few steps, and one that has not in
+ * 60 is, in practice, one the solver will not settle.
  */
-export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxNewtonIterations: 15, maxStateRounds: 3 };
+export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxIterations: 60 };
 
 /** Where a point lies on the grid and in setting values. */
 export interface GridPlace {

@@ -51,6 +51,18 @@ export class TripletBuilder {
     this.count++;
   }
 
+  /**
+   * Row operations on what has been added: for every entry (r, c, v) with target[r] ≥ 0, adds
+   * (target[r], c, factor[r]·v). Entries added afterwards are not affected.
+   */
+  addScaledRows(target: Int32Array, factor: Float64Array): void {
+    const count = this.count;
+    for (let k = 0; k < count; k++) {
+      const t = this.rows[k]! < target.length ? target[this.rows[k]!]! : -1;
+      if (t >= 0) this.add(t, this.cols[k]!, factor[this.rows[k]!]! * this.vals[k]!);
+    }
+  }
+
   /** Forgets all entries and keeps the storage, for the next assembly of the same system. */
   clear(): void {
     this.count = 0;

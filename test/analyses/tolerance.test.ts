@@ -233,7 +233,7 @@ describe('runTolerance when realisations fail', () => {
     const plan = planTolerance(chip, { viscosityA: normal(0.01) });
     const nominal = solveChip(chip);
     // No Newton step allowed: neither the warm nor the cold start can settle.
-    const context = { chip, plan, seed: 1, warm: warmStartFrom(nominal), solver: { maxNewtonIterations: 0 }, layout: observableLayout(nominal.result) };
+    const context = { chip, plan, seed: 1, warm: warmStartFrom(nominal), solver: { maxIterations: 0 }, layout: observableLayout(nominal.result) };
     const outcome = runJob(context, { kind: 'sample', index: 0, scale: 1 });
     expect(outcome.values).toBeUndefined();
     expect(outcome.problem).toMatch(/^did not converge/);
