@@ -18,7 +18,7 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 const cases: Array<{ name: string; args: string[]; contactors: number }> = [
   { name: 'ladder.yaml', args: ['ladder', '--contactors', '8'], contactors: 8 },
   { name: 'ladder-middle.json', args: ['ladder', '--contactors', '5', '--inlets', 'middle', '--outlets', 'middle', '--tube-diameter', '250um'], contactors: 5 },
-  { name: 'ladder-same.yaml', args: ['ladder', '--contactors', '6', '--outlets', 'same', '--pressure-a', '25 kPa', '--flow-b', '60 uL/min'], contactors: 6 },
+  { name: 'ladder-same.yaml', args: ['ladder', '--contactors', '6', '--outlets', 'same', '--pressure-a', '25 kPa', '--flow-b', '20 uL/min'], contactors: 6 },
   { name: 'tree.json', args: ['tree', '--levels', '3'], contactors: 8 },
   { name: 'tree-stacked.yaml', args: ['tree', '--levels', '2', '--orientation', 'stacked', '--contactor-width', '400um', '--depth', '60um'], contactors: 4 },
 ];
