@@ -10,6 +10,7 @@
  * closed, attributes quoted), so tests can check it with an XML parser. Every user string goes
  * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
  */
+import { findManifolds } from '../analyses/manifolds.js';
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ExtractionResult } from '../analyses/extraction.js';
 import type { ChipNode, ChipSegment } from '../network/model.js';
@@ -192,7 +193,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
 
   out.push('<h2>Charts</h2>');
   out.push('<div class="charts">');
-  for (const chart of chipCharts(solved)) out.push(`<figure class="chart" id="chart-${esc(chart.id)}">${chart.svg}</figure>`);
+  for (const chart of chipCharts(solved, findManifolds(solved))) out.push(`<figure class="chart" id="chart-${esc(chart.id)}">${chart.svg}</figure>`);
   out.push('</div>');
 
   out.push('<h2>Per-contactor table</h2>');

@@ -4,7 +4,8 @@ import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
-import { chipCharts, findManifolds } from '../../src/render/chipCharts.js';
+import { chipCharts } from '../../src/render/chipCharts.js';
+import { findManifolds } from '../../src/analyses/manifolds.js';
 import { chipReport } from '../../src/render/report.js';
 import { SAFETY_NOTES } from '../../src/render/text.js';
 import { analyseExtraction, type SoluteSetup } from '../../src/analyses/extraction.js';
@@ -64,7 +65,7 @@ describe('findManifolds', () => {
 
 describe('chipCharts', () => {
   it('draws per-contactor flows, holdup and deviation, and the pressure along both kinds of manifold, with labelled axes', () => {
-    const charts = chipCharts(ladder);
+    const charts = chipCharts(ladder, findManifolds(ladder));
     expect(charts.map((c) => c.id)).toEqual(['flows', 'holdup', 'deviation', 'pressure-distribution', 'pressure-collection']);
     for (const c of charts) expect(XMLValidator.validate(c.svg)).toBe(true);
     const svg = Object.fromEntries(charts.map((c) => [c.id, c.svg]));
@@ -79,7 +80,7 @@ describe('chipCharts', () => {
 
   it('gives equal contactors a readable axis instead of one spanning rounding noise', () => {
     // A symmetric tree feeds every contactor alike, up to rounding.
-    const holdup = chipCharts(tree).find((c) => c.id === 'holdup')!.svg;
+    const holdup = chipCharts(tree, findManifolds(tree)).find((c) => c.id === 'holdup')!.svg;
     const ticks = [...holdup.matchAll(/<g class="axis y">(.*?)<\/g>/g)][0]![1]!;
     for (const m of ticks.matchAll(/>([-\d.]+)<\/text>/g)) expect(m[1]!.length).toBeLessThanOrEqual(6);
   });

@@ -1,0 +1,71 @@
+/**
+ * The manifolds of a solved chip and the pressure along them. Exports `findManifolds` and the
+ * `Manifold` type. Computes only; the charts are drawn by render/chipCharts.ts.
+ *
+ * A manifold is a connected set of channels that touch neither a merge nor a split: the lines
+ * from an inlet to the feeds and from the drains to an outlet, whatever their group is called.
+ * Its profile is the pressure of each node against the distance along the channels from the
+ * manifold's inlet or outlet (Dijkstra's shortest paths, graphlib).
+ */
+import { Graph, alg } from '@dagrejs/graphlib';
+import type { SolvedChip } from './chip.js';
+import type { PhaseName } from '../network/model.js';
+import { connectedComponents } from '../network/topology.js';
+
+export interface Manifold {
+  role: 'distribution' | 'collection';
+  /** The phase its nodes nominally carry. */
+  phase: PhaseName;
+  /** The inlet or outlet it starts from; the node at the pressure extreme when it has none. */
+  entry: string;
+  /** Every node with its distance from the entry along the channels (m) and its pressure (Pa), by distance. */
+  profile: Array<{ node: string; distance: number; pressure: number }>;
+  /** True when the manifold branches (a tree), false for a single chain. */
+  branched: boolean;
+}
+
+export function findManifolds(solved: SolvedChip): Manifold[] {
+  const { chip, network, result } = solved;
+  const kind = new Map(chip.nodes.map((n) => [n.id, n.kind]));
+  const twoPhaseEnd = (id: string) => kind.get(id) === 'merge' || kind.get(id) === 'split';
+  const links = chip.segments.filter((s) => !twoPhaseEnd(s.from) && !twoPhaseEnd(s.to));
+  const degree = new Map<string, number>();
+  for (const s of links) for (const end of [s.from, s.to]) degree.set(end, (degree.get(end) ?? 0) + 1);
+  const linksOf = new Map<string, typeof links>();
+  const feedsMerge = new Set(chip.segments.filter((s) => kind.get(s.to) === 'merge').map((s) => s.from));
+  const drainsSplit = new Set(chip.segments.filter((s) => kind.get(s.from) === 'split').map((s) => s.to));
+  const pressure = new Map(result.nodes.map((n) => [n.id, n.pressure]));
+  const nominal = (id: string) => network.ports[network.portsOf.get(id)![0]!]!.nominal;
+
+  const members = chip.nodes.map((n) => n.id).filter((id) => degree.has(id));
+  const components = connectedComponents(members, links);
+  const componentOf = new Map<string, number>();
+  components.forEach((list, c) => list.forEach((id) => componentOf.set(id, c)));
+  for (const s of links) {
+    const c = String(componentOf.get(s.from));
+    const list = linksOf.get(c);
+    if (list) list.push(s);
+    else linksOf.set(c, [s]);
+  }
+
+  const manifolds: Manifold[] = [];
+  components.forEach((nodes, c) => {
+    const inlet = nodes.find((id) => kind.get(id) === 'inlet');
+    const outlet = nodes.find((id) => kind.get(id) === 'outlet');
+    const role = inlet !== undefined || (outlet === undefined && nodes.some((id) => feedsMerge.has(id))) ? 'distribution' : 'collection';
+    if (role === 'collection' && outlet === undefined && !nodes.some((id) => drainsSplit.has(id))) return;
+    const byPressure = [...nodes].sort((a, b) => pressure.get(b)! - pressure.get(a)!);
+    const entry = (role === 'distribution' ? inlet : outlet) ?? (role === 'distribution' ? byPressure[0]! : byPressure[byPressure.length - 1]!);
+    // Channels are undirected here; parallel channels between two nodes are separate edges.
+    const g = new Graph({ directed: false, multigraph: true });
+    for (const id of nodes) g.setNode(id);
+    for (const s of linksOf.get(String(c)) ?? []) g.setEdge(s.from, s.to, s.length, s.id);
+    const paths = alg.dijkstra(g, entry, (e) => g.edge(e) as number, (v) => g.nodeEdges(v) ?? []);
+    const profile = nodes
+      .map((node) => ({ node, distance: paths[node]!.distance, pressure: pressure.get(node)! }))
+      .sort((a, b) => a.distance - b.distance || a.node.localeCompare(b.node));
+    const phase: PhaseName = nominal(entry) >= 0.5 ? 'A' : 'B';
+    manifolds.push({ role, phase, entry, profile, branched: nodes.some((id) => degree.get(id)! > 2) });
+  });
+  return manifolds;
+}
