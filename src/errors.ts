@@ -56,14 +56,22 @@ export class StratiflowErrors extends StratiflowError {
   readonly problems: StratiflowError[];
 
   constructor(problems: StratiflowError[]) {
-    super(problems[0]?.code ?? 'bad-layout', problems.map((p) => p.format()).join('\n'));
+    super(problems[0]?.code ?? 'bad-layout', problems.slice(0, SHOWN_PROBLEMS).map((p) => p.format()).join('\n'));
     this.problems = problems;
   }
 
+  /** At most SHOWN_PROBLEMS lines, then one that counts the rest: a generated layout with one
+   * slip can repeat it on every one of thousands of nodes. */
   override format(): string {
-    return this.problems.map((p) => p.format()).join('\n');
+    const shown = this.problems.slice(0, SHOWN_PROBLEMS).map((p) => p.format());
+    const rest = this.problems.length - shown.length;
+    if (rest > 0) shown.push(`${this.problems[0]!.place.file ?? 'stratiflow'}: … and ${rest} more problems`);
+    return shown.join('\n');
   }
 }
+
+/** Problems printed of one failed load, at most. */
+export const SHOWN_PROBLEMS = 20;
 
 export function optionError(option: string, message: string): StratiflowError {
   return new StratiflowError('bad-option', message, { field: option });

@@ -32,7 +32,8 @@ export interface PlausibleRange {
  *   10 mm is wider than any channel a chip closes over.
  * - tubes: capillary tubing from 10 µm inner diameter up to 10 mm hose.
  * - lengths: 1 µm (a constriction) up to 10 m (a long tubing run).
- * - positions and reservoir heights: a bench set-up fits inside ±10 m.
+ * - reservoir heights: a bench set-up fits inside ±10 m; drawing positions within ±100 m (a
+ *   16 384-contactor ladder at 2 mm pitch is 33 m long as drawn).
  * - viscosity: 10 µPa·s lies below every liquid at room temperature (water 0.89 mPa·s, from
  *   memory) and 10 Pa·s above glycerol (1.4 Pa·s at 20 °C, from memory).
  * - density: 100 kg/m³ to 25 000 kg/m³ brackets every liquid (mercury 13 530 kg/m³, from memory).
@@ -52,7 +53,7 @@ export const PLAUSIBLE = {
   channel: { dimension: 'length', low: 1e-6, high: 10e-3, usual: 100e-6, what: 'a channel width or depth', limits: '1 um to 10 mm' },
   diameter: { dimension: 'length', low: 10e-6, high: 10e-3, usual: 250e-6, what: 'a tube diameter', limits: '10 um to 10 mm' },
   length: { dimension: 'length', low: 1e-6, high: 10, usual: 10e-3, what: 'a segment length', limits: '1 um to 10 m' },
-  position: { dimension: 'length', low: -10, high: 10, usual: 10e-3, what: 'a drawing position', limits: '-10 m to 10 m' },
+  position: { dimension: 'length', low: -100, high: 100, usual: 10e-3, what: 'a drawing position', limits: '-100 m to 100 m' },
   height: { dimension: 'length', low: -10, high: 10, usual: 0.1, what: 'a reservoir height', limits: '-10 m to 10 m' },
   viscosity: { dimension: 'viscosity', low: 1e-5, high: 10, usual: 1e-3, what: 'a liquid viscosity', limits: '0.01 mPa.s to 10 Pa.s' },
   density: { dimension: 'density', low: 100, high: 25e3, usual: 1000, what: 'a liquid density', limits: '100 kg/m3 to 25000 kg/m3' },

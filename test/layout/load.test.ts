@@ -10,7 +10,8 @@ import { join } from 'node:path';
 import { layoutToChip, loadLayout, MAX_LAYOUT_BYTES, parseLayout } from '../../src/layout/load.js';
 import { StratiflowError, StratiflowErrors } from '../../src/errors.js';
 import type { InletNode, OutletNode, SplitNode } from '../../src/network/model.js';
-import { singleContactorLayout } from '../support/layouts.js';
+import { singleContactorLayout, wellDesignedLadder } from '../support/layouts.js';
+import { SHOWN_PROBLEMS } from '../../src/errors.js';
 
 const deg = Math.PI / 180;
 
@@ -199,11 +200,21 @@ describe('loadLayout and parseLayout on files that are not layouts', () => {
     expect(lineOf(() => parseLayout('name: a\n---\nname: b\n', 'd.yaml'))).toMatch(/several YAML documents \(---\); a layout file holds one$/);
   });
 
+  it('print at most SHOWN_PROBLEMS problems and count the rest', () => {
+    // Regression: one slip repeated on every node of a generated ladder printed 38 000 lines.
+    const layout = wellDesignedLadder(40);
+    for (const node of layout.nodes) node.x = 1e6;
+    const lines = lineOf(() => layoutToChip(layout, 'big.json')).split('\n');
+    expect(lines).toHaveLength(SHOWN_PROBLEMS + 1);
+    expect(lines[0]).toMatch(/^big\.json: node \w+: x: 1000000 m is outside the range of a drawing position \(-100 m to 100 m\)/);
+    expect(lines[SHOWN_PROBLEMS]).toMatch(/^big\.json: … and \d+ more problems$/);
+  });
+
   it('refuse a file larger than MAX_LAYOUT_BYTES before reading it, and a folder', () => {
     // Regression: a 90 MB file of nodes ran the process out of memory after two minutes.
     const file = join(dir, 'huge.yaml');
     writeFileSync(file, 'name: huge\n' + '#'.repeat(MAX_LAYOUT_BYTES));
-    expect(lineOf(() => loadLayout(file))).toMatch(/huge\.yaml: is 16 MB; a layout file is at most 16 MB$/);
+    expect(lineOf(() => loadLayout(file))).toMatch(/huge\.yaml: is 16 MB; a YAML layout file is at most 16 MB$/);
     expect(lineOf(() => loadLayout(dir))).toMatch(/: is a folder, not a layout file$/);
   });
 });
