@@ -14,6 +14,7 @@ import { ladderLayout } from '../src/layout/generate.js';
 import { layoutToChip } from '../src/layout/load.js';
 import { solveChip } from '../src/analyses/chip.js';
 import type { Chip } from '../src/network/model.js';
+import type { LayoutFile } from '../src/layout/schema.js';
 import { medianSecondsPerCall, type Row } from './report.js';
 
 const SIZES = [16, 64, 256, 1024];
@@ -31,13 +32,18 @@ const DESIGN = {
   splitWindow: { low: -500, high: 500 },
 };
 
-const DESIGN_TEXT =
+export const DESIGN_TEXT =
   'ladder: manifolds 3 mm × 1 mm, contactors 100 µm × 50 µm × 40 mm side by side, feeds and drains 100 µm × 50 µm × 5 mm, ' +
   'both inlets at 20 kPa, outlets at 0 Pa, split window ±500 Pa';
 
-function ladder(contactors: number): Chip {
+/** The well-designed ladder of DESIGN as a layout file. */
+export function designedLadderLayout(contactors: number): LayoutFile {
   const { splitWindow, ...options } = DESIGN;
-  return layoutToChip({ ...ladderLayout({ contactors, ...options }), splitWindow }, `ladder of ${contactors}`);
+  return { ...ladderLayout({ contactors, ...options }), splitWindow };
+}
+
+function ladder(contactors: number): Chip {
+  return layoutToChip(designedLadderLayout(contactors), `ladder of ${contactors}`);
 }
 
 const MILLI = 1e3;

@@ -15,6 +15,7 @@ import { benchExtraction } from './extraction.js';
 import { benchWindow } from './window.js';
 import { benchSparseLu } from './sparseLu.js';
 import { benchMaldistribution } from './maldistribution.js';
+import { benchScale } from './scale.js';
 
 interface Benchmark {
   name: string;
@@ -27,6 +28,7 @@ const BENCHMARKS: Benchmark[] = [
   { name: 'network', run: benchNetwork },
   { name: 'maldistribution', run: benchMaldistribution },
   { name: 'sparse-lu', run: benchSparseLu },
+  { name: 'scale', run: benchScale },
   { name: 'extraction', run: benchExtraction },
   { name: 'tolerance', run: benchTolerance },
   { name: 'window', run: benchWindow },

@@ -15,6 +15,8 @@ import type { Row } from './report.js';
 
 const SAMPLES = 1000;
 const CONTACTORS = 64;
+/** Target of the scale issue: one solve of the 64-contactor chip in at most 3 ms of CPU. */
+const SOLVE_CPU_TARGET_MS = 3;
 /** Issue 6: 1000 realisations of a 64-contactor ladder in 30 s on a 2-core machine. */
 const WALL_TARGET_S = 30;
 
@@ -48,7 +50,7 @@ export async function benchTolerance(): Promise<Row[]> {
   return [
     { name: `${SAMPLES} realisations × ${CONTACTORS} contactors, ${workers} threads, with first-order estimate (${r.firstOrder?.solves ?? 0} more solves)`, value: wall, unit: 's', target: WALL_TARGET_S },
     { name: 'CPU time of all threads', value: (cpu.user + cpu.system) / 1e6, unit: 's' },
-    { name: 'CPU time per solve', value: ((cpu.user + cpu.system) / 1e3) / solves, unit: 'ms' },
+    { name: 'CPU time per solve', value: ((cpu.user + cpu.system) / 1e3) / solves, unit: 'ms', target: SOLVE_CPU_TARGET_MS },
     { name: 'realisations not solved', value: r.notSolved.length, unit: 'count' },
     { name: 'every split pinned, sampled', value: 100 * (r.pinned?.value ?? NaN), unit: '%' },
     { name: 'every split pinned, first order', value: 100 * (r.firstOrderPinned ?? NaN), unit: '%' },
