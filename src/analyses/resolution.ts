@@ -3,6 +3,7 @@
  * tolerance, not a result, so that reports print it as 0. Exports `pressureResolution`,
  * `RELATIVE_PRESSURE_RESOLUTION`, `RELATIVE_FLOW_RESOLUTION`. No I/O.
  */
+import { max as maxOf } from 'd3-array';
 import type { ChipSolution } from './chip.js';
 
 /**
@@ -23,6 +24,6 @@ export const RELATIVE_FLOW_RESOLUTION = 1e-9;
 
 /** The smallest pressure difference the solution resolves, Pa (e.g. a split's margin). */
 export function pressureResolution(result: Pick<ChipSolution, 'nodes'>): number {
-  const highest = Math.max(0, ...result.nodes.map((n) => Math.max(Math.abs(n.pressure), Math.abs(n.pressureA ?? 0), Math.abs(n.pressureB ?? 0))));
+  const highest = maxOf(result.nodes, (n) => Math.max(Math.abs(n.pressure), Math.abs(n.pressureA ?? 0), Math.abs(n.pressureB ?? 0))) ?? 0;
   return RELATIVE_PRESSURE_RESOLUTION * highest;
 }

@@ -10,6 +10,7 @@
  * y ≈ y₀ + Σ_k g_k z_k evaluated on the same deviates gives first-order probabilities.
  * Exports `summariseTolerance` and the result types. No I/O.
  */
+import { max as maxOf } from 'd3-array';
 import { spreadOf, type ChipSolution } from './chip.js';
 import { describeSample, sdAgrees, wilsonInterval, Z95, type ProbabilityEstimate, type SampleStatistics } from './sampleStatistics.js';
 import { pressureResolution } from './resolution.js';
@@ -362,7 +363,7 @@ export function summariseTolerance(input: SummaryInput): ToleranceResult {
     };
   });
   sweep.sort((a, b) => a.scale - b.scale);
-  const maxScale = Math.max(2, ...input.sampled.map((s) => s.scale));
+  const maxScale = Math.max(2, maxOf(input.sampled, (s) => s.scale) ?? 0);
   const allDraws = modelIndices(null);
   const firstOrderCurve = linear && M > 0 && samples > 0 ? Array.from({ length: CURVE_POINTS + 1 }, (_, j) => ({ scale: (maxScale * j) / CURVE_POINTS, pinned: modelProbability((maxScale * j) / CURVE_POINTS, allDraws)! })) : [];
 

@@ -395,7 +395,7 @@ class Seeker {
       add(unit, 0, trust);
       add(unit.map((v) => -v), 0, trust);
     }
-    const width = Math.max(1, ...this.windows.map(([low, high]) => high - low));
+    const width = Math.max(1, maxOf(this.windows, ([low, high]) => high - low) ?? 0);
     const x = simplexMaximise([...new Array<number>(2 * k).fill(-1e-9 * width), 1], rows, rhs);
     if (!x) return { du: new Array<number>(basis.rows).fill(0), gain: 0 };
     const w = Array.from({ length: k }, (_, q) => x[q]! - x[k + q]!);

@@ -14,6 +14,7 @@
  * An explicit domain that is not finite, or not positive on a log axis, is the caller's error
  * and throws a RangeError.
  */
+import { max as maxOf } from 'd3-array';
 import { scaleBand, scaleLinear, scaleLog, scaleSequential, type ScaleLinear, type ScaleLogarithmic } from 'd3-scale';
 import { line } from 'd3-shape';
 import { DASH, INK, categoryColour, seriesStyle, viridis, type MarkerShape } from './palette.js';
@@ -373,7 +374,7 @@ function cellEdges(a: number, b: number, n: number): number[] {
 }
 
 function gridSize(grid: Grid): { nx: number; ny: number } {
-  return { nx: Math.max(0, ...grid.map((row) => row.length)), ny: grid.length };
+  return { nx: maxOf(grid, (row) => row.length) ?? 0, ny: grid.length };
 }
 
 function drawOverlayLine(parent: SvgNode, d: string, dashed: boolean): void {
@@ -487,7 +488,7 @@ function drawColourBar(parent: SvgNode, frame: Frame, spec: ColourBarSpec, domai
 
 /** Label every k-th index value, k from 1, 2, 5, 10, 20, 50 …, so that labels do not collide. */
 function labelEvery(index: readonly number[], step: number): number {
-  const widest = Math.max(0, ...index.map((v) => textWidth(String(v))));
+  const widest = maxOf(index, (v) => textWidth(String(v))) ?? 0;
   for (let decade = 1; ; decade *= 10) {
     for (const k of [1, 2, 5]) if (k * decade * step >= widest + 6 || k * decade >= index.length) return k * decade;
   }

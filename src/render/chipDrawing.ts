@@ -605,7 +605,7 @@ function drawPorts(
 function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegment[], at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number): void {
   const { result } = solved;
   const byId = new Map(result.segments.map((s) => [s.id, s]));
-  const peak = Math.max(0, ...result.segments.map((s) => Math.abs(s.flowA + s.flowB)));
+  const peak = maxOf(result.segments, (s) => Math.abs(s.flowA + s.flowB)) ?? 0;
   const normal: string[] = [];
   const g = el(root, 'g', { class: 'flow-direction' });
   const back = el(root, 'g', { class: 'backflow-arrows', fill: BACKFLOW_COLOUR, stroke: INK.text, 'stroke-width': 1 });

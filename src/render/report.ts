@@ -205,12 +205,13 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
     ),
   );
   if (result.splits.length > 0) {
+    const resolution = pressureResolution(result);
     out.push('<h2>Outlet splits</h2>');
     out.push(
       table(
         ['split', 'contactor', 'state', 'p_B − p_A Pa', 'window Pa', 'margin Pa', 'leak µL/min', 'near outlet pure %', 'far outlet pure %'],
         result.splits.map((s) => [
-          s.id, s.contactor, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmtResolved(s.margin, pressureResolution(result)), flow(s.leak),
+          s.id, s.contactor, s.state, fmt(s.pressureDifference), `${fmt(s.window[0])} … ${fmt(s.window[1])}`, fmtResolved(s.margin, resolution), flow(s.leak),
           (100 * s.purityNear).toFixed(2), (100 * s.purityFar).toFixed(2),
         ]),
         { textColumns: [0, 1, 2], rowClass: (i) => (result.splits[i]!.state !== 'pinned' ? 'leaking' : undefined) },

@@ -9,7 +9,7 @@ import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
 import { starvedPhase, type OperatingProblem } from '../analyses/verdict.js';
 import { pressureResolution } from '../analyses/resolution.js';
 import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
-import { min as minOf } from 'd3-array';
+import { max as maxOf, min as minOf } from 'd3-array';
 
 export const SAFETY_NOTES = [
   'Pressurised chips, fittings and tubing can fail suddenly: stay below the rating of the weakest part, ramp pressures up slowly, and wear eye protection near a pressurised chip.',
@@ -19,7 +19,7 @@ export const SAFETY_NOTES = [
 
 /** Left-aligned first column, right-aligned others, padded to the widest cell. */
 export function textTable(header: string[], rows: string[][]): string {
-  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const widths = header.map((h, i) => Math.max(h.length, maxOf(rows, (r) => (r[i] ?? '').length) ?? 0));
   const line = (cells: string[]) => cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('  ');
   return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
 }
