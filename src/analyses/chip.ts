@@ -5,7 +5,7 @@
  * Exports `solveChip`, `summariseSolution` and the result types. No I/O.
  */
 import { assembleNetwork, type Network } from '../network/assemble.js';
-import { solveNetwork, type NetworkSolution, type SplitState, type WarmStart } from '../solver/newton.js';
+import { solveNetwork, type NetworkSolution, type SolverWorkspace, type SplitState, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, PhaseName } from '../network/model.js';
 import { area, hydraulicDiameter } from '../physics/section.js';
@@ -130,9 +130,10 @@ export interface SolvedChip {
   result: ChipSolution;
 }
 
-export function solveChip(chip: Chip, options: SolverOptions = {}, warm?: WarmStart): SolvedChip {
+/** `workspace` carries holdup tables and sparse factors between the solves of a sweep (solver/newton.ts). */
+export function solveChip(chip: Chip, options: SolverOptions = {}, warm?: WarmStart, workspace?: SolverWorkspace): SolvedChip {
   const network = assembleNetwork(chip);
-  const raw = solveNetwork(network, options, warm);
+  const raw = solveNetwork(network, options, warm, workspace);
   return { chip, network, raw, result: summariseSolution(network, raw) };
 }
 

@@ -13,6 +13,7 @@
  * spec and result types. The model lives in ./toleranceModel.ts, the statistics in ./toleranceSummary.ts.
  * No file I/O; the caller formats and writes.
  */
+import { SolverWorkspace } from '../solver/newton.js';
 import type { Worker } from 'node:worker_threads';
 import { startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom } from './chip.js';
@@ -47,8 +48,9 @@ async function runJobs(context: JobContext, jobs: Job[], workers: number, progre
   const outcomes = new Array<Outcome>(jobs.length);
   const count = Math.min(workers, Math.ceil(jobs.length / 4));
   if (count <= 1) {
+    const workspace = new SolverWorkspace();
     for (const [i, job] of jobs.entries()) {
-      outcomes[i] = runJob(context, job);
+      outcomes[i] = runJob(context, job, workspace);
       progress(i + 1);
       // Let timers (a progress bar's redraw) run now and then.
       if (i % 32 === 31) await new Promise((resolve) => setImmediate(resolve));

@@ -13,7 +13,7 @@
  */
 import { solveChip, type ChipSolution } from './chip.js';
 import { sampleStream, standardNormal, standardUniform } from './random.js';
-import type { WarmStart } from '../solver/newton.js';
+import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, ChipSegment } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
@@ -306,8 +306,12 @@ export type Outcome =
   | { values: Float64Array; states: Uint8Array; /** Solved only from a cold start. */ cold: boolean; problem?: undefined }
   | { problem: string; values?: undefined; states?: undefined; cold?: undefined };
 
-/** Warm start from the nominal solution; a realisation that does not settle from there is solved again from a cold start. */
-export function runJob(context: JobContext, job: Job): Outcome {
+/**
+ * Warm start from the nominal solution (the solver itself falls back to a cold start when that
+ * does not settle). `workspace` is shared by the jobs of one thread: the realisations have the
+ * nominal chip's pattern, so its symbolic analysis and last factors serve them all.
+ */
+export function runJob(context: JobContext, job: Job, workspace = new SolverWorkspace()): Outcome {
   let z: Float64Array;
   let scale = 1;
   if (job.kind === 'sample') {
@@ -320,12 +324,8 @@ export function runJob(context: JobContext, job: Job): Outcome {
   const realised = realiseChip(context.chip, context.plan, z, scale);
   if (!realised.chip) return { problem: realised.problem };
   try {
-    let solved = solveChip(realised.chip, context.solver, context.warm);
-    let cold = false;
-    if (!solved.result.converged) {
-      solved = solveChip(realised.chip, context.solver);
-      cold = true;
-    }
+    const solved = solveChip(realised.chip, context.solver, context.warm, workspace);
+    const cold = solved.raw.restartedCold;
     if (!solved.result.converged) return { problem: `did not converge: ${solved.result.message ?? 'no reason given'}` };
     if (solved.result.contactors.length !== context.layout.contactors || solved.result.splits.length !== context.layout.splits) {
       return { problem: 'the solution has a different set of contactors or splits than the nominal one' };

@@ -21,7 +21,7 @@
 import type { Worker } from 'node:worker_threads';
 import { startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
-import type { WarmStart } from '../solver/newton.js';
+import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, ChipNode } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
@@ -169,7 +169,7 @@ function checkAxis(axis: SweepAxis, name: string): void {
  * digits); from a neighbour's solution a point settles in a few steps, and one that has not in
  * 60 is, in practice, one the solver will not settle.
  */
-export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxIterations: 60 };
+export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxIterations: 60, maxAttempts: 2 };
 
 /** Where a point lies on the grid and in setting values. */
 export interface GridPlace {
@@ -252,8 +252,9 @@ export function predictedStart(last: WarmStart, before: WarmStart | undefined): 
 /**
  * Solves the points in order. Each starts from the prediction of the last two converged
  * solutions of the line (`seed` stands before the first); a point whose warm start fails is
- * tried once more from a cold start, unless the point before it failed too (a region where the
- * solver does not converge costs one attempt per point, not two).
+ * tried once more from a cold start (by the solver: SWEEP_SOLVER.maxAttempts), unless the point
+ * before it failed too (a region where the solver does not converge costs one attempt per
+ * point, not two). The points of a line share one solver workspace (symbolic analyses, factors).
  */
 export function sweepLine(
   chip: Chip,
@@ -265,6 +266,7 @@ export function sweepLine(
   const xs = axisValues(spec.x);
   const ys = axisValues(spec.y);
   const solver = { ...SWEEP_SOLVER, ...spec.solver };
+  const workspace = new SolverWorkspace();
   const points: WindowPoint[] = [];
   const warm: Array<WarmStart | undefined> = [];
   let last = seed;
@@ -273,12 +275,8 @@ export function sweepLine(
   let previousFailed = false;
   for (const { i, j } of line) {
     const variant = withSettings(chip, [[spec.x.setting, xs[i]!], [spec.y.setting, ys[j]!]]);
-    let solved = solveChip(variant, solver, last && predictedStart(last, before));
-    let attempts = 1;
-    if (!solved.result.converged && last !== undefined && !previousFailed) {
-      solved = solveChip(variant, solver);
-      attempts = 2;
-    }
+    const solved = solveChip(variant, previousFailed ? { ...solver, maxAttempts: 1 } : solver, last && predictedStart(last, before), workspace);
+    const attempts = solved.raw.restartedCold ? 2 : 1;
     if (solved.result.converged) {
       before = previousFailed || last === seed ? undefined : last;
       last = warmStartFrom(solved);

@@ -25,6 +25,11 @@ export const SOLVER_DEFAULTS = {
   minStep: 1 / 64,
   /** A step that raises the merit above this multiple is rejected and the pseudo-time step cut by 4. */
   rejectGrowth: 4,
+  /**
+   * Attempts at most (solver/newton.ts `solveNetwork`: merit weightings × warm and cold start);
+   * a sweep that can move on to the next point asks for fewer.
+   */
+  maxAttempts: Infinity,
   linear: 'sparse' as 'sparse' | 'dense',
 };
 

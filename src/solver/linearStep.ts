@@ -31,6 +31,14 @@ export class FactorCache {
   /** Patterns kept: a sweep alternates between at most a few (with and without compositions). */
   private static readonly PATTERNS = 4;
 
+  /**
+   * Forgets the last numeric factors, keeps the symbolic analyses: a new solve then depends only
+   * on its own iterates (stale factors change a result in its last digits), whatever ran before.
+   */
+  startSolve(): void {
+    this.last = undefined;
+  }
+
   solve(matrix: SparseMatrix, rhs: Float64Array): Float64Array {
     const last = this.last;
     if (last && last.uses < STALE_USES && samePattern(last.pattern, matrix)) {

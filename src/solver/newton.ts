@@ -65,6 +65,8 @@ export interface NetworkSolution {
   laneComposition: Float64Array;
   /** Not settled: the elements with the largest residuals. */
   unsettled: string[];
+  /** A warm start was given and did not settle; this solution comes from a cold start. */
+  restartedCold: boolean;
   message?: string;
 }
 
@@ -72,9 +74,10 @@ export interface NetworkSolution {
 export type WarmStart = Pick<NetworkSolution, 'pressure' | 'holdup' | 'leak' | 'splitStates' | 'crossover' | 'feedStates' | 'composition'>;
 
 /**
- * What a sequence of solves may share: holdup tables by geometry and fluids, and the sparse
- * factors. A solve given none makes its own, so two solves never influence each other unseen;
- * sweeps pass one explicitly.
+ * What a sequence of solves may share: holdup tables by geometry and fluids, and the symbolic
+ * analyses of the sparse factors by pattern. Numeric factors are not carried from one solve to
+ * the next, so a solve's result does not depend on what ran before it (a tolerance study gives
+ * the same figures on one thread or two). A solve given none makes its own; sweeps pass one.
  */
 export class SolverWorkspace {
   readonly factors = new FactorCache();
@@ -104,25 +107,28 @@ const LANE_WEIGHTS = ['manifold', 'natural', 'geometric'] as const;
 type LaneWeight = (typeof LANE_WEIGHTS)[number];
 
 /**
- * The steady state of the network: from `warm` when given (then, failing that, from a cold
- * start), with each merit weighting of LANE_WEIGHTS in turn until one settles; each attempt has
- * `maxIterations` steps. A solve that settles in none returns the attempt with the smallest
- * residual, and the steps of all attempts.
+ * The steady state of the network: with each merit weighting of LANE_WEIGHTS in turn, from
+ * `warm` when given and then from a cold start, until one attempt settles (at most
+ * `maxAttempts`, each of at most `maxIterations` steps). A solve that settles in none returns
+ * the attempt with the smallest residual, and the steps of all attempts.
  */
 export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: WarmStart, workspace = new SolverWorkspace()): NetworkSolution {
   const opt = { ...SOLVER_DEFAULTS, ...options };
+  workspace.factors.startSolve();
   let best: NetworkSolution | undefined;
   let steps = 0;
-  for (const start of warm ? [warm, undefined] : [undefined]) {
-    for (const laneWeight of LANE_WEIGHTS) {
+  let attempts = 0;
+  search: for (const laneWeight of LANE_WEIGHTS) {
+    for (const start of warm ? [warm, undefined] : [undefined]) {
+      if (attempts++ >= opt.maxAttempts) break search;
       const attempt = solveFrom(net, opt, start, workspace, laneWeight);
       steps += attempt.iterations;
-      if (attempt.converged) return { ...attempt, iterations: steps };
+      if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined };
       if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
     }
   }
-  const attempts = (warm ? 2 : 1) * LANE_WEIGHTS.length;
-  return { ...best!, iterations: steps, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
+  attempts = Math.min(attempts, opt.maxAttempts);
+  return { ...best!, iterations: steps, restartedCold: warm !== undefined, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
 }
 
 function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight): NetworkSolution {
@@ -156,10 +162,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   /** Largest |J_ij| over the pressure columns of each row: the row's conductance, for the merit. */
   const rowScale = new Float64Array(n).fill(1);
   /** Row-equilibrated 2-norm of the residual above each row's rounding floor, Pa. */
-  const merit = (): number => {
+  const merit = (F = eq.F, noise = eq.noise): number => {
     let all = 0;
     for (let i = 0; i < n; i++) {
-      const a = Math.max(0, Math.abs(eq.F[i]!) - ROUNDING_FLOOR_FACTOR * eq.noise[i]!) / rowScale[i]!;
+      const a = Math.max(0, Math.abs(F[i]!) - ROUNDING_FLOOR_FACTOR * noise[i]!) / rowScale[i]!;
       all += a * a;
     }
     return Math.sqrt(all);
@@ -170,7 +176,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * ε·g·(|p_i| + |p_j|), whatever the iteration does.
    */
   const settled = (tolerance: number): boolean => {
-    for (let i = 0; i < n; i++) if (Math.abs(eq.F[i]!) > Math.max(tolerance, ROUNDING_FLOOR_FACTOR * eq.noise[i]!)) return false;
+    // Written so that a NaN row is not settled.
+    for (let i = 0; i < n; i++) if (!(Math.abs(eq.F[i]!) <= Math.max(tolerance, ROUNDING_FLOOR_FACTOR * eq.noise[i]!))) return false;
     return true;
   };
 
@@ -258,8 +265,9 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   };
 
 
-  const finish = (converged: boolean, rounds: number, message?: string, unsettled: string[] = []): NetworkSolution => {
-    eq.evaluate(x, settings(false));
+  /** The solution at x; `evaluated` when eq already holds x's evaluation without Jacobian. */
+  const finish = (converged: boolean, rounds: number, message?: string, unsettled: string[] = [], evaluated = false): NetworkSolution => {
+    if (!evaluated) eq.evaluate(x, settings(false));
     const pressure = new Float64Array(ports.length);
     const composition = new Float64Array(ports.length);
     for (let i = 0; i < ports.length; i++) {
@@ -286,6 +294,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       laneComposition: eq.laneComposition.slice(),
       unsettled,
       message,
+      restartedCold: false,
     };
   };
 
@@ -340,7 +349,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
           tau = Infinity;
           continue;
         }
-        if (withComposition) return finish(true, rounds);
+        if (withComposition) return finish(true, rounds, undefined, [], true);
         // Compositions become unknowns once the nominal ones no longer hold.
         const carried = propagatedCompositions(net, {
           pressure: (p) => eq.pressureOf(x, p),
@@ -350,7 +359,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
           crossover: eq.crossover,
         });
         const changed = carried.some((c, i) => Math.abs(c - eq.compositionOf(x, i)) > 1e-12);
-        if (!changed && eq.splitStates.every((st) => st === 'pinned') && eq.feedStates.every((st) => st === 'open')) return finish(true, rounds);
+        if (!changed && eq.splitStates.every((st) => st === 'pinned') && eq.feedStates.every((st) => st === 'open')) return finish(true, rounds, undefined, [], true);
         withComposition = true;
         rounds++;
         for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = carried[i]!;
@@ -366,10 +375,11 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         continue;
       }
       const start = x.slice();
+      const startF = eq.F.slice();
+      const startNoise = eq.noise.slice();
       const delta = step(tau);
       // The merit of the start, with its own split states and this step's row weights.
-      eq.evaluate(x, settings(false));
-      const before = merit();
+      const before = merit(startF, startNoise);
       if (improvedAt < stageStart) {
         bestMerit = Infinity;
         improvedAt = stageStart;

@@ -8,7 +8,7 @@ import { describe, expect, it } from 'vitest';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import { treeLayout, ladderLayout } from '../../src/layout/generate.js';
-import { solveChip, type ChipSolution } from '../../src/analyses/chip.js';
+import { solveChip, warmStartFrom, type ChipSolution } from '../../src/analyses/chip.js';
 import { twoLayerFlow } from '../../src/physics/twoLayer.js';
 import { flowFractionAt, holdupForFlowFraction, layerAxes, type RectSection } from '../../src/physics/section.js';
 import type { Chip } from '../../src/network/model.js';
@@ -558,6 +558,21 @@ describe('robustness of the solve', () => {
     const split = result.splits[0]!;
     expect(split.pressureDifference).toBeGreaterThanOrEqual(-500 * (1 + 1e-9));
     expect(split.pressureDifference).toBeLessThanOrEqual(500 * (1 + 1e-9));
+  });
+
+  // Regression: an iterate of NaN passed the settling test and came back as converged.
+  it('falls back to a cold start when a warm start cannot settle, says so, and gives the same answer', () => {
+    const chip = layoutToChip(wellDesignedLadder(4), 'four');
+    const cold = solveChip(chip);
+    const warm = warmStartFrom(cold);
+    const again = solveChip(chip, {}, { ...warm, pressure: warm.pressure.map(() => NaN) });
+    expect(cold.raw.restartedCold).toBe(false);
+    expect(again.raw.restartedCold).toBe(true);
+    expect(again.result.converged).toBe(true);
+    // The same steady state to the solver's settling tolerance (1e-12 of the throughput), with a
+    // margin of 1000 for the conditioning of the network.
+    const scale = cold.result.summary.throughputA + cold.result.summary.throughputB;
+    for (const seg of cold.result.segments) near(segmentOf(again.result, seg.id).flowA, seg.flowA, 1e-9 * scale, seg.id);
   });
 
   // Regression: the previous solve answered "Newton iteration stalled" on this chip after 100
