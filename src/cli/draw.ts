@@ -8,10 +8,10 @@ import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { solveChip } from '../analyses/chip.js';
 import { chipDrawing, type ChipDrawingOptions } from '../render/chipDrawing.js';
-import { choiceOption, numberOption } from './options.js';
+import { numberOption, choice } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
 import { unconverged } from './solve.js';
-import type { CommandContext } from './main.js';
+import type { CommandContext } from './context.js';
 import { optionError } from '../errors.js';
 
 interface DrawOptions {
@@ -26,11 +26,11 @@ export function registerDraw(program: Command, context: CommandContext): void {
     .description('Solve the chip and write its plan-view drawing: interfaces, flow directions, outlet split states (SVG).')
     .argument('<layout>', 'layout file (YAML or JSON)')
     .option('--out <file>', 'SVG file to write (default: the layout name with .svg, in the current directory)')
-    .option('--colour-by <phase|pressure>', 'colour single-phase channels by phase or by pressure', 'phase')
+    .addOption(choice('--colour-by <phase|pressure>', 'colour single-phase channels by phase or by pressure', ['phase', 'pressure'], 'phase'))
     .option('--width-scale <n>', 'draw channel widths n times wider than the length scale (default: automatic)')
     .action((file: string, options: DrawOptions) => {
       const config: ChipDrawingOptions = {
-        colourBy: choiceOption(options.colourBy, '--colour-by', ['phase', 'pressure'] as const),
+        colourBy: options.colourBy as 'phase' | 'pressure',
         widthScale: numberOption(options.widthScale, '--width-scale', true),
       };
       if (config.widthScale !== undefined && !(config.widthScale > 0)) throw optionError('--width-scale', 'must be positive');

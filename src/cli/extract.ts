@@ -14,10 +14,10 @@ import { TRANSPORT_DEFAULTS } from '../physics/transport.js';
 import { contactorExtractionChart, extractionAlongChart, extractionColouring, extractionCsv, extractionText } from '../render/extractionCharts.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { chipReport } from '../render/report.js';
-import { choiceOption, numberOption, quantityOption } from './options.js';
+import { numberOption, quantityOption, linearOption, type LinearSolver, choice } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
-import { jsonNumbers } from './solve.js';
-import type { CommandContext } from './main.js';
+import { jsonNumbers, type CommandContext } from './context.js';
+
 import { StratiflowError, StratiflowErrors, optionError } from '../errors.js';
 
 interface ExtractOptions {
@@ -49,12 +49,12 @@ export function registerExtract(program: Command, context: CommandContext): void
     .argument('<layout>', 'layout file (YAML or JSON); its `solute` and phase `diffusivity` values are used unless given here')
     .option('--solute <name>', 'name of the solute, for the output')
     .option('--partition <K>', 'partition coefficient K = c_B/c_A at equilibrium')
-    .option('--feed-phase <A|B>', 'phase that carries the solute in (the other enters clean)')
+    .addOption(choice('--feed-phase <A|B>', 'phase that carries the solute in (the other enters clean)', ['A', 'B']))
     .option('--feed-concentration <concentration>', 'solute concentration in the fed phase, e.g. 10mM (default 1 mol/m3: results are relative)')
     .option('--diffusivity-a <diffusivity>', 'diffusivity of the solute in phase A, e.g. 1e-9m2/s or 800um2/s')
     .option('--diffusivity-b <diffusivity>', 'diffusivity of the solute in phase B')
     .option('--tolerance <fraction>', 'accuracy of every extraction figure, as a share of the feed', String(TRANSPORT_DEFAULTS.tolerance))
-    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .addOption(linearOption())
     .option('--json', 'print one JSON object (SI units): the chip solution with an `extraction` member')
     .option('--csv <file>', 'write the per-contactor extraction table as CSV')
     .option('--out <dir>', `write the charts ${OUT_FILES.along} and ${OUT_FILES.perContactor}, the drawing ${OUT_FILES.drawing} (contactors coloured by approach to equilibrium) and ${OUT_FILES.report} into this folder`)
@@ -62,14 +62,14 @@ export function registerExtract(program: Command, context: CommandContext): void
       const overrides: SoluteOverrides = {
         label: options.solute,
         partition: quantityOption(options.partition, '--partition', 'dimensionless', true),
-        feedPhase: options.feedPhase === undefined ? undefined : choiceOption(options.feedPhase, '--feed-phase', ['A', 'B'] as const),
+        feedPhase: options.feedPhase as 'A' | 'B' | undefined,
         feedConcentration: quantityOption(options.feedConcentration, '--feed-concentration', 'concentration', true),
         diffusivityA: quantityOption(options.diffusivityA, '--diffusivity-a', 'diffusivity', true),
         diffusivityB: quantityOption(options.diffusivityB, '--diffusivity-b', 'diffusivity', true),
       };
       const tolerance = numberOption(options.tolerance, '--tolerance')!;
       if (!(tolerance >= 1e-6 && tolerance <= 1e-2)) throw optionError('--tolerance', 'must lie between 1e-6 and 1e-2');
-      const linear = choiceOption(options.linear, '--linear', ['sparse', 'dense'] as const);
+      const linear = options.linear as LinearSolver;
 
       const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
       const out = options.out === undefined ? undefined : outputFolder(options.out, '--out');

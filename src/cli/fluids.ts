@@ -5,7 +5,7 @@ import type { Command } from 'commander';
 import { FLUIDS } from '../physics/fluids.js';
 import { textTable } from '../render/text.js';
 import { fmt } from '../units/format.js';
-import type { CommandContext } from './main.js';
+import type { CommandContext } from './context.js';
 
 export function registerFluids(program: Command, context: CommandContext): void {
   program

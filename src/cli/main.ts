@@ -3,7 +3,9 @@
  * turns known errors into one line and an exit status. Exports `main(argv)` → exit status.
  */
 import { Command, CommanderError } from 'commander';
+import { readFileSync } from 'node:fs';
 import { StratiflowError } from '../errors.js';
+import type { CommandContext, Registrar } from './context.js';
 import { registerSection } from './section.js';
 import { registerSolve } from './solve.js';
 import { registerSchema } from './schema.js';
@@ -15,13 +17,10 @@ import { registerTune } from './tune.js';
 import { registerTolerance } from './tolerance.js';
 import { registerExtract } from './extract.js';
 
-export interface CommandContext {
-  /** Standard output and error writers, replaceable in tests. */
-  out: (text: string) => void;
-  err: (text: string) => void;
-}
+export type { CommandContext } from './context.js';
 
-export type Registrar = (program: Command, context: CommandContext) => void;
+/** The version users see, from package.json (the one place it is set). */
+const VERSION = (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string }).version;
 
 const COMMANDS: Registrar[] = [
   registerSection,
@@ -39,7 +38,7 @@ const COMMANDS: Registrar[] = [
 export function buildProgram(context: CommandContext): Command {
   const program = new Command('stratiflow')
     .description('Two-phase stratified flow in parallel microfluidic extraction chips.')
-    .version('0.1.0')
+    .version(VERSION)
     .showHelpAfterError(false)
     .exitOverride()
     .configureOutput({

@@ -4,10 +4,10 @@
 import type { Command } from 'commander';
 import { stringify } from 'yaml';
 import { ladderLayout, treeLayout, LADDER_DEFAULTS, TREE_DEFAULTS, type CommonOptions } from '../layout/generate.js';
-import { choiceOption, numberOption, quantityOption, wholeNumberOption } from './options.js';
+import { numberOption, quantityOption, wholeNumberOption, choice } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
 import { optionError } from '../errors.js';
-import type { CommandContext } from './main.js';
+import type { CommandContext } from './context.js';
 
 type Raw = Record<string, string | undefined>;
 
@@ -36,7 +36,7 @@ function common(o: Raw, defaults: CommonOptions): Partial<CommonOptions> {
     interfacialTension: q('tension', '--tension', 'tension') ?? defaults.interfacialTension,
     drive: driveA && driveB ? { A: driveA, B: driveB } : undefined,
     outletPressure: { A: q('outletA', '--outlet-a', 'pressure') ?? defaults.outletPressure.A, B: q('outletB', '--outlet-b', 'pressure') ?? defaults.outletPressure.B },
-    contactor: { ...size('contactor', defaults.contactor), orientation: choiceOption(o.orientation ?? 'side', '--orientation', ['side', 'stacked'] as const) },
+    contactor: { ...size('contactor', defaults.contactor), orientation: (o.orientation ?? 'side') as 'side' | 'stacked' },
     feed: size('feed', defaults.feed),
     drain: size('drain', defaults.drain),
     tubing: tubeDiameter !== undefined || tubeLength !== undefined ? { diameter: tubeDiameter ?? 250e-6, length: tubeLength ?? 0.3 } : undefined,
@@ -59,7 +59,7 @@ function commonFlags(cmd: Command): Command {
     .option('--depth <length>', 'etch depth of all channels')
     .option('--contactor-width <length>', 'contactor width')
     .option('--contactor-length <length>', 'contactor length')
-    .option('--orientation <side|stacked>', 'layers in the contactors', 'side')
+    .addOption(choice('--orientation <side|stacked>', 'layers in the contactors', ['side', 'stacked'], 'side'))
     .option('--feed-width <length>', 'width of the feed channels into each merge')
     .option('--feed-length <length>', 'length of the feed channels')
     .option('--drain-width <length>', 'width of the outlet arms after each split')
@@ -80,8 +80,8 @@ export function registerMake(program: Command, context: CommandContext): void {
   commonFlags(make.command('ladder').description('N contactors in a row between two distribution and two collection manifolds.'))
     .option('--contactors <n>', 'number of contactors', '16')
     .option('--manifold-width <length>', 'manifold width')
-    .option('--inlets <end|middle>', 'where the inlets join the distribution manifolds', 'end')
-    .option('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds', 'opposite')
+    .addOption(choice('--inlets <end|middle>', 'where the inlets join the distribution manifolds', ['end', 'middle'], 'end'))
+    .addOption(choice('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds', ['same', 'opposite', 'middle'], 'opposite'))
     .action((o: Raw) => {
       const contactors = wholeNumberOption(o.contactors, '--contactors', 1, 100000)!;
       emit(context, ladderLayout({
@@ -89,8 +89,8 @@ export function registerMake(program: Command, context: CommandContext): void {
         contactors,
         pitch: quantityOption(o.pitch, '--pitch', 'length', true) ?? LADDER_DEFAULTS.pitch,
         manifold: { width: quantityOption(o.manifoldWidth, '--manifold-width', 'length', true) ?? LADDER_DEFAULTS.manifold.width, depth: quantityOption(o.depth, '--depth', 'length', true) ?? LADDER_DEFAULTS.manifold.depth },
-        inletAt: choiceOption(o.inlets, '--inlets', ['end', 'middle'] as const),
-        outletAt: choiceOption(o.outlets, '--outlets', ['same', 'opposite', 'middle'] as const),
+        inletAt: o.inlets as 'end' | 'middle',
+        outletAt: o.outlets as 'same' | 'opposite' | 'middle',
       }), o.out);
     });
   commonFlags(make.command('tree').description('2^k contactors fed and drained by bifurcating trees.'))

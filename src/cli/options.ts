@@ -1,7 +1,9 @@
 /**
  * Reading command-line values: quantities with units, numbers in a range, choices. Every failure
- * names the option. Exports `quantityOption`, `numberOption`, `wholeNumberOption`, `choiceOption`.
+ * names the option. Exports `quantityOption`, `numberOption`, `wholeNumberOption`, `choice`,
+ * `linearOption` and `MAX_WORKERS`.
  */
+import { Option } from 'commander';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
 import { optionError } from '../errors.js';
 
@@ -40,7 +42,18 @@ export function wholeNumberOption(value: unknown, option: string, min: number, m
   return n;
 }
 
-export function choiceOption<T extends string>(value: unknown, option: string, choices: readonly T[]): T {
-  if (typeof value === 'string' && (choices as readonly string[]).includes(value)) return value as T;
-  throw optionError(option, `must be one of ${choices.join(', ')}`);
+/**
+ * An option with a fixed set of values, which commander checks itself (Option.choices): a value
+ * outside the set ends with one line naming the option and the allowed values, exit 2.
+ */
+export function choice(flags: string, description: string, values: readonly string[], fallback?: string): Option {
+  const option = new Option(flags, description).choices(values);
+  return fallback === undefined ? option : option.default(fallback);
 }
+
+/** `--linear`: the linear solver inside Newton's method, the same option in every solving command. */
+export function linearOption(): Option {
+  return choice('--linear <sparse|dense>', 'linear solver inside Newton', ['sparse', 'dense'], 'sparse');
+}
+
+export type LinearSolver = 'sparse' | 'dense';

@@ -3,7 +3,7 @@
  */
 import type { Command } from 'commander';
 import { layoutJsonSchema } from '../layout/schema.js';
-import type { CommandContext } from './main.js';
+import type { CommandContext } from './context.js';
 
 export function registerSchema(program: Command, context: CommandContext): void {
   program

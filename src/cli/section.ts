@@ -6,8 +6,8 @@ import type { Command } from 'commander';
 import { analyseSection, type SectionSummary } from '../analyses/section.js';
 import type { RectSection } from '../physics/section.js';
 import { DISPLAY, fmt, show } from '../units/format.js';
-import { choiceOption, numberOption, quantityOption } from './options.js';
-import type { CommandContext } from './main.js';
+import { numberOption, quantityOption, choice } from './options.js';
+import type { CommandContext } from './context.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { flowFractionChart, velocityFieldChart } from '../render/sectionCharts.js';
 
@@ -36,7 +36,7 @@ export function registerSection(program: Command, context: CommandContext): void
     .option('--holdup <fraction>', 'fraction of the width (side) or depth (stacked) filled by phase A')
     .option('--flow-fraction <fraction>', 'fraction of the total flow that is phase A')
     .option('--flow <flow>', 'total flow of both phases, e.g. 10uL/min (gives absolute velocities)')
-    .option('--orientation <side|stacked>', 'layers side by side across the width, or one above the other', 'side')
+    .addOption(choice('--orientation <side|stacked>', 'layers side by side across the width, or one above the other', ['side', 'stacked'], 'side'))
     .option('--json', 'print one JSON object in SI units')
     .option('--plot <file.svg>', 'write a chart of flow fraction against holdup')
     .option('--field <file.svg>', 'write a map of the velocity over the cross-section')
@@ -47,7 +47,7 @@ export function registerSection(program: Command, context: CommandContext): void
         shape: 'rect',
         width: quantityOption(options.width, '--width', 'length'),
         depth: quantityOption(options.depth, '--depth', 'length'),
-        orientation: choiceOption(options.orientation, '--orientation', ['side', 'stacked'] as const),
+        orientation: options.orientation as 'side' | 'stacked',
       };
       const query = {
         section,

@@ -16,9 +16,9 @@ import { chipText, contactorCsv } from '../render/text.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { extractionColouring } from '../render/extractionCharts.js';
 import { chipReport } from '../render/report.js';
-import { choiceOption } from './options.js';
+import { linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
-import type { CommandContext } from './main.js';
+import { jsonNumbers, type CommandContext } from './context.js';
 import { StratiflowError, StratiflowErrors } from '../errors.js';
 
 interface SolveOptions {
@@ -36,10 +36,10 @@ export function registerSolve(program: Command, context: CommandContext): void {
     .option('--json', 'print one JSON object (SI units)')
     .option('--csv <file>', 'write the per-contactor table as CSV')
     .option('--out <dir>', 'write result.json, contactors.csv, chip.svg and report.html into this folder (with the extraction of the layout\'s solute, if it names one)')
-    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .addOption(linearOption())
     .action((file: string, options: SolveOptions) => {
       const chip = loadLayout(file);
-      const linear = choiceOption(options.linear, '--linear', ['sparse', 'dense'] as const);
+      const linear = options.linear as LinearSolver;
       const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
       const out = options.out === undefined ? undefined : outputFolder(options.out, '--out');
       const solved = solveChip(chip, { linear });
@@ -84,9 +84,4 @@ function layoutExtraction(solved: SolvedChip, context: CommandContext): Extracti
 /** The error of a solve that did not settle; `unwritten` says that the files asked for were not written. */
 export function unconverged(message: string | undefined, file: string, unwritten: boolean): StratiflowError {
   return new StratiflowError('no-convergence', `${message ?? 'the solve did not converge'}${unwritten ? '; no files written (results that did not converge are not saved)' : ''}`, { file });
-}
-
-/** JSON has no Infinity or NaN: such values become null. */
-export function jsonNumbers(_key: string, value: unknown): unknown {
-  return typeof value === 'number' && !Number.isFinite(value) ? null : value;
 }

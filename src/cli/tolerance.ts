@@ -18,10 +18,10 @@ import { runTolerance, type ChannelTolerance, type DimensionTolerance, type Tole
 import { toleranceCsv, toleranceText } from '../render/toleranceText.js';
 import { toleranceCharts } from '../render/toleranceCharts.js';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
-import { choiceOption, numberOption, wholeNumberOption, MAX_WORKERS } from './options.js';
+import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
-import { jsonNumbers } from './solve.js';
-import type { CommandContext } from './main.js';
+import { jsonNumbers, type CommandContext } from './context.js';
+
 import { StratiflowError, StratiflowErrors, optionError, type ErrorPlace } from '../errors.js';
 
 /**
@@ -187,7 +187,6 @@ function mergedSpec(fromFile: ToleranceSpec | undefined, o: ToleranceOptions): T
   return spec;
 }
 
-
 /** The error of a study in which no realisation solved, naming the most frequent reason. */
 function noneSolved(notSolved: ReadonlyArray<{ problem: string }>, file: string): StratiflowError {
   const counts = new Map<string, number>();
@@ -235,7 +234,7 @@ export function registerTolerance(program: Command, context: CommandContext): vo
     .option('--json', 'print one JSON object (SI units) instead of the summary')
     .option('--csv <file>', 'write one row per realisation')
     .option('--svg <dir>', 'write histograms of the spreads, the failure chart and the per-contactor leak chart')
-    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .addOption(linearOption())
     .addHelpText('after', FILE_HELP)
     .action(async (file: string, o: ToleranceOptions) => {
       const chip = loadLayout(file);
@@ -250,7 +249,7 @@ export function registerTolerance(program: Command, context: CommandContext): vo
         return v;
       });
       if (scales.length > MAX_SWEEP) throw optionError('--sweep', `${scales.length} multiples given; at most ${MAX_SWEEP}`);
-      const linear = choiceOption(o.linear, '--linear', ['sparse', 'dense'] as const);
+      const linear = o.linear as LinearSolver;
       const csv = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
       const svg = o.svg === undefined ? undefined : outputFolder(o.svg, '--svg');
 

@@ -17,10 +17,10 @@ import { chipText, textTable } from '../render/text.js';
 import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
 import { pressureResolution } from '../analyses/resolution.js';
 import { parseQuantity } from '../units/quantity.js';
-import { choiceOption, numberOption } from './options.js';
+import { numberOption, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
-import { jsonNumbers } from './solve.js';
-import type { CommandContext } from './main.js';
+import { jsonNumbers, type CommandContext } from './context.js';
+
 import { StratiflowError, optionError } from '../errors.js';
 import type { Chip } from '../network/model.js';
 
@@ -180,10 +180,10 @@ export function registerTune(program: Command, context: CommandContext): void {
     .option('--vary <setting>', 'a setting that may change, node.pressure or node.flow, optionally with bounds: outB.pressure=0:20kPa (repeat; default: the pressures of all inlets)', collect, [])
     .option('--out <file>', 'tuned layout to write (default: beside the layout, with -tuned in its name)')
     .option('--json', 'print one JSON object (SI units) instead of the tables')
-    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .addOption(linearOption())
     .action((file: string, o: TuneOptions) => {
       const chip = loadLayout(file);
-      const linear = choiceOption(o.linear, '--linear', ['sparse', 'dense'] as const);
+      const linear = o.linear as LinearSolver;
       const targets = targetsOf(o);
       const vary = o.vary.length > 0
         ? o.vary.map((v) => freedomOption(v, chip))

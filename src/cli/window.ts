@@ -15,10 +15,10 @@ import { targetCrossings, windowChart, windowCsv, windowText, type MapTarget, ty
 import type { Point } from '../render/chart.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { parseQuantity } from '../units/quantity.js';
-import { choiceOption, numberOption, wholeNumberOption, MAX_WORKERS } from './options.js';
+import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
-import { jsonNumbers } from './solve.js';
-import type { CommandContext } from './main.js';
+import { jsonNumbers, type CommandContext } from './context.js';
+
 import { StratiflowError, optionError } from '../errors.js';
 import type { Chip } from '../network/model.js';
 
@@ -110,10 +110,10 @@ export function registerWindow(program: Command, context: CommandContext): void 
     .option('--json <file>', 'write the grid as JSON (SI units)')
     .option('--csv <file>', 'write the grid as CSV, one row per point')
     .option('--workers <n>', 'worker threads (default: one per processor core)')
-    .option('--linear <sparse|dense>', 'linear solver inside Newton', 'sparse')
+    .addOption(linearOption())
     .action(async (file: string, o: WindowOptions) => {
       const chip = loadLayout(file);
-      const linear = choiceOption(o.linear, '--linear', ['sparse', 'dense'] as const);
+      const linear = o.linear as LinearSolver;
       const xs = settingOption(o.x ?? `${firstInlet(chip, 'A')}.pressure`, '--x', chip);
       const ys = settingOption(o.y ?? `${firstInlet(chip, 'B')}.pressure`, '--y', chip);
       if (xs.node === ys.node) throw optionError('--y', 'the two settings must belong to different nodes');

@@ -3,7 +3,7 @@
  * the dense linear solver option, and the example layouts shipped in layouts/.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { mkdtempSync, readdirSync, writeFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, writeFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -119,6 +119,16 @@ describe('stratiflow solve --json', () => {
     expect(out).toBe('');
     expect(err.trim().split('\n')).toHaveLength(1);
     expect(err).toMatch(/--linear/);
+    expect(err).toMatch(/sparse, dense/);
+  });
+});
+
+describe('stratiflow --version', () => {
+  it('prints the version of package.json', async () => {
+    const { version } = JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string };
+    const { code, out } = await runCli(['--version']);
+    expect(code).toBe(0);
+    expect(out.trim()).toBe(version);
   });
 });
 
