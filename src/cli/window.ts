@@ -7,7 +7,6 @@
  */
 import { availableParallelism } from 'node:os';
 import type { Command } from 'commander';
-import cliProgress from 'cli-progress';
 import { loadLayout } from '../layout/load.js';
 import { solveChip, warmStartFrom, type SolvedChip } from '../analyses/chip.js';
 import { describePoint, parseSetting, settingName, settingValue, windowMap, POINT_CLASSES, type PointClass, type Setting, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
@@ -18,6 +17,7 @@ import { parseQuantity } from '../units/quantity.js';
 import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
+import { progressBar } from './progress.js';
 
 import { StratiflowError, optionError } from '../errors.js';
 import type { Chip } from '../network/model.js';
@@ -137,24 +137,17 @@ export function registerWindow(program: Command, context: CommandContext): void 
         solver: { linear },
       };
 
-      const bar = process.stderr.isTTY
-        ? new cliProgress.SingleBar({ stream: process.stderr, format: 'mapping |{bar}| {value}/{total} points, {eta_formatted} left', hideCursor: true, clearOnComplete: true }, cliProgress.Presets.shades_classic)
-        : undefined;
+      const progress = progressBar('mapping', 'points');
       const start = performance.now();
       let map: WindowMap;
       try {
         map = await windowMap(chip, spec, {
           workers,
           seed: base.result.converged ? warmStartFrom(base) : undefined,
-          onProgress: bar
-            ? (done, total) => {
-                if (done === 1) bar.start(total, done);
-                else bar.update(done);
-              }
-            : undefined,
+          onProgress: progress.onProgress,
         });
       } finally {
-        bar?.stop();
+        progress.stop();
       }
       const seconds = (performance.now() - start) / 1000;
 
