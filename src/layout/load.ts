@@ -5,8 +5,7 @@
  * streams) with the element id and field, then fails with all of them. The warnings of a layout
  * that loads (./phases.ts) go into `chip.warnings`.
  */
-import { readFileSync, statSync } from 'node:fs';
-import { parse as parseYaml, YAMLParseError } from 'yaml';
+import { parseDataText, readTextFile } from '../files.js';
 import { layoutSchema, type LayoutFile, type LayoutNode } from './schema.js';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
 import { StratiflowError, StratiflowErrors } from '../errors.js';
@@ -30,47 +29,12 @@ export const MAX_LAYOUT_BYTES = 16 * 2 ** 20;
 export const MAX_JSON_LAYOUT_BYTES = 64 * 2 ** 20;
 
 export function loadLayout(path: string): Chip {
-  let text: string;
-  try {
-    const stat = statSync(path);
-    if (stat.isDirectory()) throw new StratiflowError('bad-file', 'is a folder, not a layout file', { file: path });
-    const json = /\.json$/i.test(path);
-    const limit = json ? MAX_JSON_LAYOUT_BYTES : MAX_LAYOUT_BYTES;
-    if (stat.size > limit) {
-      throw new StratiflowError('bad-file', `is ${(stat.size / 2 ** 20).toFixed(0)} MB; a ${json ? 'JSON' : 'YAML'} layout file is at most ${limit / 2 ** 20} MB`, { file: path });
-    }
-    text = readFileSync(path, 'utf8');
-  } catch (error) {
-    if (error instanceof StratiflowError) throw error;
-    const reason = (error as NodeJS.ErrnoException).code === 'ENOENT' ? 'file not found' : 'cannot be read';
-    throw new StratiflowError('bad-file', reason, { file: path });
-  }
-  return parseLayout(text, path);
+  const limit = /\.json$/i.test(path) ? MAX_JSON_LAYOUT_BYTES : MAX_LAYOUT_BYTES;
+  return parseLayout(readTextFile(path, 'layout file', limit), path);
 }
 
 export function parseLayout(text: string, source: string): Chip {
-  // Text never holds NUL; a file that does is an image, an archive or the like.
-  if (text.includes('\0')) throw new StratiflowError('bad-file', 'a binary file, not YAML or JSON', { file: source });
-  // JSON files go through JSON.parse, two orders of magnitude faster than a YAML parser on a
-  // chip of thousands of contactors. Everything else, and a JSON file that JSON.parse refuses,
-  // goes through the YAML parser (JSON is a subset of YAML), whose message names the line.
-  if (/\.json$/i.test(source)) {
-    try {
-      return layoutToChip(JSON.parse(text), source);
-    } catch (error) {
-      if (!(error instanceof SyntaxError)) throw error;
-    }
-  }
-  let data: unknown;
-  try {
-    data = parseYaml(text, { prettyErrors: true });
-  } catch (error) {
-    const where = error instanceof YAMLParseError && error.linePos ? `line ${error.linePos[0].line}` : undefined;
-    const first = error instanceof Error ? error.message.split('\n')[0]!.replace(/ at line \d+, column \d+:?$/, '') : String(error);
-    const message = first.startsWith('Source contains multiple documents') ? 'it holds several YAML documents (---); a layout file holds one' : first;
-    throw new StratiflowError('bad-file', `not valid YAML or JSON: ${message}`, { file: source, element: where });
-  }
-  return layoutToChip(data, source);
+  return layoutToChip(parseDataText(text, source, 'layout file'), source);
 }
 
 /** Names the element of a schema path: the id of a node or segment when it has one. */

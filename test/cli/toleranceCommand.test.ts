@@ -9,7 +9,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { XMLValidator } from 'fast-xml-parser';
 import { runCli } from '../support/cli.js';
-import { parseTolerance } from '../../src/cli/tolerance.js';
+import { parseTolerance } from '../../src/layout/toleranceFile.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 
 
@@ -94,6 +94,22 @@ describe('stratiflow tolerance', () => {
     const none = await runCli(['tolerance', layout]);
     expect(none.code).toBe(2);
     expect(none.err).toMatch(/no tolerance given/);
+  });
+
+  it('reads a tolerance file as it reads a layout: a missing file, a folder and broken YAML each end with one line', async () => {
+    const { dir, layout } = demoFiles();
+    const broken = join(dir, 'broken.yaml');
+    writeFileSync(broken, 'viscosityA: [3%\n');
+    for (const [spec, message] of [
+      [join(dir, 'missing.yaml'), /missing\.yaml: file not found$/],
+      [dir, /: is a folder, not a tolerance file$/],
+      [broken, /broken\.yaml: line \d+: not valid YAML or JSON/],
+    ] as const) {
+      const run = await runCli(['tolerance', layout, '--spec', spec]);
+      expect(run.code).toBe(2);
+      expect(run.err.trim().split('\n')).toHaveLength(1);
+      expect(run.err.trim()).toMatch(message);
+    }
   });
 });
 
