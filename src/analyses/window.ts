@@ -412,3 +412,64 @@ function sweepInWorkers(
     if (ny === 0) finish();
   });
 }
+
+/** A place in the space of the two settings, in their SI values. */
+type Point = readonly [number, number];
+
+/** The flow target to mark, as throughput and ratio A/B (either may be missing). */
+export interface MapTarget {
+  throughput?: number;
+  ratio?: number;
+}
+
+
+/**
+ * Where the fields cross both target levels, in setting values: each grid cell is cut into two
+ * triangles on which the fields are linear, and the 2×2 system is solved on each.
+ */
+export function targetCrossings(map: WindowMap, target: MapTarget): Point[] {
+  if (target.throughput === undefined || target.ratio === undefined) return [];
+  const f = (p: WindowPoint) => [p.throughput - target.throughput!, p.flowRatio - target.ratio!] as const;
+  const found: Point[] = [];
+  const { points, xValues, yValues } = map;
+  for (let j = 0; j + 1 < yValues.length; j++) {
+    for (let i = 0; i + 1 < xValues.length; i++) {
+      const corners = [points[j]![i]!, points[j]![i + 1]!, points[j + 1]![i]!, points[j + 1]![i + 1]!];
+      if (corners.some((p) => !Number.isFinite(p.throughput) || !Number.isFinite(p.flowRatio))) continue;
+      for (const [a, b, c] of [[0, 1, 3], [0, 3, 2]] as const) {
+        const [pa, pb, pc] = [corners[a]!, corners[b]!, corners[c]!];
+        const [fa, fb, fc] = [f(pa), f(pb), f(pc)];
+        // f(s, t) = fa + s (fb − fa) + t (fc − fa) = 0 on the triangle s, t ≥ 0, s + t ≤ 1.
+        const m11 = fb[0] - fa[0];
+        const m12 = fc[0] - fa[0];
+        const m21 = fb[1] - fa[1];
+        const m22 = fc[1] - fa[1];
+        const det = m11 * m22 - m12 * m21;
+        if (det === 0) continue;
+        const s = (-fa[0] * m22 + fa[1] * m12) / det;
+        const t = (-fa[1] * m11 + fa[0] * m21) / det;
+        if (s < 0 || t < 0 || s + t > 1) continue;
+        found.push([pa.x + s * (pb.x - pa.x) + t * (pc.x - pa.x), pa.y + s * (pb.y - pa.y) + t * (pc.y - pa.y)]);
+      }
+    }
+  }
+  // A crossing on a shared edge is found from both sides.
+  return found.filter((p, k) => found.findIndex((q) => Math.abs(q[0] - p[0]) + Math.abs(q[1] - p[1]) < 1e-9 * (Math.abs(p[0]) + Math.abs(p[1]) + 1e-30)) === k);
+}
+
+/** Target given as any two of flow A, flow B, throughput and ratio, as throughput and ratio. */
+/** (The caller checks that at most two are given.) */
+export function mapTarget(t: { flowA?: number; flowB?: number; throughput?: number; ratio?: number }): MapTarget | undefined {
+  const given = [t.flowA, t.flowB, t.throughput, t.ratio].filter((v) => v !== undefined).length;
+  if (given === 0) return undefined;
+  if (given > 2) throw new RangeError('at most two of flow A, flow B, throughput and ratio');
+  let { throughput, ratio } = t;
+  const { flowA, flowB } = t;
+  if (flowA !== undefined && flowB !== undefined) return { throughput: flowA + flowB, ratio: flowA / flowB };
+  if (flowA !== undefined && throughput !== undefined) ratio = flowA / (throughput - flowA);
+  else if (flowB !== undefined && throughput !== undefined) ratio = (throughput - flowB) / flowB;
+  else if (flowA !== undefined && ratio !== undefined) throughput = flowA * (1 + 1 / ratio);
+  else if (flowB !== undefined && ratio !== undefined) throughput = flowB * (1 + ratio);
+  else if (flowA !== undefined || flowB !== undefined) return undefined;
+  return { throughput, ratio };
+}

@@ -3,17 +3,17 @@
  * B inlets) over a grid, classify every point and write the map (SVG), the grid (JSON, CSV) and
  * a short summary. A target (two of flow A, flow B, throughput, ratio) is marked where its two
  * contours cross. A progress bar goes to stderr when it is a terminal.
- * Exports `registerWindow`; the map, CSV and summary are drawn by src/render/windowMap.ts.
+ * Exports `registerWindow`; the map, CSV and summary are drawn by src/render/windowMap.ts, the
+ * target and its crossings computed by src/analyses/window.ts.
  */
 import { availableParallelism } from 'node:os';
 import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { solveChip, warmStartFrom, type SolvedChip } from '../analyses/chip.js';
-import { describePoint, parseSetting, settingName, settingValue, windowMap, POINT_CLASSES, type PointClass, type Setting, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
-import { targetCrossings, windowChart, windowCsv, windowText, type MapTarget, type WindowMarks } from '../render/windowMap.js';
+import { describePoint, mapTarget, parseSetting, settingName, settingValue, targetCrossings, windowMap, type Setting, type WindowMap } from '../analyses/window.js';
+import { windowChart, windowCsv, windowText, type WindowMarks } from '../render/windowMap.js';
 import type { Point } from '../render/chart.js';
-import { DISPLAY, fmt } from '../units/format.js';
-import { parseQuantity } from '../units/quantity.js';
+import { parseQuantity, parseRange } from '../units/quantity.js';
 import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
@@ -43,22 +43,6 @@ interface WindowOptions {
   linear: string;
 }
 
-/** Target given as any two of flow A, flow B, throughput and ratio, as throughput and ratio. */
-export function mapTarget(t: { flowA?: number; flowB?: number; throughput?: number; ratio?: number }): MapTarget | undefined {
-  const given = [t.flowA, t.flowB, t.throughput, t.ratio].filter((v) => v !== undefined).length;
-  if (given === 0) return undefined;
-  if (given > 2) throw optionError('--ratio', 'give at most two of --flow-a, --flow-b, --throughput and --ratio');
-  let { throughput, ratio } = t;
-  const { flowA, flowB } = t;
-  if (flowA !== undefined && flowB !== undefined) return { throughput: flowA + flowB, ratio: flowA / flowB };
-  if (flowA !== undefined && throughput !== undefined) ratio = flowA / (throughput - flowA);
-  else if (flowB !== undefined && throughput !== undefined) ratio = (throughput - flowB) / flowB;
-  else if (flowA !== undefined && ratio !== undefined) throughput = flowA * (1 + 1 / ratio);
-  else if (flowB !== undefined && ratio !== undefined) throughput = flowB * (1 + ratio);
-  else if (flowA !== undefined || flowB !== undefined) return undefined;
-  return { throughput, ratio };
-}
-
 function settingOption(text: string, flag: string, chip: Chip): Setting {
   try {
     return parseSetting(text, chip);
@@ -75,18 +59,14 @@ function firstInlet(chip: Chip, phase: 'A' | 'B'): string {
   return inlet.id;
 }
 
-/** "10kPa:60kPa" (or "10:60kPa", the unit of the second end applying to both). */
+/** The range of an axis; by default half to one and a half times the value as given. */
 function rangeOption(text: string | undefined, flag: string, setting: Setting, current: number | undefined): [number, number] {
   const dimension = setting.quantity === 'pressure' ? 'pressure' : 'flow';
   if (text === undefined) {
     if (current === undefined || current === 0) throw optionError(flag, `give the range (e.g. ${dimension === 'pressure' ? '0kPa:5kPa' : '1uL/min:20uL/min'}): the chip as given has ${settingName(setting)} = ${current === undefined ? 'no solved value' : '0'}`);
     return [0.5 * current, 1.5 * current].sort((a, b) => a - b) as [number, number];
   }
-  const parts = text.split(':');
-  if (parts.length !== 2) throw optionError(flag, `"${text}" is not a range: write from:to, e.g. 10kPa:60kPa`);
-  const unit = /[A-Za-zµ/]+.*$/.exec(parts[1]!.trim())?.[0];
-  const read = (s: string) => parseQuantity(/^[-+]?[\d.]+([eE][-+]?\d+)?$/.test(s.trim()) && unit ? `${s.trim()} ${unit}` : s, dimension, { field: flag });
-  const [from, to] = [read(parts[0]!), read(parts[1]!)];
+  const [from, to] = parseRange(text, dimension, { field: flag });
   if (!(from < to)) throw optionError(flag, 'the first end must be below the second');
   return [from, to];
 }
@@ -120,7 +100,9 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const flowTarget = (v: string | undefined, flag: string) => (v === undefined ? undefined : parseQuantity(v, 'flow', { field: flag }));
       const ratio = o.ratio === undefined ? undefined : numberOption(o.ratio, '--ratio');
       if (ratio !== undefined && !(ratio > 0)) throw optionError('--ratio', 'must be positive');
-      const target = mapTarget({ flowA: flowTarget(o.flowA, '--flow-a'), flowB: flowTarget(o.flowB, '--flow-b'), throughput: flowTarget(o.throughput, '--throughput'), ratio });
+      const given = { flowA: flowTarget(o.flowA, '--flow-a'), flowB: flowTarget(o.flowB, '--flow-b'), throughput: flowTarget(o.throughput, '--throughput'), ratio };
+      if (Object.values(given).filter((v) => v !== undefined).length > 2) throw optionError('--ratio', 'give at most two of --flow-a, --flow-b, --throughput and --ratio');
+      const target = mapTarget(given);
       const workers = wholeNumberOption(o.workers, '--workers', 1, MAX_WORKERS) ?? availableParallelism();
       const svgFile = outputFile(o.svg, '--svg');
       const jsonFile = o.json === undefined ? undefined : outputFile(o.json, '--json');

@@ -151,7 +151,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = warm.composition[i]!;
     withComposition = !allPure(warm.composition) || warm.splitStates.some((st) => st !== 'pinned') || warm.feedStates.some((st) => st !== 'open');
   } else {
-    for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = eq.fixedMean;
+    for (const u of unknownOf) if (u >= 0) x[u] = eq.fixedMean;
     for (let c = 0; c < contactors.length; c++) x[alphaAt + c] = 0.5;
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = ports[i]!.nominal;
   }

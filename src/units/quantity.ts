@@ -110,3 +110,17 @@ export function parseQuantity(
 function exampleOf(dimension: Dimension): string {
   return EXAMPLES[dimension].split(',')[0]!.trim();
 }
+
+/**
+ * A range "from:to" such as "10kPa:60kPa", or "10:60kPa" (the unit of the second end applying to
+ * both), in SI. The caller's `place` names where it was written.
+ */
+export function parseRange(text: string, dimension: Dimension, place: ErrorPlace = {}): [number, number] {
+  const parts = text.split(':');
+  if (parts.length !== 2) {
+    throw new StratiflowError('bad-unit', `"${text}" is not a range: write from:to, e.g. ${dimension === 'pressure' ? '10kPa:60kPa' : '1uL/min:20uL/min'}`, place);
+  }
+  const unit = /[A-Za-zµ/]+.*$/.exec(parts[1]!.trim())?.[0];
+  const read = (s: string) => parseQuantity(/^[-+]?[\d.]+([eE][-+]?\d+)?$/.test(s.trim()) && unit ? `${s.trim()} ${unit}` : s, dimension, place);
+  return [read(parts[0]!), read(parts[1]!)];
+}

@@ -13,8 +13,7 @@ import { layoutToChip } from '../../src/layout/load.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
-import { axisValues, parseSetting, settingValue, windowMap, withSettings, type PointClass } from '../../src/analyses/window.js';
-import { targetCrossings } from '../../src/render/windowMap.js';
+import { axisValues, parseSetting, settingValue, targetCrossings, windowMap, withSettings, type PointClass } from '../../src/analyses/window.js';
 import { runCli } from '../support/cli.js';
 
 /**
