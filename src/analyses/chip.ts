@@ -4,6 +4,7 @@
  * per-contactor table, the spread between contactors and the warnings.
  * Exports `solveChip`, `summariseSolution` and the result types. No I/O.
  */
+import { DISPLAY, show } from '../units/format.js';
 import { assembleNetwork, type Network } from '../network/assemble.js';
 import { solveNetwork, type NetworkSolution, type SolverWorkspace, type SplitState, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
@@ -337,7 +338,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
   const maxPressure = maxOf(p) ?? -Infinity;
   if (chip.maxPressure !== undefined && maxPressure > chip.maxPressure) {
     const over = chip.nodes.filter((n) => (network.portsOf.get(n.id) ?? []).some((i) => p[i]! > chip.maxPressure!)).map((n) => n.id);
-    warnings.push(`pressure ${(maxPressure / 1e3).toFixed(1)} kPa exceeds the rating of ${(chip.maxPressure / 1e3).toFixed(1)} kPa at ${over.slice(0, 5).join(', ')}${over.length > 5 ? ` and ${over.length - 5} more` : ''}`);
+    warnings.push(`pressure ${show(maxPressure, DISPLAY.pressure)} exceeds the rating of ${show(chip.maxPressure, DISPLAY.pressure)} at ${over.slice(0, 5).join(', ')}${over.length > 5 ? ` and ${over.length - 5} more` : ''}`);
   }
   if (!raw.converged) warnings.unshift(`the solve did not converge: ${raw.message ?? ''}${raw.unsettled.length ? ` (${raw.unsettled.join(', ')})` : ''}`);
 
@@ -370,5 +371,5 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
 }
 
 function formatFlow(q: number): string {
-  return `${(q * 6e10).toPrecision(3)} µL/min`;
+  return show(q, DISPLAY.flow, 3);
 }

@@ -20,6 +20,7 @@
  * do targets met at settings where the chip does not work (./verdict.ts: a starved contactor,
  * backflow, an impure outlet), since a tuned point must be one to run the chip at.
  */
+import { DISPLAY, show } from '../units/format.js';
 import { Matrix, SingularValueDecomposition, pseudoInverse } from 'ml-matrix';
 import { solveChip, warmStartFrom, type ChipSolution, type SolvedChip } from './chip.js';
 import { settingName, settingValue, withSettings, type Setting } from './window.js';
@@ -526,11 +527,11 @@ export function simplexMaximise(c: readonly number[], A: readonly (readonly numb
 // ---------------------------------------------------------------------------------------------
 // Explaining failures
 
-const kPa = (p: number) => `${Number((p / 1e3).toPrecision(4))} kPa`;
+const kPa = (p: number) => show(p, DISPLAY.pressure);
 const Pa = (p: number) => `${Number(p.toPrecision(3))} Pa`;
 
 function describeValue(setting: Setting, value: number): string {
-  return setting.quantity === 'pressure' ? kPa(value) : `${Number((value * 6e10).toPrecision(4))} µL/min`;
+  return setting.quantity === 'pressure' ? kPa(value) : show(value, DISPLAY.flow);
 }
 
 function unreachable(
@@ -593,7 +594,7 @@ function checkOutcome(
     const depth = spannedDimension(contactor);
     const youngLaplace = chip.splitWindow === undefined && solved.network.splits.every((s) => s.node.window === undefined) && chip.interfacialTension !== undefined;
     const windowAdvice = youngLaplace && Number.isFinite(depth)
-      ? `a window at least ${Pa(spread)} wide (now ${Pa(width)}): the Young–Laplace window 2γ(cos θ_rec − cos θ_adv)/d widens as the depth d that the interface spans shrinks, so d at most ${Number(((depth * 1e6) / factor).toPrecision(3))} µm at the splits (now ${Number((depth * 1e6).toPrecision(3))} µm)`
+      ? `a window at least ${Pa(spread)} wide (now ${Pa(width)}): the Young–Laplace window 2γ(cos θ_rec − cos θ_adv)/d widens as the depth d that the interface spans shrinks, so d at most ${show(depth / factor, DISPLAY.length, 3)} at the splits (now ${show(depth, DISPLAY.length, 3)})`
       : `a window at least ${Pa(spread)} wide (now ${Pa(width)})`;
     throw new StratiflowError(
       'infeasible',

@@ -25,7 +25,7 @@ import dagre from '@dagrejs/dagre';
 import { scaleLinear } from 'd3-scale';
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ChipSegment, PhaseName } from '../network/model.js';
-import { DISPLAY, fmt } from '../units/format.js';
+import { DISPLAY, fmt, show } from '../units/format.js';
 import { approachColour, type ExtractionColouring } from './extractionCharts.js';
 import { INK, OKABE_ITO, viridis } from './palette.js';
 import {
@@ -219,7 +219,7 @@ function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], width
   const per = 1 / k; // m per px
   const note =
     `Positions laid out automatically by the dagre graph-layout library (${missing} of ${chip.nodes.length} nodes have no coordinates): ` +
-    `a schematic, lengths not to scale; channel widths drawn at 1 px per ${fmt(per * 1e6, 3)} µm.`;
+    `a schematic, lengths not to scale; channel widths drawn at 1 px per ${show(per, DISPLAY.length, 3)}.`;
   return { at, width, height, pxPerMetre: null, widthPx: k, note };
 }
 
@@ -704,7 +704,7 @@ function drawScaleBar(parent: SvgNode, x: number, y: number, pxPerMetre: number)
   const g = el(parent, 'g', { class: 'scale-bar' });
   el(g, 'path', { d: `M${num(x)},${num(y)}V${num(y + 8)}H${num(x + w)}V${num(y)}`, fill: 'none', stroke: INK.text, 'stroke-width': 1.5 });
   el(g, 'rect', { x, y: y + 5, width: w / 2, height: 3, fill: INK.text });
-  const text = metres >= 1e-3 ? `${fmt(metres * 1e3)} mm` : `${fmt(metres * 1e6)} µm`;
+  const text = show(metres, metres >= 1e-3 ? DISPLAY.lengthMm : DISPLAY.length);
   label(g, text, { x: x + w + 6, y: y + 8 });
 }
 

@@ -8,7 +8,7 @@
 import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
 import { starvedPhase, type OperatingProblem } from '../analyses/verdict.js';
 import { pressureResolution } from '../analyses/resolution.js';
-import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
+import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
 export const SAFETY_NOTES = [
@@ -34,11 +34,11 @@ export const CONTACTOR_COLUMNS: Array<{ title: string; csv: string; value: (r: C
   { title: 'B µL/min', csv: 'flowB_uL_min', value: (r) => flow(r.flowB) },
   { title: 'A/B', csv: 'flowRatio', value: (r) => fmt(r.flowRatio) },
   { title: 'holdup A', csv: 'holdupA', value: (r) => fmt(r.holdupA, 5) },
-  { title: 'vA mm/s', csv: 'velocityA_mm_s', value: (r) => fmt(r.velocityA * 1e3) },
-  { title: 'vB mm/s', csv: 'velocityB_mm_s', value: (r) => fmt(r.velocityB * 1e3) },
+  { title: 'vA mm/s', csv: 'velocityA_mm_s', value: (r) => fmt(r.velocityA * DISPLAY.velocity.factor) },
+  { title: 'vB mm/s', csv: 'velocityB_mm_s', value: (r) => fmt(r.velocityB * DISPLAY.velocity.factor) },
   { title: 'tA s', csv: 'residenceA_s', value: (r) => fmt(r.residenceA) },
   { title: 'tB s', csv: 'residenceB_s', value: (r) => fmt(r.residenceB) },
-  { title: 'Δp kPa', csv: 'pressureDrop_kPa', value: (r) => fmt(r.pressureDrop / 1e3) },
+  { title: 'Δp kPa', csv: 'pressureDrop_kPa', value: (r) => fmt(r.pressureDrop * DISPLAY.pressure.factor) },
   { title: 'state', csv: 'state', value: contactorState },
   { title: 'pure A %', csv: 'purityA_percent', value: (r) => percent(r.purityA) },
   { title: 'pure B %', csv: 'purityB_percent', value: (r) => percent(r.purityB) },
@@ -82,8 +82,8 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   out.push(`  flow A per contactor      max/min ${fmt(sp.flowA.ratio)}, CV ${(100 * sp.flowA.cv).toFixed(3)}%`);
   out.push(`  flow B per contactor      max/min ${fmt(sp.flowB.ratio)}, CV ${(100 * sp.flowB.cv).toFixed(3)}%`);
   out.push(`  holdup A                  ${fmt(sp.holdup.min, 5)} … ${fmt(sp.holdup.max, 5)}, CV ${(100 * sp.holdup.cv).toFixed(3)}%`);
-  for (const inlet of summary.inlets) out.push(`  inlet ${inlet.id} (${inlet.phase})  ${fmt(inlet.pressure / 1e3)} kPa, ${flow(inlet.flow)} µL/min`);
-  for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${fmt(outlet.pressure / 1e3)} kPa, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
+  for (const inlet of summary.inlets) out.push(`  inlet ${inlet.id} (${inlet.phase})  ${show(inlet.pressure, DISPLAY.pressure)}, ${flow(inlet.flow)} µL/min`);
+  for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${show(outlet.pressure, DISPLAY.pressure)}, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
   const pinned = s.splits.filter((x) => x.state === 'pinned').length;
   out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(minOf(s.splits.map((x) => x.margin)) ?? Infinity, pressureResolution(s))} Pa` : ''}`);
   out.push('');
