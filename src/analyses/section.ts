@@ -42,14 +42,15 @@ export function analyseSection(query: SectionQuery): SectionSummary {
   const check = (ok: boolean, field: string, message: string) => {
     if (!ok) throw new StratiflowError('bad-option', message, { field });
   };
-  check(section.width > 0, '--width', 'must be a positive length');
-  check(section.depth > 0, '--depth', 'must be a positive length');
-  check(muA > 0, '--mu-a', 'must be a positive viscosity');
-  check(muB > 0, '--mu-b', 'must be a positive viscosity');
-  check((query.holdup === undefined) !== (query.flowFraction === undefined), '--holdup', 'give exactly one of --holdup and --flow-fraction');
-  if (query.holdup !== undefined) check(query.holdup > 0 && query.holdup < 1, '--holdup', 'must lie strictly between 0 and 1');
-  if (query.flowFraction !== undefined) check(query.flowFraction > 0 && query.flowFraction < 1, '--flow-fraction', 'must lie strictly between 0 and 1');
-  if (query.totalFlow !== undefined) check(query.totalFlow > 0, '--flow', 'must be a positive flow');
+  // Fields are named as in SectionQuery; a command line maps them to its options.
+  check(section.width > 0, 'width', 'must be a positive length');
+  check(section.depth > 0, 'depth', 'must be a positive length');
+  check(muA > 0, 'muA', 'must be a positive viscosity');
+  check(muB > 0, 'muB', 'must be a positive viscosity');
+  check((query.holdup === undefined) !== (query.flowFraction === undefined), 'holdup', 'give exactly one of the holdup and the flow fraction');
+  if (query.holdup !== undefined) check(query.holdup > 0 && query.holdup < 1, 'holdup', 'must lie strictly between 0 and 1');
+  if (query.flowFraction !== undefined) check(query.flowFraction > 0 && query.flowFraction < 1, 'flowFraction', 'must lie strictly between 0 and 1');
+  if (query.totalFlow !== undefined) check(query.totalFlow > 0, 'totalFlow', 'must be a positive flow');
 
   const state: TwoPhaseState =
     query.holdup !== undefined

@@ -2,6 +2,7 @@
  * `stratiflow section`: one cross-section with two layers. Options → SectionQuery → analyseSection
  * → text or JSON; optional charts.
  */
+import { StratiflowError } from '../errors.js';
 import type { Command } from 'commander';
 import { analyseSection, type SectionSummary } from '../analyses/section.js';
 import type { RectSection } from '../physics/section.js';
@@ -10,6 +11,7 @@ import { numberOption, quantityOption, choice } from './options.js';
 import type { CommandContext } from './context.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { flowFractionChart, velocityFieldChart } from '../render/sectionCharts.js';
+import { flowFractionCurves, sectionVelocity } from '../analyses/sectionCurves.js';
 
 interface SectionOptions {
   width?: string;
@@ -24,6 +26,17 @@ interface SectionOptions {
   plot?: string;
   field?: string;
 }
+
+/** The option that sets each field of the section query, for the library's messages. */
+const OPTION_OF: Record<string, string> = {
+  width: '--width',
+  depth: '--depth',
+  muA: '--mu-a',
+  muB: '--mu-b',
+  holdup: '--holdup',
+  flowFraction: '--flow-fraction',
+  totalFlow: '--flow',
+};
 
 export function registerSection(program: Command, context: CommandContext): void {
   program
@@ -57,10 +70,17 @@ export function registerSection(program: Command, context: CommandContext): void
         flowFraction: numberOption(options.flowFraction, '--flow-fraction', true),
         totalFlow: quantityOption(options.flow, '--flow', 'flow', true),
       };
-      const summary = analyseSection(query);
+      let summary: SectionSummary;
+      try {
+        summary = analyseSection(query);
+      } catch (error) {
+        const flag = error instanceof StratiflowError && error.place.field ? OPTION_OF[error.place.field] : undefined;
+        if (flag && error instanceof StratiflowError) throw new StratiflowError(error.code, error.message.replace('the holdup and the flow fraction', '--holdup and --flow-fraction'), { field: flag });
+        throw error;
+      }
       const outputs: Output[] = [];
-      if (plot) outputs.push({ path: plot, option: '--plot', content: flowFractionChart(section, query.muA, query.muB, summary.holdup) });
-      if (field) outputs.push({ path: field, option: '--field', content: velocityFieldChart(section, query.muA, query.muB, summary.holdup) });
+      if (plot) outputs.push({ path: plot, option: '--plot', content: flowFractionChart(flowFractionCurves(section, query.muA, query.muB, summary.holdup)) });
+      if (field) outputs.push({ path: field, option: '--field', content: velocityFieldChart(sectionVelocity(section, query.muA, query.muB, summary.holdup)) });
       writeOutputs(outputs);
       context.out(options.json ? JSON.stringify(summary, null, 2) + '\n' : describeSection(section, summary));
     });
