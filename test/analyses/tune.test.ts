@@ -11,14 +11,56 @@ import { stringify } from 'yaml';
 import { layoutToChip, loadLayout } from '../../src/layout/load.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
-import { solveChip } from '../../src/analyses/chip.js';
+import { solveChip, type ChipSolution } from '../../src/analyses/chip.js';
 import { parseSetting } from '../../src/analyses/window.js';
-import { simplexMaximise, targetValue, tuneChip, type Target } from '../../src/analyses/tune.js';
+import { simplexMaximise, tuneChip, type Target, type TargetKind } from '../../src/analyses/tune.js';
 import { runCli } from '../support/cli.js';
 import { StratiflowError } from '../../src/errors.js';
-
+import type { Chip } from '../../src/network/model.js';
 
 const uLmin = 1e-9 / 60;
+
+/**
+ * The targets measured on a solution here, without tune.ts: each phase's flow into the chip is the
+ * flow of the segments at its inlets (flows are signed from → to), and the mean holdup is that of
+ * the contactor segments (merge → split), as the target kinds are defined in tune.ts.
+ */
+function measuredTargets(chip: Chip, result: ChipSolution): Record<TargetKind, number> {
+  const nodes = new Map(chip.nodes.map((n) => [n.id, n]));
+  const solved = new Map(result.segments.map((s) => [s.id, s]));
+  const inflow = { A: 0, B: 0 };
+  const holdups: number[] = [];
+  for (const segment of chip.segments) {
+    const { flowA, flowB, holdupA } = solved.get(segment.id)!;
+    const from = nodes.get(segment.from)!;
+    const to = nodes.get(segment.to)!;
+    if (from.kind === 'inlet') inflow[from.phase] += flowA + flowB;
+    if (to.kind === 'inlet') inflow[to.phase] -= flowA + flowB;
+    if (from.kind === 'merge' && to.kind === 'split') holdups.push(holdupA!);
+  }
+  return {
+    flowA: inflow.A,
+    flowB: inflow.B,
+    throughput: inflow.A + inflow.B,
+    ratio: inflow.A / inflow.B,
+    holdup: holdups.reduce((sum, h) => sum + h, 0) / holdups.length,
+  };
+}
+
+/**
+ * Relative miss of each target on the chip solved again from scratch. tune.ts accepts a point only
+ * when the real chip reproduces the targets to 1e-9 (its AGREEMENT), so that is the requirement;
+ * measured misses are below 1e-13, the solver's convergence of every row to 1e-12 of the smaller
+ * phase throughput (DEVELOPERS.md).
+ */
+const TARGET_MISS = 1e-9;
+
+function expectTargetsMet(chip: Chip, targets: Target[]): void {
+  const again = solveChip(chip).result;
+  expect(again.converged).toBe(true);
+  const measured = measuredTargets(chip, again);
+  for (const t of targets) expect(Math.abs(measured[t.kind] / t.value - 1), t.kind).toBeLessThan(TARGET_MISS);
+}
 
 /** Invented demo chip: the generator's 4-contactor ladder (organic A, aqueous B, 2 µL/min each). */
 const ladder4 = () => layoutToChip(ladderLayout({ contactors: 4 }), 'ladder of 4');
@@ -61,33 +103,25 @@ function mirrorChip(): LayoutFile {
 }
 
 describe('tuneChip', () => {
-  it('finds settings that, solved again from scratch, meet the targets to 1e-8', () => {
+  it('finds settings that, solved again from scratch, meet the targets to 1e-9', () => {
     const chip = ladder4();
     const targets: Target[] = [{ kind: 'throughput', value: 16 * uLmin }, { kind: 'ratio', value: 0.18 }];
     const vary = ['inA.pressure', 'inB.pressure', 'outA.pressure'].map((s) => ({ setting: parseSetting(s, chip) }));
     const result = tuneChip(chip, { targets, vary });
-    const again = solveChip(result.chip).result;
-    expect(again.converged).toBe(true);
-    for (const t of targets) expect(Math.abs(targetValue(again, t.kind) / t.value - 1)).toBeLessThan(1e-8);
-    expect(again.splits.every((s) => s.state === 'pinned')).toBe(true);
+    expectTargetsMet(result.chip, targets);
+    expect(solveChip(result.chip).result.splits.every((s) => s.state === 'pinned')).toBe(true);
     expect(result.minMargin).toBeGreaterThan(0);
   });
 
-  it('meets flow targets of A and B, and a mean holdup, to 1e-8', () => {
+  it('meets flow targets of A and B, and a mean holdup, to 1e-9', () => {
     const chip = ladder4();
-    const byFlows = tuneChip(chip, {
-      targets: [{ kind: 'flowA', value: 2.4 * uLmin }, { kind: 'flowB', value: 13.6 * uLmin }],
-      vary: ['inA.pressure', 'inB.pressure', 'outA.pressure'].map((s) => ({ setting: parseSetting(s, chip) })),
-    });
-    const again = solveChip(byFlows.chip).result;
-    expect(Math.abs(targetValue(again, 'flowA') / (2.4 * uLmin) - 1)).toBeLessThan(1e-8);
-    expect(Math.abs(targetValue(again, 'flowB') / (13.6 * uLmin) - 1)).toBeLessThan(1e-8);
-
-    const byHoldup = tuneChip(chip, {
-      targets: [{ kind: 'holdup', value: 0.5 }, { kind: 'throughput', value: 16 * uLmin }],
-      vary: ['inA.pressure', 'inB.pressure', 'outA.pressure'].map((s) => ({ setting: parseSetting(s, chip) })),
-    });
-    expect(Math.abs(targetValue(solveChip(byHoldup.chip).result, 'holdup') / 0.5 - 1)).toBeLessThan(1e-8);
+    const vary = ['inA.pressure', 'inB.pressure', 'outA.pressure'].map((s) => ({ setting: parseSetting(s, chip) }));
+    for (const targets of [
+      [{ kind: 'flowA', value: 2.4 * uLmin }, { kind: 'flowB', value: 13.6 * uLmin }],
+      [{ kind: 'holdup', value: 0.5 }, { kind: 'throughput', value: 16 * uLmin }],
+    ] satisfies Target[][]) {
+      expectTargetsMet(tuneChip(chip, { targets, vary }).chip, targets);
+    }
   });
 
   it('on a symmetric chip with equal phases tunes equal inlet pressures and balanced margins', () => {
@@ -143,7 +177,7 @@ describe('simplexMaximise', () => {
 describe('stratiflow tune', () => {
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-tune-'));
 
-  it('writes a tuned layout that, loaded and solved, meets the targets to 1e-8, and prints the cautions', async () => {
+  it('writes a tuned layout that, loaded and solved, meets the targets to 1e-9, and prints the cautions', async () => {
     const file = join(dir, 'ladder.yaml');
     writeFileSync(file, `# a demo chip\n${stringify(ladderLayout({ contactors: 4 }))}`);
     const { code, out, err } = await runCli(['tune', file, '--throughput', '16uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure=0:5kPa']);
@@ -153,9 +187,7 @@ describe('stratiflow tune', () => {
     expect(out).toMatch(/lab safety rules/);
     expect(out).toMatch(/within its rating of 300 kPa/);
     const tuned = loadLayout(join(dir, 'ladder-tuned.yaml'));
-    const result = solveChip(tuned).result;
-    expect(Math.abs(targetValue(result, 'throughput') / (16 * uLmin) - 1)).toBeLessThan(1e-8);
-    expect(Math.abs(targetValue(result, 'ratio') / 0.18 - 1)).toBeLessThan(1e-8);
+    expectTargetsMet(tuned, [{ kind: 'throughput', value: 16 * uLmin }, { kind: 'ratio', value: 0.18 }]);
     expect(tuned.nodes.find((n) => n.id === 'inA')).toMatchObject({ flow: undefined });
   });
 
