@@ -8,7 +8,8 @@
 import { availableParallelism } from 'node:os';
 import { ladderLayout } from '../src/layout/generate.js';
 import { layoutToChip } from '../src/layout/load.js';
-import { parseSetting, windowMap, type WindowSpec } from '../src/analyses/window.js';
+import { windowMap, type WindowSpec } from '../src/analyses/window.js';
+import { parseSetting } from '../src/analyses/settings.js';
 import type { Row } from './report.js';
 
 /** The target for the 41 × 41 map of a 64-contactor chip on a 2-core machine, s. */

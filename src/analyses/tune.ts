@@ -23,7 +23,7 @@
 import { DISPLAY, show } from '../units/format.js';
 import { Matrix, SingularValueDecomposition, pseudoInverse } from 'ml-matrix';
 import { solveChip, warmStartFrom, type ChipSolution, type SolvedChip } from './chip.js';
-import { settingName, settingValue, withSettings, type Setting } from './window.js';
+import { settingName, settingValue, withSettings, type Setting } from './settings.js';
 import { spannedDimension } from '../network/topology.js';
 import { assembleNetwork } from '../network/assemble.js';
 import type { SolverOptions } from '../solver/defaults.js';

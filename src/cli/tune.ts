@@ -9,7 +9,7 @@
 import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { loadLayout, MAX_JSON_LAYOUT_BYTES, MAX_LAYOUT_BYTES } from '../layout/load.js';
-import { parseSetting, type Setting } from '../analyses/window.js';
+import { parseSetting, type Setting } from '../analyses/settings.js';
 import { tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';

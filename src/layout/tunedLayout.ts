@@ -3,7 +3,7 @@
  * rewritten as JSON. Exports `tunedLayoutText`. Text in, text out; the caller writes the file.
  */
 import { parseDocument, isMap, isSeq } from 'yaml';
-import type { Setting } from '../analyses/window.js';
+import type { Setting } from '../analyses/settings.js';
 import type { TuneResult } from '../analyses/tune.js';
 import { DISPLAY } from '../units/format.js';
 import { StratiflowError } from '../errors.js';

@@ -3,7 +3,7 @@
  * margins, the pressure rating and the per-contactor table. Exports `tuneText`. Pure: data in,
  * text out. Also `tuneHeader`, the line that heads the tuned layout file.
  */
-import { settingName, type Setting } from '../analyses/window.js';
+import { settingName, type Setting } from '../analyses/settings.js';
 import type { TargetKind, TuneResult } from '../analyses/tune.js';
 import { pressureResolution } from '../analyses/resolution.js';
 import type { Chip } from '../network/model.js';

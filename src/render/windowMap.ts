@@ -4,7 +4,8 @@
  * where a target's two contours cross (`targetCrossings`). Pure: data in, text out.
  */
 import { scaleLinear } from 'd3-scale';
-import { settingName, POINT_CLASSES, type MapTarget, type PointClass, type Setting, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
+import { POINT_CLASSES, type MapTarget, type PointClass, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
+import { settingName, type Setting } from '../analyses/settings.js';
 import { regionMap, type MarkedPoint, type Point } from './chart.js';
 import { SAFETY_NOTES } from './text.js';
 import { DISPLAY, fmt } from '../units/format.js';

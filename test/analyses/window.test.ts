@@ -13,7 +13,8 @@ import { layoutToChip } from '../../src/layout/load.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
-import { axisValues, parseSetting, settingValue, targetCrossings, windowMap, withSettings, type PointClass } from '../../src/analyses/window.js';
+import { axisValues, targetCrossings, windowMap, type PointClass } from '../../src/analyses/window.js';
+import { parseSetting, settingValue, withSettings } from '../../src/analyses/settings.js';
 import { runCli } from '../support/cli.js';
 
 /**
