@@ -4,6 +4,7 @@
  * per-contactor table, the spread between contactors and the warnings.
  * Exports `solveChip`, `summariseSolution` and the result types. No I/O.
  */
+import { GRAVITY } from '../physics/constants.js';
 import { DISPLAY, show } from '../units/format.js';
 import { assembleNetwork, type Network } from '../network/assemble.js';
 import { solveNetwork, type NetworkSolution, type SolverWorkspace, type SplitState, type WarmStart } from '../solver/newton.js';
@@ -13,8 +14,6 @@ import { area, hydraulicDiameter } from '../physics/section.js';
 import { spannedDimension } from '../network/topology.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
-/** Standard gravity, m/s² (CGPM 1901). */
-const GRAVITY = 9.80665;
 /**
  * Ranges in which stratified laminar co-flow with a flat interface is expected (common practice,
  * rules of thumb): Reynolds number below ~500 (well laminar, short entrance lengths), capillary

@@ -5,6 +5,7 @@
  * streams) with the element id and field, then fails with all of them. The warnings of a layout
  * that loads (./phases.ts) go into `chip.warnings`.
  */
+import { GRAVITY } from '../physics/constants.js';
 import { parseDataText, readTextFile } from '../files.js';
 import { layoutSchema, type LayoutFile, type LayoutNode } from './schema.js';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
@@ -16,8 +17,6 @@ import { checkTopology } from '../network/topology.js';
 import { implausible, mustBePositive, PLAUSIBLE, type PlausibleKind } from './plausibility.js';
 import { checkPhases } from './phases.js';
 
-/** Standard gravity, m/s² (CGPM 1901, exact by definition). */
-const GRAVITY = 9.80665;
 
 /**
  * The largest layout file read, bytes. A 1000-contactor ladder takes about 2 MB of YAML; parsing

@@ -9,11 +9,10 @@
  * gives ū(s) = (1/L)∫₀ᴸ u dt = Σ_{n odd} (2/(nπ)) f_n(s). Integrated over a layer and multiplied by
  * L this is the layer's flow k_A or k_B of ./twoLayer.ts, term by term.
  */
+import { SATURATED_HALF_ARGUMENT } from './constants.js';
 import { oddPowerTail } from './series.js';
 import type { TwoLayerInput } from './twoLayer.js';
 
-/** tanh(x) saturates to 1 in double precision for x > 19 (as in ./twoLayer.ts). */
-const SATURATED_HALF_ARGUMENT = 19;
 /**
  * Fewest series terms summed directly. Beyond the last one, the interior of each layer is given
  * its saturated closed form, and the part left out (boundary layers of the high modes near an

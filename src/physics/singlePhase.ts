@@ -3,6 +3,7 @@
  * Exports `rectConductance`, `tubeConductance`, `platesConductance`; each returns k with
  * Q = k·G, G = −dp/dx, in m⁴/(Pa·s). SI units only.
  */
+import { SATURATED_HALF_ARGUMENT } from './constants.js';
 import { oddPowerTail } from './series.js';
 
 /**
@@ -16,7 +17,7 @@ export function rectConductance(width: number, depth: number, mu: number): numbe
   const w = Math.max(width, depth);
   let sum = 0;
   let n = 1;
-  const saturated = (38 * h) / (Math.PI * w);
+  const saturated = (2 * SATURATED_HALF_ARGUMENT * h) / (Math.PI * w);
   for (; n < saturated; n += 2) sum += Math.tanh((n * Math.PI * w) / (2 * h)) / n ** 5;
   sum += oddPowerTail(5, n);
   return ((h ** 3 * w) / (12 * mu)) * (1 - ((192 * h) / (Math.PI ** 5 * w)) * sum);

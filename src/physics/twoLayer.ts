@@ -8,6 +8,7 @@
  * the interface spans the `along` dimension t ∈ [0, L]. For layers side by side in a channel of
  * width W and depth D, S = W and L = D; for layers one above the other, S = D and L = W.
  */
+import { SATURATED_HALF_ARGUMENT } from './constants.js';
 import { gaussLegendre16, oddPowerTail } from './series.js';
 import { min as minOf } from 'd3-array';
 
@@ -39,8 +40,6 @@ export interface TwoLayerFlow {
 const SUM = new Float64Array(4);
 const TERM = new Float64Array(4);
 
-/** tanh(x) saturates to 1 in double precision for x > 19 (2e^(-38) < 2^-53). */
-const SATURATED_HALF_ARGUMENT = 19;
 /** Below this series index everything is summed term by term. */
 const DIRECT_TERMS = 201;
 /** Length scale (in terms of n) above which a smooth summand may be integrated instead of summed. */
