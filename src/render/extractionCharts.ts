@@ -11,7 +11,7 @@ import type { ContactorExtraction, ExtractionResult } from '../analyses/extracti
 import { DISPLAY, fmt } from '../units/format.js';
 import { dotChart, lineChart, type LineSeries } from './chart.js';
 import { viridis } from './palette.js';
-import { SAFETY_NOTES, textTable, columnsCsv } from './text.js';
+import { cautionLines, columnsCsv, textTable, warningsLines } from './text.js';
 import { max as maxOf } from 'd3-array';
 
 const MM = DISPLAY.lengthMm.factor;
@@ -146,10 +146,6 @@ export function extractionText(name: string, result: ExtractionResult): string {
   out.push('model');
   for (const note of EXTRACTION_MODEL_NOTES) out.push(`  - ${note}`);
   out.push('');
-  out.push(result.warnings.length ? 'warnings' : 'warnings: none');
-  for (const w of result.warnings) out.push(`  - ${w}`);
-  out.push('');
-  out.push('cautions');
-  for (const note of SAFETY_NOTES) out.push(`  - ${note}`);
+  out.push(...warningsLines(result.warnings), '', ...cautionLines());
   return out.join('\n') + '\n';
 }

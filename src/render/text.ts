@@ -92,10 +92,16 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
     for (const p of problems) out.push(`  - ${p.element}: ${p.reason}`);
     out.push('');
   }
-  out.push(s.warnings.length ? 'warnings' : 'warnings: none');
-  for (const w of s.warnings) out.push(`  - ${w}`);
-  out.push('');
-  out.push('cautions');
-  for (const note of SAFETY_NOTES) out.push(`  - ${note}`);
+  out.push(...warningsLines(s.warnings), '', ...cautionLines());
   return out.join('\n') + '\n';
+}
+
+/** The warnings block of a text report: a heading and one line each, or "warnings: none". */
+export function warningsLines(warnings: readonly string[]): string[] {
+  return [warnings.length ? 'warnings' : 'warnings: none', ...warnings.map((w) => `  - ${w}`)];
+}
+
+/** The cautions that close every text report: `extra` ones first, then SAFETY_NOTES. */
+export function cautionLines(extra: readonly string[] = []): string[] {
+  return ['cautions', ...[...extra, ...SAFETY_NOTES].map((note) => `  - ${note}`)];
 }

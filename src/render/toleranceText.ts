@@ -4,7 +4,7 @@
  * Exports `toleranceText`, `toleranceCsv`, `describeVariation`. Pure: data in, string out.
  */
 import type { Quantity, ToleranceResult, Variation } from '../analyses/tolerance.js';
-import { SAFETY_NOTES, textTable } from './text.js';
+import { cautionLines, textTable } from './text.js';
 import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
 import { RELATIVE_FLOW_RESOLUTION } from '../analyses/resolution.js';
 import { min as minOf } from 'd3-array';
@@ -131,9 +131,7 @@ export function toleranceText(r: ToleranceResult, info: RunInfo): string {
   out.push(r.notes.length ? 'notes' : 'notes: none');
   for (const note of r.notes) out.push(`  - ${note}`);
   out.push('');
-  out.push('cautions');
-  out.push('  - Realisations are drawn from the tolerances given; a chip outside them (a bad wafer, a blocked channel) is not covered.');
-  for (const note of SAFETY_NOTES) out.push(`  - ${note}`);
+  out.push(...cautionLines(['Realisations are drawn from the tolerances given; a chip outside them (a bad wafer, a blocked channel) is not covered.']));
   return out.join('\n') + '\n';
 }
 

@@ -7,7 +7,7 @@ import { scaleLinear } from 'd3-scale';
 import { POINT_CLASSES, type MapTarget, type PointClass, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
 import { settingName, type Setting } from '../analyses/settings.js';
 import { regionMap, type MarkedPoint, type Point } from './chart.js';
-import { SAFETY_NOTES } from './text.js';
+import { cautionLines } from './text.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
@@ -166,11 +166,10 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
     for (const c of marks.crossings) out.push(`target ${wanted}: near ${settingName(x.setting)} = ${show(x.setting, c[0])}, ${settingName(y.setting)} = ${show(y.setting, c[1])} (read off the grid; stratiflow tune finds it exactly)`);
   }
   out.push(map.maxPressure !== undefined
-    ? `pressure rating ${fmt(map.maxPressure / 1e3)} kPa; ${map.counts['over-rating']} points above it`
+    ? `pressure rating ${fmt(map.maxPressure * DISPLAY.pressure.factor)} ${DISPLAY.pressure.symbol}; ${map.counts['over-rating']} points above it`
     : 'the layout gives no pressure rating (maxPressure): check the pressures against the rating of the chip, fittings and tubing yourself');
   out.push('');
-  out.push('cautions');
-  for (const note of SAFETY_NOTES) out.push(`  - ${note}`);
+  out.push(...cautionLines());
   return out.join('\n') + '\n';
 }
 
