@@ -12,7 +12,7 @@ import { layoutToChip, loadLayout } from '../../src/layout/load.js';
 import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type ChipSolution } from '../../src/analyses/chip.js';
-import { parseSetting } from '../../src/analyses/window.js';
+import { parseSetting } from '../../src/analyses/settings.js';
 import { simplexMaximise, tuneChip, type Target, type TargetKind } from '../../src/analyses/tune.js';
 import { runCli } from '../support/cli.js';
 import { StratiflowError } from '../../src/errors.js';
