@@ -14,7 +14,7 @@
  * An explicit domain that is not finite, or not positive on a log axis, is the caller's error
  * and throws a RangeError.
  */
-import { max as maxOf } from 'd3-array';
+import { bin, max as maxOf } from 'd3-array';
 import { scaleBand, scaleLinear, scaleLog, scaleSequential, type ScaleLinear, type ScaleLogarithmic } from 'd3-scale';
 import { line } from 'd3-shape';
 import { DASH, INK, categoryColour, seriesStyle, viridis, type MarkerShape } from './palette.js';
@@ -561,7 +561,7 @@ export interface Bin {
 }
 
 /**
- * Counts of the finite samples in bins [x0, x1), the last one closed. Without thresholds the
+ * Counts of the finite samples in bins [x0, x1), the last one closed (d3-array's `bin`). Without thresholds the
  * edges are d3's nice ticks over the sample extent, about `bins` of them, by default
  * ⌈log₂ n⌉ + 1 (Sturges, 1926, J. Am. Stat. Assoc. 21, 65–66), as d3-array's `bin` does.
  * No finite samples and no thresholds give no bins.
@@ -582,19 +582,11 @@ export function histogramBins(samples: readonly number[], options: { bins?: numb
     if (edges[edges.length - 1] < hi) edges.push(hi);
   }
   if (edges.length < 2) return [];
-  const counts = new Array<number>(edges.length - 1).fill(0);
-  for (const v of finite) {
-    if (v < edges[0] || v > edges[edges.length - 1]) continue;
-    let lo = 0;
-    let hi = edges.length - 1;
-    while (hi - lo > 1) {
-      const mid = (lo + hi) >> 1;
-      if (edges[mid] <= v) lo = mid;
-      else hi = mid;
-    }
-    counts[lo]++;
-  }
-  return counts.map((count, k) => ({ x0: edges[k], x1: edges[k + 1], count }));
+  // d3-array's bin counts into [x0, x1) with the last bin closed, dropping samples outside.
+  const lo = edges[0]!;
+  const hi = edges[edges.length - 1]!;
+  const binned = bin().domain([lo, hi]).thresholds(edges.slice(1, -1))(finite);
+  return binned.map((b, k) => ({ x0: edges[k]!, x1: edges[k + 1]!, count: b.length }));
 }
 
 export function histogram(spec: HistogramSpec): string {
@@ -640,6 +632,9 @@ export function histogram(spec: HistogramSpec): string {
  * marching squares, the two-dimensional case of marching cubes (Lorensen & Cline, 1987,
  * Computer Graphics 21(4), 163–169). Crossings are linearly interpolated along cell edges; a
  * saddle cell is resolved by the mean of its corners. Cells with a non-finite corner are skipped.
+ * Written here rather than taken from d3-contour: its contours are filled polygons of the
+ * region above a threshold, closed along the grid border, while these maps need open isolines
+ * with labels, and cells with missing (failed) points left out.
  */
 export function isoSegments(values: Grid, level: number): [Point, Point][] {
   const segments: [Point, Point][] = [];

@@ -8,6 +8,8 @@
  * holding a greyscale print. So series differ in colour *and* marker shape (and in dash where
  * the caller asks), and fills differ in colour *and* hatch (see HATCHES in ./svg.ts).
  */
+import { interpolateViridis } from 'd3-scale-chromatic';
+import { rgb } from 'd3-color';
 
 /**
  * Okabe, M. & Ito, K. (2008), "Color Universal Design (CUD): how to make figures and
@@ -84,25 +86,11 @@ export function categoryColour(i: number): string {
 
 /**
  * viridis, the perceptually uniform sequential map of matplotlib (Smith & van der Walt, 2015,
- * "A better default colormap for matplotlib", SciPy 2015). Lightness rises monotonically, so it
- * reads in greyscale and under the common colour-vision deficiencies. These are entries
- * 0, 16, 32, …, 255 (round(k·255/16), k = 0…16) of its published 256-entry table; linear
- * interpolation between them stays within 6/255 per channel of the full table.
+ * "A better default colormap for matplotlib", SciPy 2015), from d3-scale-chromatic. Lightness
+ * rises monotonically, so it reads in greyscale and under the common colour-vision deficiencies.
  */
-const VIRIDIS_STOPS = [
-  '440154', '48186a', '472d7b', '424086', '3b528b', '33638d', '2c728e', '26828e', '21918c',
-  '1f9f88', '27ad81', '3dbc74', '5cc863', '81d34d', 'aadc32', 'd5e21a', 'fde725',
-] as const;
-
-const VIRIDIS_RGB = VIRIDIS_STOPS.map((hex) => [0, 2, 4].map((k) => parseInt(hex.slice(k, k + 2), 16)));
-
 /** viridis at t ∈ [0, 1] as '#rrggbb'; t outside is clamped, NaN gives the low end. */
 export function viridis(t: number): string {
   const u = Number.isNaN(t) ? 0 : Math.min(1, Math.max(0, t));
-  const last = VIRIDIS_RGB.length - 1;
-  const k = Math.min(last - 1, Math.floor(u * last));
-  const f = u * last - k;
-  const a = VIRIDIS_RGB[k];
-  const b = VIRIDIS_RGB[k + 1];
-  return '#' + a.map((c, j) => Math.round(c + (b[j] - c) * f).toString(16).padStart(2, '0')).join('');
+  return rgb(interpolateViridis(u)).formatHex();
 }
