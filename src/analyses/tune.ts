@@ -475,7 +475,9 @@ function smallestMargin(delta: readonly number[], windows: ReadonlyArray<readonl
 /**
  * Maximise c·x subject to A·x ≤ b, x ≥ 0, with b ≥ 0 (so x = 0 is feasible): the simplex
  * method on a dense tableau with Bland's rule against cycling (Chvátal, Linear Programming,
- * 1983, ch. 2–3, from memory). Returns null when the objective is unbounded.
+ * 1983, ch. 2–3, from memory). Returns null when the objective is unbounded. Written here: the
+ * programs are tiny (two unknowns per setting, a few rows per split), and a library would add
+ * more code than this; its result is checked by re-solving the chip at the tuned settings.
  */
 export function simplexMaximise(c: readonly number[], A: readonly (readonly number[])[], b: readonly number[]): number[] | null {
   const m = A.length;

@@ -144,7 +144,9 @@ export function assembleNetwork(chip: Chip): Network {
 /**
  * Nominal composition: inlets supply their phase and everything flows from → to; a port takes
  * the mean of what arrives. Ports are settled in topological order (Kahn's algorithm), so each
- * is visited once; ports on a loop, which have no such order, keep 0.5.
+ * is visited once; ports on a loop, which have no such order, keep 0.5. Not graphlib's topsort:
+ * it is recursive, overflows the call stack on the long chains of a large ladder, and throws on
+ * a loop instead of settling the rest.
  */
 function propagateNominal(ports: Port[], plains: PlainElement[], contactors: ContactorElement[]): void {
   const downstream: number[][] = ports.map(() => []);
