@@ -25,6 +25,13 @@ import { checkPhases } from './phases.js';
  * read in about 0.3 s (measured).
  */
 export const MAX_LAYOUT_BYTES = 16 * 2 ** 20;
+
+/**
+ * Density of a phase the file gives none for, kg/m³: about that of water (common practice). It
+ * enters only the Reynolds and Bond numbers; a reservoir height, whose head it would set, is
+ * refused without a density.
+ */
+const ASSUMED_DENSITY = 1000;
 export const MAX_JSON_LAYOUT_BYTES = 64 * 2 ** 20;
 
 export function loadLayout(path: string): Chip {
@@ -97,7 +104,7 @@ export function layoutToChip(data: unknown, source: string): Chip {
     checkTopology(chip);
     const phases = checkPhases(chip);
     problems.push(...phases.problems);
-    chip.warnings = phases.warnings;
+    chip.warnings = [...(chip.warnings ?? []), ...phases.warnings];
   } catch (error) {
     if (error instanceof StratiflowErrors) problems.push(...error.problems);
     else throw error;
@@ -180,6 +187,7 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     value === undefined ? undefined : quantity(value, kind, element, field);
 
   const phases = {} as Record<PhaseName, Phase>;
+  const densityGiven = {} as Record<PhaseName, boolean>;
   for (const name of ['A', 'B'] as const) {
     const p = raw.phases[name];
     const element = `phase ${name}`;
@@ -188,13 +196,31 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     const viscosity = optional(p.viscosity, 'viscosity', element, 'viscosity') ?? fluid?.viscosity;
     const density = optional(p.density, 'density', element, 'density') ?? fluid?.density;
     if (viscosity === undefined) problems.push(new StratiflowError('bad-layout', 'missing (give viscosity or a known fluid)', { file: source, element, field: 'viscosity' }));
+    densityGiven[name] = density !== undefined;
     phases[name] = {
       label: p.label ?? fluid?.label ?? `phase ${name}`,
       viscosity: viscosity ?? NaN,
-      density: density ?? 1000,
+      density: density ?? ASSUMED_DENSITY,
       diffusivity: optional(p.diffusivity, 'diffusivity', element, 'diffusivity'),
     };
   }
+
+  /** ρ·g·h of a reservoir of `phase`, Pa; a height needs the phase and its density given. */
+  const reservoirHead = (phase: PhaseName | undefined, height: number, element: string): number => {
+    if (height === 0) return 0;
+    if (phase === undefined) {
+      problems.push(new StratiflowError('bad-layout', 'give the phase of the outlet: its reservoir head ρgh needs the density of the liquid in it', { file: source, element, field: 'phase' }));
+      return 0;
+    }
+    if (!densityGiven[phase]) {
+      problems.push(new StratiflowError('bad-layout', `the reservoir head ρgh needs the density of phase ${phase}: give phases.${phase}.density or a known fluid`, { file: source, element, field: 'reservoirHeight' }));
+      return 0;
+    }
+    return phases[phase].density * GRAVITY * height;
+  };
+  const warnings = (['A', 'B'] as const)
+    .filter((name) => !densityGiven[name])
+    .map((name) => `phase ${name}: no density given; ${ASSUMED_DENSITY} kg/m³ (about water) assumed, which enters only the Reynolds and Bond numbers`);
 
   const tension = raw.interfacialTension === undefined ? undefined : quantity(raw.interfacialTension, 'tension', undefined, 'interfacialTension', 'interfacial tension');
   let contactAngle: Chip['contactAngle'];
@@ -231,14 +257,14 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
           problems.push(new StratiflowError('bad-layout', 'give exactly one of pressure and flow', { file: source, element, field: 'pressure' }));
         }
         const height = optional(n.reservoirHeight, 'height', element, 'reservoirHeight') ?? 0;
-        const head = phases[n.phase].density * GRAVITY * height;
+        const head = reservoirHead(n.phase, height, element);
         const pressure = optional(n.pressure, 'pressure', element, 'pressure');
         const flow = n.flow === undefined ? undefined : quantity(n.flow, 'flow', element, 'flow', 'an inlet flow');
         return { ...base, kind: 'inlet', phase: n.phase, pressure: pressure === undefined ? undefined : pressure + head, flow, head };
       }
       case 'outlet': {
         const height = optional(n.reservoirHeight, 'height', element, 'reservoirHeight') ?? 0;
-        const head = phases[n.phase ?? 'A'].density * GRAVITY * height;
+        const head = reservoirHead(n.phase, height, element);
         return { ...base, kind: 'outlet', pressure: quantity(n.pressure, 'pressure', element, 'pressure') + head, head, phase: n.phase };
       }
       case 'junction':
@@ -279,6 +305,6 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     };
   }
 
-  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, solute, nodes, segments };
+  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, solute, nodes, segments, warnings };
   return { chip, problems };
 }

@@ -200,6 +200,17 @@ describe('loadLayout and parseLayout on files that are not layouts', () => {
     expect(lineOf(() => parseLayout('name: a\n---\nname: b\n', 'd.yaml'))).toMatch(/several YAML documents \(---\); a layout file holds one$/);
   });
 
+  it('refuse a reservoir height without the density that sets its head, and say when a density is assumed', () => {
+    // Regression: a missing density silently became 1000 kg/m³, also in the head ρgh of a reservoir.
+    const noDensity = TEXT.replace('A: { viscosity: 6.5 mPa.s, density: 0.85 g/cm3 }', 'A: { viscosity: 6.5 mPa.s }');
+    expect(lineOf(() => parseLayout(noDensity, 'c.yaml'))).toBe('c.yaml: node inA: reservoirHeight: the reservoir head ρgh needs the density of phase A: give phases.A.density or a known fluid');
+    const noHeight = noDensity.replace(', reservoirHeight: 10 cm', '');
+    const chip = parseLayout(noHeight, 'c.yaml');
+    expect(chip.warnings).toContain('phase A: no density given; 1000 kg/m³ (about water) assumed, which enters only the Reynolds and Bond numbers');
+    const outletWithoutPhase = TEXT.replace('phase: B, reservoirHeight: 2 cm', 'reservoirHeight: 2 cm');
+    expect(lineOf(() => parseLayout(outletWithoutPhase, 'c.yaml'))).toMatch(/^c\.yaml: node outB: phase: give the phase of the outlet/);
+  });
+
   it('print at most SHOWN_PROBLEMS problems and count the rest', () => {
     // Regression: one slip repeated on every node of a generated ladder printed 38 000 lines.
     const layout = wellDesignedLadder(40);
