@@ -360,7 +360,6 @@ export interface MapTarget {
   ratio?: number;
 }
 
-
 /**
  * Where the fields cross both target levels, in setting values: each grid cell is cut into two
  * triangles on which the fields are linear, and the 2×2 system is solved on each.
@@ -395,8 +394,10 @@ export function targetCrossings(map: WindowMap, target: MapTarget): Point[] {
   return found.filter((p, k) => found.findIndex((q) => Math.abs(q[0] - p[0]) + Math.abs(q[1] - p[1]) < 1e-9 * (Math.abs(p[0]) + Math.abs(p[1]) + 1e-30)) === k);
 }
 
-/** Target given as any two of flow A, flow B, throughput and ratio, as throughput and ratio. */
-/** (The caller checks that at most two are given.) */
+/**
+ * A target given as any two of flow A, flow B, throughput and ratio, as throughput and ratio;
+ * the caller checks that at most two are given (and names its own options when not).
+ */
 export function mapTarget(t: { flowA?: number; flowB?: number; throughput?: number; ratio?: number }): MapTarget | undefined {
   const given = [t.flowA, t.flowB, t.throughput, t.ratio].filter((v) => v !== undefined).length;
   if (given === 0) return undefined;
