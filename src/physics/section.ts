@@ -7,6 +7,7 @@
  */
 import { rectConductance, tubeConductance } from './singlePhase.js';
 import { twoLayerFlow } from './twoLayer.js';
+import { StratiflowError } from '../errors.js';
 
 export type Orientation = 'side' | 'stacked';
 
@@ -76,12 +77,22 @@ export function flowFractionAt(section: RectSection, muA: number, muB: number, h
 /** Settles when a Newton step in α is below this (the flow fraction is then exact to rounding). */
 const HOLDUP_STEP_TOLERANCE = 1e-13;
 const MAX_POLISH_STEPS = 60;
+/**
+ * A settled search is accepted only if φ there misses the target by less than this share of
+ * min(φ, 1 − φ) (plus rounding of φ itself). On a root the miss is about 1e-13 of that after a
+ * small Newton step and at rounding level in a collapsed bracket; a larger one means the root was
+ * not inside the bracket (a caller's bracket that misses it, or bisection ending at a bracket end).
+ */
+const SETTLED_MISS = 1e-9;
 
 /**
  * The holdup that carries flow fraction φ. φ(α) is strictly increasing from 0 to 1, so the root is
  * bracketed by [0, 1]; Newton steps with the exact derivative are taken while they stay inside
  * the bracket, bisection otherwise (the "rtsafe" safeguard of Press et al., Numerical Recipes,
  * 3rd ed., 2007, §9.4). `guess` and `bracket` let a caller start close.
+ * Throws StratiflowError('no-convergence') when the root is not found within MAX_POLISH_STEPS
+ * (a φ so near 0 or 1 that the holdup lies beyond 60 halvings, or viscosities so far apart that
+ * φ(α) is 0 or 1 to rounding) or the search closes in on a point that is not a root.
  */
 export function holdupForFlowFraction(
   section: RectSection,
@@ -101,16 +112,22 @@ export function holdupForFlowFraction(
     if (f > 0) hi = alpha;
     else lo = alpha;
     let next = alpha - f / state.dFlowFraction;
-    if (!(next > lo && next < hi) || !Number.isFinite(next)) next = 0.5 * (lo + hi);
-    const step = Math.abs(next - alpha);
-    // Correct k to the final α by first order; the error is O(step²).
-    if (step < HOLDUP_STEP_TOLERANCE * Math.min(alpha, 1 - alpha) || hi - lo < 4e-16 * Math.min(alpha, 1 - alpha)) {
-      return shiftState(state, next);
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    const collapsed = !(next > lo && next < hi) || hi - lo < 4e-16 * Math.min(alpha, 1 - alpha);
+    if (collapsed || Math.abs(next - alpha) < HOLDUP_STEP_TOLERANCE * Math.min(alpha, 1 - alpha)) {
+      const allowed = SETTLED_MISS * Math.min(flowFraction, 1 - flowFraction) + 8 * Number.EPSILON * flowFraction;
+      if (!(Math.abs(f) <= allowed)) throw unreached(flowFraction, state, `the search closed in on holdup ${alpha}, which is not a root`);
+      // Correct k to the final α by first order; the error is O(step²).
+      return shiftState(state, next > lo && next < hi ? next : alpha);
     }
     alpha = next;
     state = flowFractionAt(section, muA, muB, alpha);
   }
-  return state;
+  throw unreached(flowFraction, state, `not settled in ${MAX_POLISH_STEPS} steps, last holdup ${state.holdup}`);
+}
+
+function unreached(flowFraction: number, state: TwoPhaseState, how: string): StratiflowError {
+  return new StratiflowError('no-convergence', `no holdup found for flow fraction ${flowFraction}: ${how} (flow fraction there ${state.flowFraction})`);
 }
 
 function shiftState(state: TwoPhaseState, alpha: number): TwoPhaseState {

@@ -12,6 +12,7 @@ import {
   type RectSection,
 } from '../../src/physics/section.js';
 import { twoLayerFlow, twoLayerPlates } from '../../src/physics/twoLayer.js';
+import { StratiflowError } from '../../src/errors.js';
 
 const relativeError = (got: number, want: number) => Math.abs(got - want) / Math.abs(want);
 
@@ -200,6 +201,27 @@ describe('holdupForFlowFraction', () => {
       const { holdup } = holdupForFlowFraction(section, 0.2 * MU_B, MU_B, phi);
       const back = flowFractionAt(section, 0.2 * MU_B, MU_B, holdup).flowFraction;
       expect(Math.abs(back - phi)).toBeLessThan(1e-10 * phi);
+    });
+
+    it('says so when φ = 1e-40 lies beyond its 60 steps, instead of returning a holdup whose flow fraction is 1.3e-37', () => {
+      // φ ∝ α² for a thin wall layer (as 3α² − 2α³ between plates, BSL 2002, derived in
+      // twoLayer.test.ts; measured φ ≈ 4.7α² here): the root, α ≈ 5e-21, is some 66 halvings from
+      // the start at 0.5, and Newton from above also halves α at each step. The old code returned
+      // its last iterate silently.
+      expect(() => holdupForFlowFraction(rect(2, 'side'), MU_B, MU_B, 1e-40)).toThrow(StratiflowError);
+      expect(() => holdupForFlowFraction(rect(2, 'side'), MU_B, MU_B, 1e-40)).toThrow(/no holdup found for flow fraction 1e-40: not settled in 60 steps/);
+    });
+
+    it('says so when the viscosities leave φ at 1 to rounding for every holdup (μA/μB = 1e-297)', () => {
+      // k_A/k_B ∝ μ_B/μ_A (scaling of μ∇²u = −G, common practice), so φ = 1 − O(1e-297) = 1 in double
+      // precision and no holdup carries φ = 0.5. The old code returned α = 4e-19 with φ = 1.
+      expect(() => holdupForFlowFraction(rect(2, 'side'), 1e-300, MU_B, 0.5)).toThrow(/no holdup found for flow fraction 0.5/);
+    });
+
+    it('says so when a caller’s bracket does not hold the root, instead of returning its end', () => {
+      // φ(α) increases (twoLayer.test.ts), and φ = 0.3 lies below φ(0.6), so [0.6, 1] holds no root.
+      // The old code returned α = 0.6 with φ = 0.63.
+      expect(() => holdupForFlowFraction(rect(2, 'side'), MU_B, MU_B, 0.3, 0.7, [0.6, 1])).toThrow(/closed in on holdup 0\.6\d*, which is not a root/);
     });
   });
 });
