@@ -20,7 +20,7 @@ import { line } from 'd3-shape';
 import { DASH, INK, categoryColour, seriesStyle, viridis, type MarkerShape } from './palette.js';
 import {
   DIGITS, FONT_SIZE, TEXT_HALO, TICK_LENGTH, TITLE_SIZE, clipTo, createDocument, drawAxisBottom, drawAxisLeft, drawLegend, el,
-  fillSwatch, fixed, hatchDefs, hatchFill, label, legendSize, lineSwatch, marker, num, resizeDocument, serialise, textWidth,
+  fillSwatch, fixed, hatchDefs, hatchFill, label, legendSize, lineSwatch, marker, markerRun, num, resizeDocument, serialise, textWidth,
   type Frame, type LegendEntry, type PixelTick, type SvgNode,
 } from './svg.js';
 
@@ -494,6 +494,9 @@ function labelEvery(index: readonly number[], step: number): number {
   }
 }
 
+/** More dots than this in one series are drawn as one path (svg.ts `markerRun`). */
+const MARKER_RUN_FROM = 256;
+
 function indexedChart(spec: IndexedChartSpec & { y: AxisSpec }, kind: 'bar' | 'dot'): string {
   const references = spec.reference ?? [];
   const values = spec.groups.flatMap((g) => g.values);
@@ -517,12 +520,13 @@ function indexedChart(spec: IndexedChartSpec & { y: AxisSpec }, kind: 'bar' | 'd
   const base = y.scale(0);
   spec.groups.forEach((g, k) => {
     const style = seriesStyle(k);
+    const dots: Array<[number, number]> = [];
     g.values.forEach((v, p) => {
       if (p >= keys.length || !y.usable(v)) return;
       const left = (band(keys[p]) ?? 0) + (inner(k) ?? 0);
       const py = y.scale(v);
       if (kind === 'dot') {
-        if (inside(frame, left + inner.bandwidth() / 2, py)) marker(marks, style.marker, left + inner.bandwidth() / 2, py, style.colour);
+        if (inside(frame, left + inner.bandwidth() / 2, py)) dots.push([left + inner.bandwidth() / 2, py]);
         return;
       }
       const box = { x: left, y: Math.min(py, base), width: inner.bandwidth(), height: Math.abs(py - base) };
@@ -530,6 +534,8 @@ function indexedChart(spec: IndexedChartSpec & { y: AxisSpec }, kind: 'bar' | 'd
       const hatch = hatchFill(k);
       if (hatch) el(marks, 'rect', { ...box, fill: hatch });
     });
+    if (dots.length > MARKER_RUN_FROM) markerRun(marks, style.marker, dots, style.colour);
+    else for (const [px, py] of dots) marker(marks, style.marker, px, py, style.colour);
   });
   drawAxisBottom(root, frame, xTicks, axisTitle(spec.x), false);
 

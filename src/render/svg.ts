@@ -150,14 +150,16 @@ export function clipTo(parent: SvgNode, frame: Frame): SvgNode {
 }
 
 /** Outline of a marker of about 2r across, centred on the origin. */
-function markerPath(shape: MarkerShape, r: number): string {
-  const p = (...xy: number[]) => xy.map(num).join(',');
+/** The outline of a marker of radius r centred at (cx, cy), in absolute path commands. */
+function markerPath(shape: MarkerShape, r: number, cx = 0, cy = 0): string {
+  const p = (x: number, y: number) => `${num(cx + x)},${num(cy + y)}`;
+  const radii = `${num(r)},${num(r)}`;
   switch (shape) {
     case 'circle':
-      return `M${p(r, 0)}A${p(r, r)},0,1,1,${p(-r, 0)}A${p(r, r)},0,1,1,${p(r, 0)}Z`;
+      return `M${p(r, 0)}A${radii},0,1,1,${p(-r, 0)}A${radii},0,1,1,${p(r, 0)}Z`;
     case 'square': {
       const s = 0.89 * r; // same area as the circle
-      return `M${p(-s, -s)}H${num(s)}V${num(s)}H${num(-s)}Z`;
+      return `M${p(-s, -s)}H${num(cx + s)}V${num(cy + s)}H${num(cx - s)}Z`;
     }
     case 'triangle':
       return `M${p(0, -1.25 * r)}L${p(1.1 * r, 0.65 * r)}L${p(-1.1 * r, 0.65 * r)}Z`;
@@ -184,6 +186,22 @@ export function marker(parent: SvgNode, shape: MarkerShape, x: number, y: number
     fill: open ? 'none' : colour,
     stroke: open ? colour : halo ? INK.halo : undefined,
     'stroke-width': open ? 1.6 : halo ? 1 : undefined,
+  });
+}
+
+/**
+ * Many markers of one shape and colour as one path element (`marker-run`): a chart of thousands
+ * of contactors otherwise builds thousands of DOM elements, and the DOM emulation's insertion
+ * cost grows with the number of siblings (at 16 384 contactors the charts took 5.4 s).
+ */
+export function markerRun(parent: SvgNode, shape: MarkerShape, points: ReadonlyArray<readonly [number, number]>, colour: string): SvgNode {
+  const open = shape === 'cross' || shape === 'plus';
+  return el(parent, 'path', {
+    class: 'marker-run',
+    d: points.map(([x, y]) => markerPath(shape, MARKER_RADIUS, x, y)).join(''),
+    fill: open ? 'none' : colour,
+    stroke: open ? colour : undefined,
+    'stroke-width': open ? 1.6 : undefined,
   });
 }
 

@@ -219,6 +219,19 @@ describe('barChart and dotChart', () => {
     const shapes = new Set([...group(svg, 'markers').matchAll(/ d="([^"]+)"/g)].map((m) => m[1]));
     expect(shapes.size).toBe(2);
   });
+
+  it('draws a long series as one path holding every dot', () => {
+    // Regression of scale: 16 384 contactors built one element per dot, and the charts took 5.4 s.
+    const n = 1000;
+    const index = Array.from({ length: n }, (_, i) => i + 1);
+    const values = index.map((i) => Math.sin(i / 50));
+    const svg = dotChart({ title: 'many', x: { label: 'contactor' }, y: { label: 'value' }, index, groups: [{ name: 'one', values }] });
+    const runs = [...group(svg, 'markers').matchAll(/<path class="marker-run"[^>]* d="([^"]+)"/g)].map((m) => m[1]!);
+    expect(runs).toHaveLength(1);
+    // A circle marker is two arcs from its rightmost point: one "M" per dot.
+    expect(runs[0]!.split('M').length - 1).toBe(n);
+    expect(group(svg, 'markers')).not.toMatch(/class="marker"/);
+  });
 });
 
 describe('histogramBins', () => {
