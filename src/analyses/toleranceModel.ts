@@ -309,7 +309,8 @@ export type Outcome =
 /**
  * Warm start from the nominal solution (the solver itself falls back to a cold start when that
  * does not settle). `workspace` is shared by the jobs of one thread: the realisations have the
- * nominal chip's pattern, so its symbolic analysis and last factors serve them all.
+ * nominal chip's pattern, so one symbolic analysis serves them all (numeric factors are never
+ * carried from one solve to the next, so the outcome does not depend on the job order).
  */
 export function runJob(context: JobContext, job: Job, workspace = new SolverWorkspace()): Outcome {
   let z: Float64Array;

@@ -8,12 +8,11 @@
  */
 import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
-import { loadLayout, MAX_JSON_LAYOUT_BYTES, MAX_LAYOUT_BYTES } from '../layout/load.js';
+import { loadLayout, readLayoutText } from '../layout/load.js';
 import { parseSetting, type Setting } from '../analyses/settings.js';
 import { tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
-import { readTextFile } from '../files.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
 import { numberOption, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
@@ -96,7 +95,7 @@ export function registerTune(program: Command, context: CommandContext): void {
         if (error instanceof StratiflowError && !error.place.file) throw new StratiflowError(error.code, error.message, { file });
         throw error;
       }
-      const original = readTextFile(file, 'layout file', /\.json$/i.test(file) ? MAX_JSON_LAYOUT_BYTES : MAX_LAYOUT_BYTES);
+      const original = readLayoutText(file);
       writeOutputs([{ path: out, option: '--out', content: tunedLayoutText(original, out.endsWith('.json'), result, tuneHeader(result)) }]);
       if (o.json) {
         const { chip: _tuned, solved, ...rest } = result;

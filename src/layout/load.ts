@@ -35,8 +35,12 @@ const ASSUMED_DENSITY = 1000;
 export const MAX_JSON_LAYOUT_BYTES = 64 * 2 ** 20;
 
 export function loadLayout(path: string): Chip {
-  const limit = /\.json$/i.test(path) ? MAX_JSON_LAYOUT_BYTES : MAX_LAYOUT_BYTES;
-  return parseLayout(readTextFile(path, 'layout file', limit), path);
+  return parseLayout(readLayoutText(path), path);
+}
+
+/** The text of a layout file, within the size limit of its format. */
+export function readLayoutText(path: string): string {
+  return readTextFile(path, 'layout file', /\.json$/i.test(path) ? MAX_JSON_LAYOUT_BYTES : MAX_LAYOUT_BYTES);
 }
 
 export function parseLayout(text: string, source: string): Chip {
