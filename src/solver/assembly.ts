@@ -26,8 +26,12 @@ const MERGE_KAPPA = 1e-3;
 
 export interface EvaluateOptions {
   jacobian: boolean;
-  /** Replace each lane constraint by α = const (the linear first step of a cold start). */
-  freezeHoldup: boolean;
+  /**
+   * Replace each lane constraint by α = const (the linear first step of a cold start): `true`
+   * for every contactor, `open` only for contactors that both phases enter (a starved
+   * contactor's crossover stays an unknown).
+   */
+  freezeHoldup: boolean | 'open';
   /** Phase-A balances and compositions as unknowns; otherwise compositions stay nominal. */
   withComposition: boolean;
   /** The iterate that stagnant holdups and compositions are pulled toward. */
@@ -283,7 +287,7 @@ export class NetworkEquations {
       // way to a tiny pull of z toward the anchor, which leaves every converged value alone.
       const w = el.scale;
       const pull = 1e-12 * w * this.pressureScale;
-      if (o.freezeHoldup) {
+      if (o.freezeHoldup === true || (o.freezeHoldup === 'open' && merge.branch === 'open')) {
         F[col] = 0;
         J(col, col, w);
         for (const port of [el.nearIn, el.nearOut, el.farIn, el.farOut]) J(col, massRow(port), 0);

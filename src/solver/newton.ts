@@ -15,6 +15,7 @@
  */
 import { HoldupTable } from '../physics/section.js';
 import { SingularMatrixError } from './linear.js';
+import { Matrix, QrDecomposition } from 'ml-matrix';
 import { SOLVER_DEFAULTS, type SolverOptions } from './defaults.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { UnknownMap } from './unknowns.js';
@@ -28,6 +29,21 @@ export type FeedState = FeedBranch;
 
 /** Steps one stage of the composition-coupling homotopy may take before its step is halved. */
 const STAGE_STEPS = 25;
+/** Picard sweeps at most, and active-set Newton steps per sweep, in the Picard start. */
+const PICARD_SWEEPS = 200;
+const PICARD_INNER_STEPS = 12;
+/** The sweeps have settled when no holdup moves by more than this. */
+const PICARD_SETTLED = 1e-6;
+/** A layer thinner than this (as a share of the channel) that is still thinning closes. */
+const PICARD_CLOSE = 1e-4;
+/** Anderson depth: previous sweeps kept for the acceleration. */
+const ANDERSON_DEPTH = 5;
+/** Sweeps that move a holdup by more than this are plain (the first sweeps jump between active sets). */
+const ANDERSON_FROM = 1e-2;
+/** z just outside [0, 1]: a feed the sweeps close. */
+const EDGE = 1e-9;
+/** Lane flows below this share of the smaller phase throughput: a stagnant contactor. */
+const STAGNANT = 1e-9;
 /**
  * Steps an attempt may go without halving its best merit (in one stage) before it is given up
  * for the next weighting: every chip of the test families that settles at all halves it within
@@ -106,11 +122,35 @@ export class SolverWorkspace {
 const LANE_WEIGHTS = ['manifold', 'natural', 'geometric'] as const;
 type LaneWeight = (typeof LANE_WEIGHTS)[number];
 
+interface Attempt {
+  laneWeight: LaneWeight;
+  /** The warm start, or undefined for a cold one. */
+  start: WarmStart | undefined;
+  /** A cold start that first runs the Picard sweeps on the holdups (`picardSweeps`). */
+  picard: boolean;
+}
+
 /**
- * The steady state of the network: with each merit weighting of LANE_WEIGHTS in turn, from
- * `warm` when given and then from a cold start, until one attempt settles (at most
- * `maxAttempts`, each of at most `maxIterations` steps). A solve that settles in none returns
- * the attempt with the smallest residual, and the steps of all attempts.
+ * The order of attempts: for each merit weighting of LANE_WEIGHTS, from `warm` when given and
+ * then cold; after the first weighting, a Picard start. Chips that settle from the plain start
+ * (every well-designed chip of the test families) never pay for the sweeps; the Picard start is
+ * what settles chips whose manifolds carry most of the drop, where the plain start stalls with
+ * feeds starving and splits leaking all along the ladder.
+ */
+function attemptPlan(warm: WarmStart | undefined): Attempt[] {
+  const plan: Attempt[] = [];
+  for (const laneWeight of LANE_WEIGHTS) {
+    if (warm) plan.push({ laneWeight, start: warm, picard: false });
+    plan.push({ laneWeight, start: undefined, picard: false });
+    if (laneWeight === LANE_WEIGHTS[0]) plan.push({ laneWeight, start: undefined, picard: true });
+  }
+  return plan;
+}
+
+/**
+ * The steady state of the network: the attempts of `attemptPlan` in turn until one settles (at
+ * most `maxAttempts`, each of at most `maxIterations` steps). A solve that settles in none
+ * returns the attempt with the smallest residual, and the steps of all attempts.
  */
 export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: WarmStart, workspace = new SolverWorkspace()): NetworkSolution {
   const opt = { ...SOLVER_DEFAULTS, ...options };
@@ -118,20 +158,18 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   let best: NetworkSolution | undefined;
   let steps = 0;
   let attempts = 0;
-  search: for (const laneWeight of LANE_WEIGHTS) {
-    for (const start of warm ? [warm, undefined] : [undefined]) {
-      if (attempts++ >= opt.maxAttempts) break search;
-      const attempt = solveFrom(net, opt, start, workspace, laneWeight);
-      steps += attempt.iterations;
-      if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined };
-      if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
-    }
+  for (const { laneWeight, start, picard } of attemptPlan(warm)) {
+    if (attempts++ >= opt.maxAttempts) break;
+    const attempt = solveFrom(net, opt, start, workspace, laneWeight, picard);
+    steps += attempt.iterations;
+    if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined };
+    if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
   }
   attempts = Math.min(attempts, opt.maxAttempts);
   return { ...best!, iterations: steps, restartedCold: warm !== undefined, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
 }
 
-function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight): NetworkSolution {
+function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: boolean): NetworkSolution {
   const map = new UnknownMap(net);
   const eq = new NetworkEquations(net, map);
   const { alphaAt, leakAt, compAt, size: n, freePorts, unknownOf } = map;
@@ -156,7 +194,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = ports[i]!.nominal;
   }
   let reference = 1e-300;
-  const settings = (jacobian: boolean, freezeHoldup = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: 1e-8 * reference, coupling });
+  const settings = (jacobian: boolean, freezeHoldup: boolean | 'open' = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: 1e-8 * reference, coupling });
   let coupling = 1;
 
   /** Largest |J_ij| over the pressure columns of each row: the row's conductance, for the merit. */
@@ -185,7 +223,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   let scaled = false;
   const negated = (F: Float64Array) => F.map((v) => -v);
   /** The linear step of (J − D/τ)·δ = −F at x; τ = Infinity is Newton's step. */
-  const linearised = (tau: number, freezeHoldup: boolean): Float64Array => {
+  const linearised = (tau: number, freezeHoldup: boolean | 'open'): Float64Array => {
     eq.evaluate(x, settings(true, freezeHoldup));
     if (Number.isFinite(tau)) for (let i = 0; i < n; i++) if (eq.dynamic[i]! !== 0) eq.builder.add(i, i, eq.dynamic[i]! / tau);
     const matrix = eq.builder.toCsc();
@@ -219,10 +257,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * with the slopes of the piece it lands on; until the prediction agrees with the branches used
    * (a few rounds at most).
    */
-  const step = (tau: number): Float64Array => {
+  const step = (tau: number, freeze: boolean | 'open' = false): Float64Array => {
     eq.splitBranch.fill(undefined);
     eq.mergeBranch.fill(undefined);
-    let delta = linearised(tau, false);
+    let delta = linearised(tau, freeze);
     iterations++;
     for (let round = 0; round < ACTIVE_SET_ROUNDS; round++) {
       let changed = false;
@@ -252,7 +290,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         }
       }
       if (!changed) break;
-      delta = linearised(tau, false);
+      delta = linearised(tau, freeze);
     }
     eq.splitBranch.fill(undefined);
     eq.mergeBranch.fill(undefined);
@@ -298,6 +336,97 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     };
   };
 
+  /**
+   * Picard sweeps on the holdups: with every open contactor's holdup frozen, the network is a
+   * piecewise-linear one (lanes as fixed resistors, split windows, starved contactors'
+   * crossovers), solved by active-set Newton steps; then each holdup is set to the one whose
+   * flow fraction the lanes carried. At the fixed point both lanes of every contactor feel one
+   * gradient. The plain map contracts by the share of a contactor's loop resistance that lies in
+   * its own lanes, and slowly where a layer thins toward a wall (its lane conductance goes as
+   * its thickness squared), so the sweeps are Anderson-accelerated (Walker & Ni, 2011, SIAM J.
+   * Numer. Anal. 49:1715; depth ANDERSON_DEPTH, history cleared whenever a feed opens or
+   * closes). A layer the accelerated sweep carries through a wall closes: its phase starves, and
+   * the crossover decides at the next sweep whether it opens again.
+   */
+  function picardSweeps(): void {
+    const nc = contactors.length;
+    const dG: Float64Array[] = [];
+    const dF: Float64Array[] = [];
+    let lastG: Float64Array | undefined;
+    let lastF: Float64Array | undefined;
+    let lastNorm = Infinity;
+    const wasOpen = contactors.map((_, c) => x[alphaAt + c]! > 0 && x[alphaAt + c]! < 1);
+    for (let sweep = 0; sweep < PICARD_SWEEPS; sweep++) {
+      for (let inner = 0; inner < PICARD_INNER_STEPS; inner++) {
+        eq.evaluate(x, settings(false, 'open'));
+        reference = eq.flowReference();
+        if (settled(1e-11 * reference)) break;
+        apply(x.slice(), step(Infinity, 'open'), 1);
+      }
+      if (iterations >= opt.maxIterations / 2) return;
+      eq.evaluate(x, settings(false, 'open'));
+      const g = new Float64Array(nc);
+      let setChanged = false;
+      for (const [c, el] of contactors.entries()) {
+        const z = x[alphaAt + c]!;
+        g[c] = z;
+        if (z > 0 && z < 1) {
+          const qn = eq.laneFlow[2 * c]!;
+          const qf = eq.laneFlow[2 * c + 1]!;
+          const phi = qn / (qn + qf);
+          // A stagnant contactor (lane flows at the rounding level) keeps its holdup.
+          if (!Number.isFinite(phi) || Math.abs(qn) + Math.abs(qf) <= STAGNANT * reference) continue;
+          if (phi <= 0 || phi >= 1) {
+            g[c] = phi <= 0 ? -EDGE : 1 + EDGE;
+            setChanged = true;
+          } else g[c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
+        }
+        // A starved contactor's crossover is an unknown of the inner steps, and a step that
+        // carries its z inside (0, 1) opens the feed again; either way the set has changed.
+        const open = z > 0 && z < 1;
+        if (open !== wasOpen[c]) setChanged = true;
+        wasOpen[c] = open;
+      }
+      const f = g.map((v, c) => v - x[alphaAt + c]!);
+      let norm = 0;
+      for (let c = 0; c < nc; c++) norm = Math.max(norm, Math.abs(f[c]!));
+      if (norm < PICARD_SETTLED) return;
+      if (setChanged || !(norm < 2 * lastNorm) || norm > ANDERSON_FROM) {
+        dG.length = 0;
+        dF.length = 0;
+      } else if (lastG && lastF) {
+        dG.push(g.map((v, c) => v - lastG![c]!));
+        dF.push(f.map((v, c) => v - lastF![c]!));
+        if (dG.length > ANDERSON_DEPTH) {
+          dG.shift();
+          dF.shift();
+        }
+      }
+      lastG = g;
+      lastF = f;
+      lastNorm = norm;
+      const next = g.slice();
+      if (dF.length > 0) {
+        const gamma = leastSquares(dF, f);
+        if (gamma) for (let k = 0; k < dF.length; k++) for (let c = 0; c < nc; c++) next[c] -= gamma[k]! * dG[k]![c]!;
+      }
+      for (let c = 0; c < nc; c++) {
+        const z = x[alphaAt + c]!;
+        let v = next[c]!;
+        if (z > 0 && z < 1) {
+          // Open stays open inside the walls; through one, or thinner than PICARD_CLOSE and still thinning, it closes.
+          if (v <= 0 || (v < PICARD_CLOSE && v < z)) v = -EDGE;
+          else if (v >= 1 || (v > 1 - PICARD_CLOSE && v > z)) v = 1 + EDGE;
+          if (v <= 0 || v >= 1) {
+            dG.length = 0;
+            dF.length = 0;
+          }
+        } else v = g[c]!;
+        x[alphaAt + c] = v;
+      }
+    }
+  }
+
   try {
     if (!warm) {
       // Start: lanes as independent resistors at α = 0.5 (a linear solve), then α from the lane
@@ -316,6 +445,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         else x[alphaAt + c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
       }
       eq.rescale(x);
+      if (picard) picardSweeps();
     }
 
     let tau = Infinity;
@@ -330,7 +460,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       anchor.set(x);
       eq.evaluate(x, settings(false));
       reference = eq.flowReference();
-      if (withComposition && coupling < 1 && !settled(opt.relativeTolerance * reference) && iterations - stageStart > STAGE_STEPS) {
+      if (withComposition && settledCoupling < 1 && !settled(opt.relativeTolerance * reference) && iterations - stageStart > STAGE_STEPS) {
         // This stage of the homotopy does not settle: back to the last settled one, half the step.
         x.set(settledAt!);
         couplingStep /= 2;
@@ -422,6 +552,15 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     }
     throw error;
   }
+}
+
+/** γ minimising ‖f − Σ γ_k·columns_k‖₂ (Anderson's small least-squares problem, by QR); undefined when it is rank deficient. */
+function leastSquares(columns: Float64Array[], f: Float64Array): number[] | undefined {
+  const a = new Matrix(f.length, columns.length);
+  columns.forEach((col, k) => col.forEach((v, i) => a.set(i, k, v)));
+  const qr = new QrDecomposition(a);
+  if (!qr.isFullRank()) return undefined;
+  return qr.solve(Matrix.columnVector(Array.from(f))).to1DArray();
 }
 
 function allPure(composition: Float64Array): boolean {

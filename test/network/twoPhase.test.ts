@@ -575,17 +575,9 @@ describe('robustness of the solve', () => {
     for (const seg of cold.result.segments) near(segmentOf(again.result, seg.id).flowA, seg.flowA, 1e-9 * scale, seg.id);
   });
 
-  // Regression: the previous solve answered "Newton iteration stalled" on this chip after 100
-  // steps. Narrow manifolds carry much of the drop, so far contactors starve and splits leak.
-  it('settles a badly distributed 128-contactor ladder, every contactor in a stated state', () => {
-    const chip = badlyDistributedLadder(128, 'pressure', 'opposite');
-    const { result, raw } = solveChip(chip);
-    expect(result.converged, `${result.message ?? ''} ${result.unsettled.join(', ')}`).toBe(true);
-    expectConservation(chip, result, 1e-9, true);
-    const starved = result.contactors.filter((_, c) => raw.feedStates[c] !== 'open');
-    // The far end of this chip starves (measured: 5 contactors) and most splits leak.
-    expect(starved.length).toBeGreaterThan(0);
-    for (const c of starved) {
+  /** Every contactor open or starved with one phase filling it, every split pinned or at a limit. */
+  function expectStatedStates(result: ReturnType<typeof solveChip>['result'], raw: ReturnType<typeof solveChip>['raw']): void {
+    for (const c of result.contactors.filter((_, k) => raw.feedStates[k] !== 'open')) {
       expect(c.holdupA === 0 || c.holdupA === 1, `${c.id} holdup ${c.holdupA}`).toBe(true);
       expect(starvedPhase(c), c.id).not.toBeNull();
     }
@@ -596,5 +588,30 @@ describe('robustness of the solve', () => {
       expect(s.pressureDifference).toBeGreaterThanOrEqual(s.window[0] - 1e-9 * width);
       expect(s.pressureDifference).toBeLessThanOrEqual(s.window[1] + 1e-9 * width);
     }
+  }
+
+  // Regression: the previous solve answered "Newton iteration stalled" on this chip after 100
+  // steps. Narrow manifolds carry much of the drop, so far contactors starve and splits leak.
+  it('settles a badly distributed 128-contactor ladder, every contactor in a stated state', () => {
+    const chip = badlyDistributedLadder(128, 'pressure', 'opposite');
+    const { result, raw } = solveChip(chip);
+    expect(result.converged, `${result.message ?? ''} ${result.unsettled.join(', ')}`).toBe(true);
+    expectConservation(chip, result, 1e-9, true);
+    // The far end of this chip starves (measured: 5 contactors) and most splits leak.
+    expect(raw.feedStates.filter((f) => f !== 'open').length).toBeGreaterThan(0);
+    expectStatedStates(result, raw);
+  });
+
+  // Regression: with both collectors leaving at the inlet end (U-type), the plain cold start
+  // stalled on this chip with three feeds wrongly starved (313 steps from three starts); the
+  // Picard start on the holdups settles it with every feed open.
+  it('settles the same ladder with U-type collectors from the Picard start', () => {
+    const chip = badlyDistributedLadder(128, 'pressure', 'same');
+    const { result, raw } = solveChip(chip);
+    expect(result.converged, `${result.message ?? ''} ${result.unsettled.join(', ')}`).toBe(true);
+    expectConservation(chip, result, 1e-9, true);
+    expect(raw.feedStates.every((f) => f === 'open')).toBe(true);
+    expect(result.splits.some((s) => s.state !== 'pinned')).toBe(true);
+    expectStatedStates(result, raw);
   });
 });
