@@ -32,18 +32,23 @@ const STAGE_STEPS = 25;
 /** Picard sweeps at most, and active-set Newton steps per sweep, in the Picard start. */
 const PICARD_SWEEPS = 200;
 const PICARD_INNER_STEPS = 12;
-/** The sweeps have settled when no holdup moves by more than this. */
-const PICARD_SETTLED = 1e-6;
+/**
+ * The sweeps have settled when no holdup moves by more than this, each weighed by the share of
+ * the throughput its lanes carry (a holdup change moves flow in that proportion).
+ */
+const PICARD_SETTLED = 1e-12;
 /** A layer thinner than this (as a share of the channel) that is still thinning closes. */
 const PICARD_CLOSE = 1e-4;
 /** Anderson depth: previous sweeps kept for the acceleration. */
 const ANDERSON_DEPTH = 5;
 /** Sweeps that move a holdup by more than this are plain (the first sweeps jump between active sets). */
 const ANDERSON_FROM = 1e-2;
+/** Largest holdup change of one Newton step after the Picard sweeps. */
+const HOLDUP_STEP = 0.2;
 /** z just outside [0, 1]: a feed the sweeps close. */
 const EDGE = 1e-9;
-/** Lane flows below this share of the smaller phase throughput: a stagnant contactor. */
-const STAGNANT = 1e-9;
+/** Lane flows below this share of the smaller phase throughput: a stagnant contactor (rounding level). */
+const STAGNANT = 1e-14;
 /**
  * Steps an attempt may go without halving its best merit (in one stage) before it is given up
  * for the next weighting: every chip of the test families that settles at all halves it within
@@ -337,6 +342,23 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   };
 
   /**
+   * The compositions that the flows at x carry (a linear transport solve), or undefined when the
+   * nominal ones still hold: every split pinned, every feed open, nothing mixed.
+   */
+  const carriedCompositions = (): Float64Array | undefined => {
+    const carried = propagatedCompositions(net, {
+      pressure: (p) => eq.pressureOf(x, p),
+      plainFlow: eq.plainFlow,
+      laneFlow: eq.laneFlow,
+      leak: x.subarray(leakAt, compAt),
+      crossover: eq.crossover,
+    });
+    const changed = carried.some((c, i) => Math.abs(c - eq.compositionOf(x, i)) > 1e-12);
+    if (!changed && eq.splitStates.every((st) => st === 'pinned') && eq.feedStates.every((st) => st === 'open')) return undefined;
+    return carried;
+  };
+
+  /**
    * Picard sweeps on the holdups: with every open contactor's holdup frozen, the network is a
    * piecewise-linear one (lanes as fixed resistors, split windows, starved contactors'
    * crossovers), solved by active-set Newton steps; then each holdup is set to the one whose
@@ -388,8 +410,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         wasOpen[c] = open;
       }
       const f = g.map((v, c) => v - x[alphaAt + c]!);
+      // Each holdup weighs in by the share of the throughput its lanes carry.
+      const weight = contactors.map((_, c) => Math.min(1, (Math.abs(eq.laneFlow[2 * c]!) + Math.abs(eq.laneFlow[2 * c + 1]!)) / reference));
       let norm = 0;
-      for (let c = 0; c < nc; c++) norm = Math.max(norm, Math.abs(f[c]!));
+      for (let c = 0; c < nc; c++) norm = Math.max(norm, weight[c]! * Math.abs(f[c]!));
       if (norm < PICARD_SETTLED) return;
       if (setChanged || !(norm < 2 * lastNorm) || norm > ANDERSON_FROM) {
         dG.length = 0;
@@ -407,7 +431,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       lastNorm = norm;
       const next = g.slice();
       if (dF.length > 0) {
-        const gamma = leastSquares(dF, f);
+        const gamma = leastSquares(dF.map((col) => col.map((v, c) => v * weight[c]!)), f.map((v, c) => v * weight[c]!));
         if (gamma) for (let k = 0; k < dF.length; k++) for (let c = 0; c < nc; c++) next[c] -= gamma[k]! * dG[k]![c]!;
       }
       for (let c = 0; c < nc; c++) {
@@ -481,15 +505,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         }
         if (withComposition) return finish(true, rounds, undefined, [], true);
         // Compositions become unknowns once the nominal ones no longer hold.
-        const carried = propagatedCompositions(net, {
-          pressure: (p) => eq.pressureOf(x, p),
-          plainFlow: eq.plainFlow,
-          laneFlow: eq.laneFlow,
-          leak: x.subarray(leakAt, compAt),
-          crossover: eq.crossover,
-        });
-        const changed = carried.some((c, i) => Math.abs(c - eq.compositionOf(x, i)) > 1e-12);
-        if (!changed && eq.splitStates.every((st) => st === 'pinned') && eq.feedStates.every((st) => st === 'open')) return finish(true, rounds, undefined, [], true);
+        const carried = carriedCompositions();
+        if (!carried) return finish(true, rounds, undefined, [], true);
         withComposition = true;
         rounds++;
         for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = carried[i]!;
@@ -508,6 +525,15 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       const startF = eq.F.slice();
       const startNoise = eq.noise.slice();
       const delta = step(tau);
+      if (picard) {
+        // From the Picard point, a holdup whose lanes carry almost nothing is weakly determined
+        // and its Newton step can be tens of channel widths, far outside the lanes' linear
+        // range; it moves by HOLDUP_STEP at most (the other unknowns keep Newton's step).
+        for (let c = 0; c < contactors.length; c++) {
+          const d = delta[alphaAt + c]!;
+          if (Math.abs(d) > HOLDUP_STEP) delta[alphaAt + c] = Math.sign(d) * HOLDUP_STEP;
+        }
+      }
       // The merit of the start, with its own split states and this step's row weights.
       const before = merit(startF, startNoise);
       if (improvedAt < stageStart) {
