@@ -32,9 +32,12 @@ interface Case {
 const CASES: Case[] = [
   { name: 'Z-type, pressure-fed', contactors: 128, drive: 'pressure', outletAt: 'opposite' },
   { name: 'Z-type, pressure-fed', contactors: 256, drive: 'pressure', outletAt: 'opposite' },
+  { name: 'Z-type, pressure-fed', contactors: 512, drive: 'pressure', outletAt: 'opposite' },
   { name: 'Z-type, pressure-fed', contactors: 1024, drive: 'pressure', outletAt: 'opposite' },
   { name: 'U-type, pressure-fed', contactors: 256, drive: 'pressure', outletAt: 'same' },
+  { name: 'U-type, pressure-fed', contactors: 1024, drive: 'pressure', outletAt: 'same' },
   { name: 'Z-type, pump-fed', contactors: 256, drive: 'pump', outletAt: 'opposite' },
+  { name: 'Z-type, pump-fed', contactors: 512, drive: 'pump', outletAt: 'opposite' },
 ];
 
 export function badlyDistributedLadder(contactors: number, drive: Case['drive'], outletAt: Case['outletAt']): Chip {

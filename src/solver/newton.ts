@@ -43,6 +43,13 @@ const PICARD_CLOSE = 1e-4;
 const ANDERSON_DEPTH = 5;
 /** Sweeps that move a holdup by more than this are plain (the first sweeps jump between active sets). */
 const ANDERSON_FROM = 1e-2;
+/**
+ * Pull of a port's composition toward the iterate, as a share of the smaller phase throughput:
+ * it defines the composition of a stagnant port. A proximal term, so ports whose throughflow is
+ * comparable converge only linearly: at ten times the settling tolerance it slows no port whose
+ * composition the tolerance resolves (1e-8 made the dead zone of a 512-contactor ladder creep).
+ */
+const COMPOSITION_PULL = 1e-11;
 /** Largest holdup change of one Newton step after the Picard sweeps. */
 const HOLDUP_STEP = 0.2;
 /** z just outside [0, 1]: a feed the sweeps close. */
@@ -127,12 +134,19 @@ export class SolverWorkspace {
 const LANE_WEIGHTS = ['manifold', 'natural', 'geometric'] as const;
 type LaneWeight = (typeof LANE_WEIGHTS)[number];
 
+type PicardMode = 'off' | 'keep' | 'restart';
+
 interface Attempt {
   laneWeight: LaneWeight;
   /** The warm start, or undefined for a cold one. */
   start: WarmStart | undefined;
-  /** A cold start that first runs the Picard sweeps on the holdups (`picardSweeps`). */
-  picard: boolean;
+  /**
+   * A cold start that first runs the Picard sweeps on the holdups (`picardSweeps`): `keep`
+   * accelerates through feeds opening and closing (the switching contactors leave the history),
+   * `restart` clears the history at every switch (slower where a feed flickers at the edge of
+   * starving, steadier where many weak contactors switch).
+   */
+  picard: PicardMode;
 }
 
 /**
@@ -145,9 +159,9 @@ interface Attempt {
 function attemptPlan(warm: WarmStart | undefined): Attempt[] {
   const plan: Attempt[] = [];
   for (const laneWeight of LANE_WEIGHTS) {
-    if (warm) plan.push({ laneWeight, start: warm, picard: false });
-    plan.push({ laneWeight, start: undefined, picard: false });
-    if (laneWeight === LANE_WEIGHTS[0]) plan.push({ laneWeight, start: undefined, picard: true });
+    if (warm) plan.push({ laneWeight, start: warm, picard: 'off' });
+    plan.push({ laneWeight, start: undefined, picard: 'off' });
+    if (laneWeight === LANE_WEIGHTS[0]) plan.push({ laneWeight, start: undefined, picard: 'keep' }, { laneWeight, start: undefined, picard: 'restart' });
   }
   return plan;
 }
@@ -174,7 +188,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   return { ...best!, iterations: steps, restartedCold: warm !== undefined, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
 }
 
-function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: boolean): NetworkSolution {
+function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode): NetworkSolution {
   const map = new UnknownMap(net);
   const eq = new NetworkEquations(net, map);
   const { alphaAt, leakAt, compAt, size: n, freePorts, unknownOf } = map;
@@ -199,7 +213,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = ports[i]!.nominal;
   }
   let reference = 1e-300;
-  const settings = (jacobian: boolean, freezeHoldup: boolean | 'open' = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: 1e-8 * reference, coupling });
+  const settings = (jacobian: boolean, freezeHoldup: boolean | 'open' = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: COMPOSITION_PULL * reference, coupling });
   let coupling = 1;
 
   /** Largest |J_ij| over the pressure columns of each row: the row's conductance, for the merit. */
@@ -370,7 +384,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * closes). A layer the accelerated sweep carries through a wall closes: its phase starves, and
    * the crossover decides at the next sweep whether it opens again.
    */
-  function picardSweeps(): void {
+  function picardSweeps(restartOnSwitch: boolean): void {
     const nc = contactors.length;
     const dG: Float64Array[] = [];
     const dF: Float64Array[] = [];
@@ -388,7 +402,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       if (iterations >= opt.maxIterations / 2) return;
       eq.evaluate(x, settings(false, 'open'));
       const g = new Float64Array(nc);
-      let setChanged = false;
+      // Contactors whose feed opened or closed in this sweep: they leave the acceleration.
+      const switched = new Uint8Array(nc);
       for (const [c, el] of contactors.entries()) {
         const z = x[alphaAt + c]!;
         g[c] = z;
@@ -400,13 +415,13 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
           if (!Number.isFinite(phi) || Math.abs(qn) + Math.abs(qf) <= STAGNANT * reference) continue;
           if (phi <= 0 || phi >= 1) {
             g[c] = phi <= 0 ? -EDGE : 1 + EDGE;
-            setChanged = true;
+            switched[c] = 1;
           } else g[c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
         }
         // A starved contactor's crossover is an unknown of the inner steps, and a step that
-        // carries its z inside (0, 1) opens the feed again; either way the set has changed.
+        // carries its z inside (0, 1) opens the feed again.
         const open = z > 0 && z < 1;
-        if (open !== wasOpen[c]) setChanged = true;
+        if (open !== wasOpen[c]) switched[c] = 1;
         wasOpen[c] = open;
       }
       const f = g.map((v, c) => v - x[alphaAt + c]!);
@@ -415,12 +430,14 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       let norm = 0;
       for (let c = 0; c < nc; c++) norm = Math.max(norm, weight[c]! * Math.abs(f[c]!));
       if (norm < PICARD_SETTLED) return;
-      if (setChanged || !(norm < 2 * lastNorm) || norm > ANDERSON_FROM) {
+      const kept = (v: number, c: number) => (switched[c] ? 0 : v);
+      if (!(norm < 2 * lastNorm) || norm > ANDERSON_FROM || (restartOnSwitch && switched.includes(1))) {
         dG.length = 0;
         dF.length = 0;
       } else if (lastG && lastF) {
-        dG.push(g.map((v, c) => v - lastG![c]!));
-        dF.push(f.map((v, c) => v - lastF![c]!));
+        for (const col of [...dG, ...dF]) for (let c = 0; c < nc; c++) if (switched[c]) col[c] = 0;
+        dG.push(g.map((v, c) => kept(v - lastG![c]!, c)));
+        dF.push(f.map((v, c) => kept(v - lastF![c]!, c)));
         if (dG.length > ANDERSON_DEPTH) {
           dG.shift();
           dF.shift();
@@ -431,7 +448,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       lastNorm = norm;
       const next = g.slice();
       if (dF.length > 0) {
-        const gamma = leastSquares(dF.map((col) => col.map((v, c) => v * weight[c]!)), f.map((v, c) => v * weight[c]!));
+        const gamma = leastSquares(dF.map((col) => col.map((v, c) => v * weight[c]!)), f.map((v, c) => kept(v * weight[c]!, c)));
         if (gamma) for (let k = 0; k < dF.length; k++) for (let c = 0; c < nc; c++) next[c] -= gamma[k]! * dG[k]![c]!;
       }
       for (let c = 0; c < nc; c++) {
@@ -442,8 +459,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
           if (v <= 0 || (v < PICARD_CLOSE && v < z)) v = -EDGE;
           else if (v >= 1 || (v > 1 - PICARD_CLOSE && v > z)) v = 1 + EDGE;
           if (v <= 0 || v >= 1) {
-            dG.length = 0;
-            dF.length = 0;
+            if (restartOnSwitch) {
+              dG.length = 0;
+              dF.length = 0;
+            } else for (const col of [...dG, ...dF]) col[c] = 0;
           }
         } else v = g[c]!;
         x[alphaAt + c] = v;
@@ -469,7 +488,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         else x[alphaAt + c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
       }
       eq.rescale(x);
-      if (picard) picardSweeps();
+      if (picard !== 'off') picardSweeps(picard === 'restart');
     }
 
     let tau = Infinity;
@@ -525,7 +544,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       const startF = eq.F.slice();
       const startNoise = eq.noise.slice();
       const delta = step(tau);
-      if (picard) {
+      if (picard !== 'off') {
         // From the Picard point, a holdup whose lanes carry almost nothing is weakly determined
         // and its Newton step can be tens of channel widths, far outside the lanes' linear
         // range; it moves by HOLDUP_STEP at most (the other unknowns keep Newton's step).
