@@ -9,7 +9,7 @@ import { ladderLayout } from '../../src/layout/generate.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { parseSetting } from '../../src/analyses/settings.js';
-import { simplexMaximise, tuneChip, type Target } from '../../src/analyses/tune.js';
+import { tuneChip, type Target } from '../../src/analyses/tune.js';
 import { expectTargetsMet } from '../support/targets.js';
 import { StratiflowError } from '../../src/errors.js';
 
@@ -111,18 +111,5 @@ describe('tuneChip', () => {
   it('refuses more targets than settings', () => {
     const chip = ladder4();
     expect(() => tuneChip(chip, { targets: [{ kind: 'flowA', value: uLmin }, { kind: 'flowB', value: uLmin }], vary: [{ setting: parseSetting('inA.pressure', chip) }] })).toThrow(/at least as many settings/);
-  });
-});
-
-describe('simplexMaximise', () => {
-  it('solves the first example of Chvátal, Linear Programming (1983), ch. 2: z = 13 at (2, 0, 1) (from memory)', () => {
-    const x = simplexMaximise([5, 4, 3], [[2, 3, 1], [4, 1, 2], [3, 4, 2]], [5, 11, 8])!;
-    expect(x[0]).toBeCloseTo(2, 12);
-    expect(x[1]).toBeCloseTo(0, 12);
-    expect(x[2]).toBeCloseTo(1, 12);
-  });
-
-  it('reports an unbounded objective as null', () => {
-    expect(simplexMaximise([1, 1], [[1, -1]], [1])).toBeNull();
   });
 });
