@@ -5,11 +5,12 @@
  */
 import { scaleLinear } from 'd3-scale';
 import { DISPLAY, show } from '../../units/format.js';
+import { COLOUR_BAR_WIDTH, drawColourBar as drawBar } from '../colourBar.js';
 import { INK } from '../palette.js';
 import { el, label, num, textWidth, type SvgNode } from '../svg.js';
 import { niceFloor } from './placement.js';
 
-export const COLOUR_BAR = { gap: 24, width: 12, room: 90 };
+export const COLOUR_BAR = { gap: 24, width: COLOUR_BAR_WIDTH, room: 90 };
 
 /** A continuous colour scale for the bar beside the chip: SI domain, display factor and title. */
 export interface ColourScale {
@@ -38,22 +39,11 @@ export function drawScaleBar(parent: SvgNode, x: number, y: number, pxPerMetre: 
   label(g, text, { x: x + w + 6, y: y + 8 });
 }
 
+/** A colour bar at x, its top at y and h px tall, with about five ticks in the display unit and its title above. */
 export function drawColourBar(root: SvgNode, x: number, y: number, h: number, scale: ColourScale): void {
-  const { domain, colour } = scale;
-  const g = el(root, 'g', { class: `colour-bar ${scale.kind}` });
-  const strips = 48;
-  const strip = el(g, 'g', { 'shape-rendering': 'crispEdges' });
-  for (let k = 0; k < strips; k++) {
-    const v = domain[0] + ((domain[1] - domain[0]) * (k + 0.5)) / strips;
-    const top = y + h - (h * (k + 1)) / strips;
-    el(strip, 'rect', { x, y: top, width: COLOUR_BAR.width, height: h / strips + 0.3, fill: colour(v) });
-  }
-  el(g, 'rect', { x, y, width: COLOUR_BAR.width, height: h, fill: 'none', stroke: INK.axis, 'stroke-width': 0.5 });
-  const axis = scaleLinear().domain(domain.map((v) => v * scale.factor)).range([y + h, y]);
+  const axis = scaleLinear().domain(scale.domain.map((v) => v * scale.factor)).range([y + h, y]);
   const format = axis.tickFormat(5);
-  for (const t of axis.ticks(5)) {
-    el(g, 'line', { x1: x + COLOUR_BAR.width, y1: axis(t), x2: x + COLOUR_BAR.width + 5, y2: axis(t), stroke: INK.axis });
-    label(g, format(t), { x: x + COLOUR_BAR.width + 8, y: axis(t), dy: '0.32em' });
-  }
-  label(g, scale.title, { class: 'title', x, y: y - 8 });
+  const ticks = axis.ticks(5).map((t) => ({ at: axis(t), label: format(t) }));
+  const { group } = drawBar(root, x, y, y + h, scale.domain, scale.colour, ticks, `colour-bar ${scale.kind}`);
+  label(group, scale.title, { class: 'title', x, y: y - 8 });
 }
