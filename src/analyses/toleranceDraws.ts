@@ -50,12 +50,12 @@ export function passOverDraws(input: SummaryInput, model: FirstOrderModel, main:
       modelSpreads.push(spreadsOfContactors(y0, total, layout));
       if (outcome?.values) {
         for (let t = 0; t < targets; t++) {
-          const y = t < N ? outcome.values[contactorAt(layout, t)]! - y0[contactorAt(layout, t)]! : windowOf(outcome.values, t - N, layout).position - model.nominalWindows[t - N]!.position;
+          const y = t < N ? outcome.values[contactorAt(t)]! - y0[contactorAt(t)]! : windowOf(outcome.values, t - N, layout).position - model.nominalWindows[t - N]!.position;
           sums.y[t] += y;
           sums.yy[t] += y * y;
           for (let k = 0; k < K; k++) {
             const e = bySource.subarray(k * layout.size, (k + 1) * layout.size);
-            const l = t < N ? e[contactorAt(layout, t)]! : model.positionChange(e, t - N);
+            const l = t < N ? e[contactorAt(t)]! : model.positionChange(e, t - N);
             sums.l[k * targets + t] += l;
             sums.yl[k * targets + t] += y * l;
           }
@@ -87,7 +87,7 @@ function sampleRow(chip: Chip, plan: TolerancePlan, z: Float64Array, index: numb
     allPinned: solved && layout.splits > 0 ? outcome.states.every((s) => s === 0) : null,
     leaking: solved ? nominal.splits.flatMap((s, i) => (outcome.states[i] !== 0 ? [`${s.id} (${STATE_CODES[outcome.states[i]!]})`] : [])) : [],
     spreads: solved ? spreadRecord(outcome.values) : null,
-    flows: solved ? Array.from({ length: layout.contactors }, (_, c) => outcome.values[contactorAt(layout, c)]!) : [],
+    flows: solved ? Array.from({ length: layout.contactors }, (_, c) => outcome.values[contactorAt(c)]!) : [],
     viscosityA: realised?.phases.A.viscosity ?? NaN,
     viscosityB: realised?.phases.B.viscosity ?? NaN,
     interfacialTension: realised?.interfacialTension ?? null,

@@ -72,18 +72,18 @@ export function spreadEstimates(e: EstimateInput): SpreadEstimate[] {
 }
 
 export function contactorEstimates(e: EstimateInput): ContactorEstimate[] {
-  const { nominal, layout, samples } = e.input;
+  const { nominal, samples } = e.input;
   const { mainSolved, n, splitChanges } = e.draws;
   const { main, linear, y0 } = e;
   const splitOfContactor = new Map(nominal.splits.map((s, i) => [s.contactor, i]));
   const mainModel = modelIndices(samples, main.outcomes);
   return nominal.contactors.map((c, i) => {
     const s = splitOfContactor.get(c.id);
-    const q0 = Math.abs(y0[contactorAt(layout, i)]!);
+    const q0 = Math.abs(y0[contactorAt(i)]!);
     const leaks = s === undefined ? 0 : mainSolved.filter((solved, j) => solved && main.outcomes![j]!.states![s] !== 0).length;
     const modelLeaks = s === undefined || !linear || mainModel.length === 0 ? null : mainModel.filter((j) => !e.model.splitPinned(splitChanges[j]!, s, 1)).length / mainModel.length;
-    const flows = describeSample(solvedValues(e, contactorAt(layout, i)));
-    const firstOrderSd = linear && q0 !== 0 ? Math.sqrt(e.model.valueVariance(contactorAt(layout, i))) / q0 : null;
+    const flows = describeSample(solvedValues(e, contactorAt(i)));
+    const firstOrderSd = linear && q0 !== 0 ? Math.sqrt(e.model.valueVariance(contactorAt(i))) / q0 : null;
     return {
       index: c.index,
       id: c.id,

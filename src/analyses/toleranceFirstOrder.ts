@@ -91,7 +91,7 @@ export function firstOrderTerms(gradient: ReadonlyArray<Float64Array | null>, sl
 
 /** The eight spreads of the contactor values y0 + change (the first-order model of one draw). */
 export function spreadsOfContactors(y0: Float64Array, change: Float64Array, layout: ObservableLayout): Float64Array {
-  const columns = [0, 1, 2, 3].map((j) => Array.from({ length: layout.contactors }, (_, c) => y0[contactorAt(layout, c) + j]! + change[contactorAt(layout, c) + j]!));
+  const columns = [0, 1, 2, 3].map((j) => Array.from({ length: layout.contactors }, (_, c) => y0[contactorAt(c) + j]! + change[contactorAt(c) + j]!));
   return Float64Array.from(columns.flatMap((values) => {
     const s = spreadOf(values);
     return [s.cv, s.ratio];

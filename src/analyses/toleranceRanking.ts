@@ -28,12 +28,12 @@ export function rankSources(
   const { n, sums, targets } = draws;
   const { gradient, variance } = model;
   const flowWeight = Array.from({ length: N }, (_, c) => {
-    const q = y0[contactorAt(layout, c)]!;
+    const q = y0[contactorAt(c)]!;
     return q !== 0 ? 1 / (q * q) : 0;
   });
   const covariance = (k: number, t: number) => (n > 1 ? (sums.yl[k * targets + t]! - (sums.y[t]! * sums.l[k * targets + t]!) / n) / (n - 1) : NaN);
   const sampledVariance = (t: number) => (n > 1 ? (sums.yy[t]! - sums.y[t]! ** 2 / n) / (n - 1) : NaN);
-  const flowVariance = (source?: number) => mean(Array.from({ length: N }, (_, c) => flowWeight[c]! * model.valueVariance(contactorAt(layout, c), source)));
+  const flowVariance = (source?: number) => mean(Array.from({ length: N }, (_, c) => flowWeight[c]! * model.valueVariance(contactorAt(c), source)));
   const windowVariance = (source?: number) =>
     mean(Array.from({ length: M }, (_, s) => plan.slots.reduce((sum, slot, k) => (gradient[k] && (source === undefined || slot.source === source) ? sum + model.positionChange(gradient[k]!, s) ** 2 * variance[k]! : sum), 0)));
   const flowTotal = linear ? flowVariance() : NaN;

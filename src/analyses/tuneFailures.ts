@@ -15,7 +15,7 @@ import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
 
 const kPa = (p: number) => show(p, DISPLAY.pressure);
-const Pa = (p: number) => `${Number(p.toPrecision(3))} Pa`;
+const Pa = (p: number) => show(p, DISPLAY.pressureDifference, 3);
 
 export function describeValue(setting: Setting, value: number): string {
   return setting.quantity === 'pressure' ? kPa(value) : show(value, DISPLAY.flow);
