@@ -33,7 +33,7 @@ import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
 import { describeProblems, operatingVerdict } from './verdict.js';
 
-export type { Freedom, Target, TargetKind, TuneSpec } from './tuneSpec.js';
+export { defaultFreedoms, type Freedom, type Target, type TargetKind, type TuneSpec } from './tuneSpec.js';
 
 export interface TunedSetting {
   setting: Setting;

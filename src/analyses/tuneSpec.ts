@@ -1,7 +1,7 @@
 /**
  * What a tuning asks for and how it is measured: the target kinds, the settings that may vary,
  * the spec's own checks, and the value of a target in a chip solution. Exports `TARGET_KINDS`,
- * `targetValue`, `checkSpec` and the spec types. No solving here.
+ * `targetValue`, `checkSpec`, `defaultFreedoms` and the spec types. No solving here.
  */
 import type { Chip } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
@@ -67,4 +67,9 @@ export function checkSpec(chip: Chip, spec: TuneSpec): void {
     if (v.bounds && !(v.bounds[0] < v.bounds[1])) throw new StratiflowError('bad-option', `${settingName(v.setting)}: the lower bound must be below the upper one`);
     if (!chip.nodes.some((x) => x.id === v.setting.node)) throw new StratiflowError('bad-option', `no node "${v.setting.node}"`);
   }
+}
+
+/** The settings a tuning varies when none are named: the pressure of every inlet. */
+export function defaultFreedoms(chip: Chip): Freedom[] {
+  return chip.nodes.filter((n) => n.kind === 'inlet').map((n) => ({ setting: { node: n.id, quantity: 'pressure' as const } }));
 }

@@ -9,7 +9,7 @@
 import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { loadLayout, readLayoutText } from '../layout/load.js';
-import { tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
+import { defaultFreedoms, tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
@@ -76,9 +76,7 @@ export function registerTune(program: Command, context: CommandContext): void {
       const chip = loadLayout(file);
       const linear = o.linear as LinearSolver;
       const targets = targetsOf(o);
-      const vary = o.vary.length > 0
-        ? o.vary.map((v) => freedomOption(v, chip))
-        : chip.nodes.filter((n) => n.kind === 'inlet').map((n) => ({ setting: { node: n.id, quantity: 'pressure' as const } }));
+      const vary = o.vary.length > 0 ? o.vary.map((v) => freedomOption(v, chip)) : defaultFreedoms(chip);
       const ext = extname(file);
       const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`), '--out');
       let result: TuneResult;
