@@ -12,6 +12,7 @@ import type { Chip, PhaseName } from '../network/model.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 import { contactorResults, nodeResults, plainSegmentResults, portResults } from './chipRows.js';
 import { chipWarnings } from './chipWarnings.js';
+import { pressureResolution } from './resolution.js';
 
 export type LeakState = 'pinned' | 'leaking-A-to-B' | 'leaking-B-to-A';
 
@@ -96,6 +97,8 @@ export interface ChipSummary {
   inlets: Array<{ id: string; phase: PhaseName; pressure: number; flow: number }>;
   outlets: Array<{ id: string; pressure: number; flowA: number; flowB: number }>;
   maxPressure: number;
+  /** The smallest pressure difference the solution resolves, Pa (./resolution.ts): reports print a margin below it as 0. */
+  pressureResolution: number;
 }
 
 export interface ChipSolution {
@@ -170,6 +173,7 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
       inlets: ports.inlets,
       outlets: ports.outlets,
       maxPressure,
+      pressureResolution: pressureResolution({ nodes }),
     },
     warnings,
   };

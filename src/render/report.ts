@@ -15,7 +15,6 @@ import type { ExtractionResult } from '../analyses/extraction.js';
 import type { Manifold } from '../analyses/manifolds.js';
 import type { ChipNode, ChipSegment } from '../network/model.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
-import { pressureResolution } from '../analyses/resolution.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
 import {
@@ -175,7 +174,7 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   }
   for (const i of summary.inlets) items.push([`inlet ${i.id} (${i.phase})`, `${kPa(i.pressure)} kPa, ${flow(i.flow)} µL/min`]);
   for (const o of summary.outlets) items.push([`outlet ${o.id}`, `${kPa(o.pressure)} kPa; A ${flow(o.flowA)} µL/min, B ${flow(o.flowB)} µL/min`]);
-  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(minOf(result.splits.map((s) => s.margin)) ?? Infinity, pressureResolution(result))} Pa` : ''}`]);
+  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(minOf(result.splits.map((s) => s.margin)) ?? Infinity, result.summary.pressureResolution)} Pa` : ''}`]);
   items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
   out.push(definitionList(items));
 
@@ -206,7 +205,7 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
     ),
   );
   if (result.splits.length > 0) {
-    const resolution = pressureResolution(result);
+    const resolution = result.summary.pressureResolution;
     out.push('<h2>Outlet splits</h2>');
     out.push(
       table(

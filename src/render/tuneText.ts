@@ -5,7 +5,6 @@
  */
 import { settingName, type Setting } from '../analyses/settings.js';
 import type { TargetKind, TuneResult } from '../analyses/tune.js';
-import { pressureResolution } from '../analyses/resolution.js';
 import type { Chip } from '../network/model.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { chipText, textTable } from './text.js';
@@ -56,7 +55,7 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
   ));
   out.push('');
   const splits = result.solved.result.splits;
-  const resolution = pressureResolution(result.solved.result);
+  const resolution = result.solved.result.summary.pressureResolution;
   if (splits.length > 0) {
     out.push(`split windows (p_B − p_A, Pa): smallest margin ${fmtResolved(result.minMargin, resolution)} Pa${result.spareFreedom > 0 ? `, raised as far as the ${result.spareFreedom} spare direction${result.spareFreedom > 1 ? 's' : ''} of the settings allow` : ''}`);
     if (result.spareFreedom === 0) {
