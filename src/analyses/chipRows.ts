@@ -1,8 +1,8 @@
 /**
  * The tables of a chip solution, computed from the network's raw solution: node pressures, the
  * plain segments, the contactors with their splits and flow-regime numbers, and the flows at the
- * inlets and outlets. Exports `nodeResults`, `plainSegmentResults`, `contactorResults` and
- * `portResults`. Numbers only, in SI units; what the user is told about them is written in
+ * inlets and outlets. Exports `nodeResults`, `plainSegmentResults`, `contactorResults`,
+ * `portResults` and `PURE`. Numbers only, in SI units; what the user is told about them is written in
  * ./chipWarnings.ts.
  */
 import { GRAVITY } from '../physics/constants.js';
@@ -12,8 +12,8 @@ import { spannedDimension } from '../network/topology.js';
 import type { NetworkSolution, SplitState } from '../solver/newton.js';
 import type { ChipSummary, ContactorResult, LeakState, NodeResult, SegmentResult, SplitResult } from './chip.js';
 
-/** Compositions closer than this to pure count as a single phase. */
-const PURE = 1e-9;
+/** Compositions closer than this to pure count as a single phase (a segment here, an outlet in ./verdict.ts). */
+export const PURE = 1e-9;
 
 function leakStateName(state: SplitState): LeakState {
   // High limit: p_B − p_A too large, B pushes into A's outlet.

@@ -9,6 +9,7 @@
  * stay SI (renderers format them).
  */
 import type { SolvedChip, ContactorResult } from './chip.js';
+import { PURE } from './chipRows.js';
 import type { Network } from '../network/assemble.js';
 import type { PhaseName } from '../network/model.js';
 
@@ -29,8 +30,6 @@ export interface OperatingProblem {
 const BACKFLOW_THRESHOLD = 1e-9;
 /** A line carries the other phase when its composition differs from its nominal one by more than this. */
 const FOREIGN_PHASE = 1e-6;
-/** An outlet is pure when less than this share of what it carries is the other phase (as chip.ts counts a stream single-phase). */
-const PURE = 1e-9;
 
 const other = (phase: PhaseName): PhaseName => (phase === 'A' ? 'B' : 'A');
 
@@ -98,6 +97,7 @@ export function operatingVerdict(solved: SolvedChip): OperatingProblem[] {
   for (const split of result.splits) {
     if (split.state !== 'pinned') add('leaking', 'split', split.id, split.state === 'leaking-A-to-B' ? 'phase A breaks through into the B outlet' : 'phase B breaks through into the A outlet');
     const far = other(split.nearPhase);
+    // An outlet is pure when less than PURE (./chipRows.ts) of what it carries is the other phase, as a stream counts single-phase.
     const impure = ([[split.nearPhase, split.purityNear], [far, split.purityFar]] as const).filter(([, purity]) => !(purity >= 1 - PURE));
     for (const [phase] of impure) add('impure', 'split', split.id, `the ${phase} outlet carries phase ${other(phase)}`);
   }

@@ -87,7 +87,7 @@ describe('runTolerance at small tolerances', () => {
     expect(r.firstOrder!.available).toBe(true);
     // Bound: |s − σ₁| ≤ 3.29 SE(s), two-sided 99.9 % for one contactor; over 6 contactors the
     // chance that any one falls outside by sampling alone is below 6 × 0.1 % (Bonferroni).
-    // SE(s) from the variance of the sample variance (toleranceSummary.describeSample).
+    // SE(s) from the variance of the sample variance (sampleStatistics.ts describeSample).
     // With SE(s)/s ≈ 1/√(2(n − 1)) = 3.5 % at n = 400 that bound keeps the ratio s/σ₁ within about
     // ±12 %; 0.85 to 1.15 holds it there should a reported SE come out too large. Measured: ratios
     // 1.013 to 1.064, at most 1.7 SE from 1.
