@@ -10,6 +10,7 @@
  */
 import type { SolvedChip, ContactorResult } from './chip.js';
 import { PURE } from './chipRows.js';
+import { RELATIVE_FLOW_RESOLUTION } from './resolution.js';
 import type { Network } from '../network/assemble.js';
 import type { PhaseName } from '../network/model.js';
 
@@ -26,8 +27,6 @@ export interface OperatingProblem {
   reason: string;
 }
 
-/** Relative size below which a negative inlet flow is rounding, not backflow. */
-const BACKFLOW_THRESHOLD = 1e-9;
 /** A line carries the other phase when its composition differs from its nominal one by more than this. */
 const FOREIGN_PHASE = 1e-6;
 
@@ -81,7 +80,8 @@ export function operatingVerdict(solved: SolvedChip): OperatingProblem[] {
   }
   const throughput = result.summary.throughputA + result.summary.throughputB;
   for (const inlet of result.summary.inlets) {
-    if (inlet.flow < -BACKFLOW_THRESHOLD * throughput) add('backflow', 'inlet', inlet.id, 'liquid flows back into the inlet');
+    // A negative inlet flow within the flow resolution of the solution is rounding, not backflow.
+    if (inlet.flow < -RELATIVE_FLOW_RESOLUTION * throughput) add('backflow', 'inlet', inlet.id, 'liquid flows back into the inlet');
   }
   for (const e of feedLines(network)) {
     const el = network.plains[e]!;

@@ -5,6 +5,7 @@
  */
 import { max as maxOf } from 'd3-array';
 import type { SolvedChip } from '../../analyses/chip.js';
+import { RELATIVE_FLOW_RESOLUTION } from '../../analyses/resolution.js';
 import type { ChipSegment, PhaseName } from '../../network/model.js';
 import { fmt } from '../../units/format.js';
 import { INK } from '../palette.js';
@@ -54,8 +55,9 @@ export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegm
   for (const s of drawable) {
     const r = byId.get(s.id)!;
     const q = r.flowA + r.flowB;
-    // Backflow is marked wherever the solution flags it; other arrows only where flow is not nil.
-    if (!r.reversed && !(Math.abs(q) > 1e-9 * peak)) continue;
+    // Backflow is marked wherever the solution flags it; other arrows only where the flow is above
+    // the solution's flow resolution (a share of the largest flow).
+    if (!r.reversed && !(Math.abs(q) > RELATIVE_FLOW_RESOLUTION * peak)) continue;
     const a = at.get(s.from)!;
     const b = at.get(s.to)!;
     const length = Math.hypot(b.x - a.x, b.y - a.y);
