@@ -2,9 +2,9 @@
  * Charts as pure functions: a typed spec in, an SVG string out. This module is the one import for
  * callers; each chart kind lives in a file of its own under ./chart/:
  * - `lineChart` (line.ts), `heatmap` (heatmap.ts, with its colour bar in colourBar.ts),
- *   `barChart` and `dotChart` (indexed.ts), `histogram` and `histogramBins` (histogram.ts),
- *   `regionMap` (regionMap.ts);
- * - the data steps of contour lines, `isoSegments` and `joinSegments` (contours.ts);
+ *   `barChart` and `dotChart` (indexed.ts), `histogram` (histogram.ts), `regionMap` (regionMap.ts);
+ * - the data steps: histogram binning, `histogramBins` (bins.ts), and contour lines,
+ *   `isoSegments` and `joinSegments` (contours.ts);
  * - the shared spec types (spec.ts), axes and chart frame (axes.ts), grid pieces (grid.ts).
  * Scales, ticks and tick labels come from d3-scale; drawing primitives from ./svg.ts.
  *
@@ -23,6 +23,7 @@ export { lineChart, type LineChartSpec, type LineSeries } from './chart/line.js'
 export { heatmap, type HeatmapSpec, type OverlayLine } from './chart/heatmap.js';
 export type { ColourBarSpec } from './chart/colourBar.js';
 export { barChart, dotChart, type BarChartSpec, type DotChartSpec, type IndexedChartSpec, type IndexedGroup } from './chart/indexed.js';
-export { histogram, histogramBins, type Bin, type HistogramSpec } from './chart/histogram.js';
+export { histogram, type HistogramSpec } from './chart/histogram.js';
+export { histogramBins, type Bin } from './chart/bins.js';
 export { regionMap, type ContourSpec, type RegionMapSpec } from './chart/regionMap.js';
 export { isoSegments, joinSegments } from './chart/contours.js';

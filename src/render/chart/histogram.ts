@@ -1,12 +1,11 @@
 /**
- * The histogram: counts of samples in bins (d3-array's `bin` over d3's nice edges) as bars, with
- * labelled reference lines. Exports `histogram`, `histogramBins` and their types.
+ * The histogram: counts of samples in bins (./bins.ts) as bars, with labelled reference lines.
+ * Exports `histogram` and its spec type.
  */
-import { bin } from 'd3-array';
-import { scaleLinear } from 'd3-scale';
 import { DASH, INK, seriesStyle } from '../palette.js';
 import { FONT_SIZE, TEXT_HALO, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, label, lineSwatch, serialise, type LegendEntry } from '../svg.js';
-import { axisTitle, beginChart, extentOf, inside, numericAxis, pixelTicks, widen } from './axes.js';
+import { axisTitle, beginChart, inside, numericAxis, pixelTicks } from './axes.js';
+import { histogramBins } from './bins.js';
 import type { ChartSpec, LinearAxisSpec, ReferenceLine } from './spec.js';
 
 export interface HistogramSpec extends ChartSpec {
@@ -22,41 +21,6 @@ export interface HistogramSpec extends ChartSpec {
   thresholds?: readonly number[];
   /** Vertical lines (e.g. the mean, a limit), labelled at their top. */
   reference?: readonly ReferenceLine[];
-}
-
-export interface Bin {
-  x0: number;
-  x1: number;
-  count: number;
-}
-
-/**
- * Counts of the finite samples in bins [x0, x1), the last one closed (d3-array's `bin`). Without thresholds the
- * edges are d3's nice ticks over the sample extent, about `bins` of them, by default
- * ⌈log₂ n⌉ + 1 (Sturges, 1926, J. Am. Stat. Assoc. 21, 65–66), as d3-array's `bin` does.
- * No finite samples and no thresholds give no bins.
- */
-export function histogramBins(samples: readonly number[], options: { bins?: number; thresholds?: readonly number[] } = {}): Bin[] {
-  const finite = samples.filter(Number.isFinite);
-  let edges: number[];
-  if (options.thresholds) {
-    edges = [...new Set(options.thresholds.filter(Number.isFinite))].sort((a, b) => a - b);
-  } else {
-    const range = extentOf(finite, Number.isFinite);
-    if (!range) return [];
-    const count = options.bins ?? Math.ceil(Math.log2(finite.length)) + 1;
-    const scale = scaleLinear().domain(widen(range, false)).nice(count);
-    edges = scale.ticks(count);
-    const [lo, hi] = scale.domain();
-    if (edges[0] > lo) edges.unshift(lo);
-    if (edges[edges.length - 1] < hi) edges.push(hi);
-  }
-  if (edges.length < 2) return [];
-  // d3-array's bin counts into [x0, x1) with the last bin closed, dropping samples outside.
-  const lo = edges[0]!;
-  const hi = edges[edges.length - 1]!;
-  const binned = bin().domain([lo, hi]).thresholds(edges.slice(1, -1))(finite);
-  return binned.map((b, k) => ({ x0: edges[k]!, x1: edges[k + 1]!, count: b.length }));
 }
 
 export function histogram(spec: HistogramSpec): string {
