@@ -8,7 +8,7 @@
  * Var(y) ≈ Σ_k g_k² Var(z_k) (the linear propagation of independent variances, e.g. Taylor,
  * An Introduction to Error Analysis, 2nd ed., 1997, eq. 3.47), and the first-order model
  * y ≈ y₀ + Σ_k g_k z_k evaluated on the same deviates gives first-order probabilities.
- * Exports `summariseTolerance`, `sampledShareNoise` and the result types. No I/O. The jobs live
+ * Exports `summariseTolerance`, `commonestProblem`, `sampledShareNoise` and the result types. No I/O. The jobs live
  * in files of their own: the first-order model (./toleranceFirstOrder.ts), the pass over the
  * draws (./toleranceDraws.ts), the estimates (./toleranceEstimates.ts) and the ranking of the
  * sources (./toleranceRanking.ts).
@@ -206,6 +206,14 @@ export function summariseTolerance(input: SummaryInput): ToleranceResult {
     rows: draws.rows,
     notes,
   };
+}
+
+/** The reason most realisations were not solved, and how many it stopped (ties: the first met). */
+export function commonestProblem(notSolved: ReadonlyArray<{ problem: string }>): { problem: string; count: number } | undefined {
+  const counts = new Map<string, number>();
+  for (const { problem } of notSolved) counts.set(problem, (counts.get(problem) ?? 0) + 1);
+  const [problem, count] = [...counts].sort((a, b) => b[1] - a[1])[0] ?? [];
+  return problem === undefined ? undefined : { problem, count: count! };
 }
 
 function listed(items: string[], count: number): string {
