@@ -3,7 +3,7 @@
  * or outlet's pressure or an inlet's flow, named `node.quantity` (`inA.pressure`, `inB.flow`).
  * A setting's value is what a layout file holds: a pressure excludes the reservoir head that the
  * chip model adds to it. Exports `parseSetting`, `settingName`, `settingValue`, `withSettings`
- * and the types. Used by ./window.ts and ./tune.ts.
+ * and the types. Used by ./window.ts and the tune modules (./tune*.ts).
  */
 import type { SolvedChip } from './chip.js';
 import type { Chip, ChipNode } from '../network/model.js';

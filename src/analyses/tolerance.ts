@@ -15,7 +15,7 @@
  */
 import { SolverWorkspace } from '../solver/newton.js';
 import type { Worker } from 'node:worker_threads';
-import { startWorkerBeside } from './workers.js';
+import { runPool, startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom } from './chip.js';
 import { observableLayout, observe, planTolerance, runJob, type Job, type JobContext, type Outcome, type Slot, type TolerancePlan, type ToleranceSpec } from './toleranceModel.js';
 import { summariseTolerance, type SummaryInput, type ToleranceResult } from './toleranceSummary.js';
@@ -60,40 +60,25 @@ async function runJobs(context: JobContext, jobs: Job[], workers: number, progre
   const batchSize = Math.max(1, Math.min(16, Math.floor(jobs.length / (count * 8))));
   const batches: Array<{ start: number; jobs: Job[] }> = [];
   for (let start = 0; start < jobs.length; start += batchSize) batches.push({ start, jobs: jobs.slice(start, start + batchSize) });
-  return new Promise((resolve, reject) => {
-    const pool = Array.from({ length: count }, () => startWorker(context));
-    let next = 0;
-    let done = 0;
-    let finished = false;
-    const finish = (error?: Error) => {
-      if (finished) return;
-      finished = true;
-      for (const w of pool) void w.terminate();
-      if (error) reject(error);
-      else resolve(outcomes);
-    };
-    const dispatch = (worker: Worker) => {
-      if (next >= batches.length) return;
-      worker.postMessage({ id: next, jobs: batches[next]!.jobs } satisfies WorkerBatch);
-      next++;
-    };
-    for (const worker of pool) {
-      worker.on('message', (reply: WorkerReply) => {
-        if (reply.kind === 'error') return finish(new Error(`worker thread: ${reply.message}`));
-        const { start } = batches[reply.id]!;
-        reply.outcomes.forEach((o, k) => (outcomes[start + k] = o));
-        done += reply.outcomes.length;
-        progress(done);
-        if (done === jobs.length) finish();
-        else dispatch(worker);
-      });
-      worker.on('error', (error) => finish(error));
-      worker.on('exit', (code) => {
-        if (!finished && code !== 0) finish(new Error(`a worker thread stopped with status ${code}`));
-      });
-      dispatch(worker);
-    }
-  });
+  const workerPool = Array.from({ length: count }, () => startWorker(context));
+  let done = 0;
+  await runPool<WorkerBatch, WorkerReply>(
+    workerPool,
+    (pool) => batches.forEach((batch, id) => pool.submit({ id, jobs: batch.jobs })),
+    (reply, pool) => {
+      if (reply.kind === 'error') {
+        pool.finish(new Error(`worker thread: ${reply.message}`));
+        return false;
+      }
+      const { start } = batches[reply.id]!;
+      reply.outcomes.forEach((o, k) => (outcomes[start + k] = o));
+      done += reply.outcomes.length;
+      progress(done);
+      if (done === jobs.length) pool.finish();
+      return true;
+    },
+  );
+  return outcomes;
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -263,7 +263,8 @@ export interface ObservableLayout {
 }
 
 export const CONTACTOR_BASE = SPREAD_KEYS.length;
-export const contactorAt = (layout: ObservableLayout, c: number) => CONTACTOR_BASE + 4 * c;
+/** Where contactor c's four values start; they follow the spreads, whatever the size of the chip. */
+export const contactorAt = (c: number) => CONTACTOR_BASE + 4 * c;
 export const splitAt = (layout: ObservableLayout, s: number) => CONTACTOR_BASE + 4 * layout.contactors + 3 * s;
 
 export function observableLayout(solution: ChipSolution): ObservableLayout {
@@ -279,7 +280,7 @@ export function observe(solution: ChipSolution, layout: ObservableLayout): { val
   const values = new Float64Array(layout.size);
   const { spread } = solution.summary;
   values.set([spread.total.cv, spread.total.ratio, spread.flowA.cv, spread.flowA.ratio, spread.flowB.cv, spread.flowB.ratio, spread.holdup.cv, spread.holdup.ratio]);
-  solution.contactors.forEach((c, i) => values.set([c.flowA + c.flowB, c.flowA, c.flowB, c.holdupA], contactorAt(layout, i)));
+  solution.contactors.forEach((c, i) => values.set([c.flowA + c.flowB, c.flowA, c.flowB, c.holdupA], contactorAt(i)));
   const states = new Uint8Array(layout.splits);
   solution.splits.forEach((s, i) => {
     values.set([s.pressureDifference, s.window[0], s.window[1]], splitAt(layout, i));

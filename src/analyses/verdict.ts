@@ -9,6 +9,8 @@
  * stay SI (renderers format them).
  */
 import type { SolvedChip, ContactorResult } from './chip.js';
+import { PURE } from './chipRows.js';
+import { RELATIVE_FLOW_RESOLUTION } from './resolution.js';
 import type { Network } from '../network/assemble.js';
 import type { PhaseName } from '../network/model.js';
 
@@ -25,12 +27,8 @@ export interface OperatingProblem {
   reason: string;
 }
 
-/** Relative size below which a negative inlet flow is rounding, not backflow. */
-const BACKFLOW_THRESHOLD = 1e-9;
 /** A line carries the other phase when its composition differs from its nominal one by more than this. */
 const FOREIGN_PHASE = 1e-6;
-/** An outlet is pure when less than this share of what it carries is the other phase (as chip.ts counts a stream single-phase). */
-const PURE = 1e-9;
 
 const other = (phase: PhaseName): PhaseName => (phase === 'A' ? 'B' : 'A');
 
@@ -82,7 +80,8 @@ export function operatingVerdict(solved: SolvedChip): OperatingProblem[] {
   }
   const throughput = result.summary.throughputA + result.summary.throughputB;
   for (const inlet of result.summary.inlets) {
-    if (inlet.flow < -BACKFLOW_THRESHOLD * throughput) add('backflow', 'inlet', inlet.id, 'liquid flows back into the inlet');
+    // A negative inlet flow within the flow resolution of the solution is rounding, not backflow.
+    if (inlet.flow < -RELATIVE_FLOW_RESOLUTION * throughput) add('backflow', 'inlet', inlet.id, 'liquid flows back into the inlet');
   }
   for (const e of feedLines(network)) {
     const el = network.plains[e]!;
@@ -98,6 +97,7 @@ export function operatingVerdict(solved: SolvedChip): OperatingProblem[] {
   for (const split of result.splits) {
     if (split.state !== 'pinned') add('leaking', 'split', split.id, split.state === 'leaking-A-to-B' ? 'phase A breaks through into the B outlet' : 'phase B breaks through into the A outlet');
     const far = other(split.nearPhase);
+    // An outlet is pure when less than PURE (./chipRows.ts) of what it carries is the other phase, as a stream counts single-phase.
     const impure = ([[split.nearPhase, split.purityNear], [far, split.purityFar]] as const).filter(([, purity]) => !(purity >= 1 - PURE));
     for (const [phase] of impure) add('impure', 'split', split.id, `the ${phase} outlet carries phase ${other(phase)}`);
   }

@@ -16,7 +16,7 @@
  * No file I/O; no drawing.
  */
 import type { Worker } from 'node:worker_threads';
-import { startWorkerBeside } from './workers.js';
+import { runPool, startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
 import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
@@ -296,8 +296,8 @@ function startWorker(data: SweepWorkerData): Worker {
 }
 
 /**
- * Worker 0 sweeps the first column and streams each point's warm start back; every row is
- * queued as soon as its first-column point is known and taken by the next idle worker.
+ * The first worker sweeps the first column and streams each point's warm start back; every row
+ * is queued as soon as its first-column point is known and taken by the next idle worker.
  */
 function sweepInWorkers(
   chip: Chip,
@@ -308,47 +308,29 @@ function sweepInWorkers(
   seed: WarmStart | undefined,
   record: (p: WindowPoint) => void,
 ): Promise<void> {
-  return new Promise((resolve, reject) => {
-    const pool = Array.from({ length: count }, () => startWorker({ chip, spec }));
-    const idle: Worker[] = pool.slice(1);
-    const queue: SweepJob[] = [];
-    const ny = column.length;
-    let rowsLeft = ny;
-    let settled = false;
-    const finish = (error?: Error) => {
-      if (settled) return;
-      settled = true;
-      for (const w of pool) void w.terminate();
-      if (error) reject(error);
-      else resolve();
-    };
-    const dispatch = () => {
-      while (idle.length > 0 && queue.length > 0) idle.shift()!.postMessage(queue.shift()!);
-    };
-    for (const worker of pool) {
-      worker.on('message', (message: SweepMessage) => {
-        if (message.kind === 'error') return finish(new Error(message.message));
-        if (message.kind === 'point') {
-          record(message.point);
-          if (message.id === -1) {
-            // A first-column point: its row can start.
-            if (spec.x.steps > 1) queue.push({ id: message.point.j, line: row(message.point.j), seed: message.warm, stream: false });
-            dispatch();
-          }
-          return;
-        }
-        if (message.id !== -1 && --rowsLeft === 0) return finish();
-        idle.push(worker);
-        dispatch();
-      });
-      worker.on('error', (error) => finish(error));
-      worker.on('exit', (code) => {
-        if (code !== 0) finish(new Error(`a sweep worker stopped with exit code ${code}`));
-      });
-    }
-    pool[0]!.postMessage({ id: -1, line: column, seed, stream: true } satisfies SweepJob);
-    if (ny === 0) finish();
-  });
+  const ny = column.length;
+  let rowsLeft = ny;
+  return runPool<SweepJob, SweepMessage>(
+    Array.from({ length: count }, () => startWorker({ chip, spec })),
+    (pool) => {
+      pool.submit({ id: -1, line: column, seed, stream: true });
+      if (ny === 0) pool.finish();
+    },
+    (message, pool) => {
+      if (message.kind === 'error') {
+        pool.finish(new Error(message.message));
+        return false;
+      }
+      if (message.kind === 'point') {
+        record(message.point);
+        // A first-column point: its row can start.
+        if (message.id === -1 && spec.x.steps > 1) pool.submit({ id: message.point.j, line: row(message.point.j), seed: message.warm, stream: false });
+        return false;
+      }
+      if (message.id !== -1 && --rowsLeft === 0) pool.finish();
+      return true;
+    },
+  );
 }
 
 /** A place in the space of the two settings, in their SI values. */

@@ -14,6 +14,7 @@ import { TRANSPORT_DEFAULTS } from '../physics/transport.js';
 import { contactorExtractionChart, extractionAlongChart, extractionColouring, extractionCsv, extractionText } from '../render/extractionCharts.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { chipReport } from '../render/report.js';
+import { findManifolds } from '../analyses/manifolds.js';
 import { numberOption, quantityOption, linearOption, type LinearSolver, choice } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
@@ -88,7 +89,7 @@ export function registerExtract(program: Command, context: CommandContext): void
         into(OUT_FILES.along, extractionAlongChart(extraction));
         into(OUT_FILES.perContactor, contactorExtractionChart(extraction));
         into(OUT_FILES.drawing, chipDrawing(solved, { extraction: extractionColouring(extraction) }));
-        into(OUT_FILES.report, chipReport(solved, { extraction }));
+        into(OUT_FILES.report, chipReport(solved, findManifolds(solved), { extraction }));
       }
       writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));

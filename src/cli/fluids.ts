@@ -3,8 +3,7 @@
  */
 import type { Command } from 'commander';
 import { FLUIDS } from '../physics/fluids.js';
-import { textTable } from '../render/text.js';
-import { fmt } from '../units/format.js';
+import { fluidsText } from '../render/fluidsText.js';
 import type { CommandContext } from './context.js';
 
 export function registerFluids(program: Command, context: CommandContext): void {
@@ -14,7 +13,6 @@ export function registerFluids(program: Command, context: CommandContext): void 
     .option('--json', 'print JSON in SI units')
     .action((options: { json?: boolean }) => {
       if (options.json) return context.out(JSON.stringify(FLUIDS, null, 2) + '\n');
-      const rows = FLUIDS.map((f) => [f.id, f.label, `${f.temperatureC}`, fmt(f.viscosity * 1e3), fmt(f.density), f.tensionAgainstWater ? fmt(f.tensionAgainstWater * 1e3) : '–', f.source]);
-      context.out(textTable(['id', 'liquid', '°C', 'mPa·s', 'kg/m³', 'mN/m vs water', 'source'], rows) + '\n');
+      context.out(fluidsText(FLUIDS));
     });
 }

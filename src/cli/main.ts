@@ -17,7 +17,6 @@ import { registerTune } from './tune.js';
 import { registerTolerance } from './tolerance.js';
 import { registerExtract } from './extract.js';
 
-export type { CommandContext } from './context.js';
 
 /** The version users see, from package.json (the one place it is set). */
 const VERSION = (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string }).version;

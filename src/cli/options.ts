@@ -1,11 +1,13 @@
 /**
  * Reading command-line values: quantities with units, numbers in a range, choices. Every failure
  * names the option. Exports `quantityOption`, `numberOption`, `wholeNumberOption`, `choice`,
- * `linearOption` and `MAX_WORKERS`.
+ * `linearOption`, `settingOption` and `MAX_WORKERS`.
  */
 import { Option } from 'commander';
 import { parseQuantity, type Dimension } from '../units/quantity.js';
-import { optionError } from '../errors.js';
+import { StratiflowError, optionError } from '../errors.js';
+import { parseSetting, type Setting } from '../analyses/settings.js';
+import type { Chip } from '../network/model.js';
 
 export function quantityOption(value: unknown, option: string, dimension: Dimension): number;
 export function quantityOption(value: unknown, option: string, dimension: Dimension, optional: true): number | undefined;
@@ -57,3 +59,13 @@ export function linearOption(): Option {
 }
 
 export type LinearSolver = 'sparse' | 'dense';
+
+/** A setting of the chip, `node.pressure` or `node.flow`; a bad one ends with one line naming the option. */
+export function settingOption(text: string, option: string, chip: Chip): Setting {
+  try {
+    return parseSetting(text, chip);
+  } catch (error) {
+    if (error instanceof StratiflowError) throw optionError(option, error.message);
+    throw error;
+  }
+}

@@ -16,6 +16,7 @@ import { chipText, contactorCsv } from '../render/text.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { extractionColouring } from '../render/extractionCharts.js';
 import { chipReport } from '../render/report.js';
+import { findManifolds } from '../analyses/manifolds.js';
 import { linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
@@ -55,7 +56,7 @@ export function registerSolve(program: Command, context: CommandContext): void {
           into('result.json', json);
           into('contactors.csv', contactorCsv(result));
           into('chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {}));
-          into('report.html', chipReport(solved, { extraction }));
+          into('report.html', chipReport(solved, findManifolds(solved), { extraction }));
         }
         writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }

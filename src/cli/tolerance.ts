@@ -11,6 +11,7 @@ import { join } from 'node:path';
 import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { runTolerance, type ToleranceSpec } from '../analyses/tolerance.js';
+import { commonestProblem } from '../analyses/toleranceSummary.js';
 import { hasTolerances, MAX_SAMPLES, overlayTolerances, parseTolerance, readToleranceFile } from '../layout/toleranceFile.js';
 import { toleranceCsv, toleranceText } from '../render/toleranceText.js';
 import { toleranceCharts } from '../render/toleranceCharts.js';
@@ -67,9 +68,7 @@ function mergedSpec(fromFile: ToleranceSpec | undefined, o: ToleranceOptions): T
 
 /** The error of a study in which no realisation solved, naming the most frequent reason. */
 function noneSolved(notSolved: ReadonlyArray<{ problem: string }>, file: string): StratiflowError {
-  const counts = new Map<string, number>();
-  for (const { problem } of notSolved) counts.set(problem, (counts.get(problem) ?? 0) + 1);
-  const [problem, count] = [...counts].sort((a, b) => b[1] - a[1])[0] ?? ['no reason given', 0];
+  const { problem, count } = commonestProblem(notSolved) ?? { problem: 'no reason given', count: 0 };
   return new StratiflowError('no-convergence', `none of the ${notSolved.length} realisations solved (${count} of them: ${problem}); no files written — narrower tolerances may help`, { file });
 }
 

@@ -9,12 +9,11 @@
 import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { loadLayout, readLayoutText } from '../layout/load.js';
-import { parseSetting, type Setting } from '../analyses/settings.js';
-import { tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
+import { defaultFreedoms, tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
-import { numberOption, linearOption, type LinearSolver } from './options.js';
+import { numberOption, settingOption, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 
@@ -40,13 +39,7 @@ function collect(value: string, previous: string[]): string[] {
 /** `node.quantity` or `node.quantity=from:to` (the unit of the second end applying to both). */
 function freedomOption(text: string, chip: Chip): Freedom {
   const [name, range] = text.split('=');
-  let setting: Setting;
-  try {
-    setting = parseSetting(name!, chip);
-  } catch (error) {
-    if (error instanceof StratiflowError) throw optionError('--vary', error.message);
-    throw error;
-  }
+  const setting = settingOption(name!, '--vary', chip);
   if (range === undefined) return { setting };
   return { setting, bounds: parseRange(range, setting.quantity === 'pressure' ? 'pressure' : 'flow', { field: '--vary' }) };
 }
@@ -83,9 +76,7 @@ export function registerTune(program: Command, context: CommandContext): void {
       const chip = loadLayout(file);
       const linear = o.linear as LinearSolver;
       const targets = targetsOf(o);
-      const vary = o.vary.length > 0
-        ? o.vary.map((v) => freedomOption(v, chip))
-        : chip.nodes.filter((n) => n.kind === 'inlet').map((n) => ({ setting: { node: n.id, quantity: 'pressure' as const } }));
+      const vary = o.vary.length > 0 ? o.vary.map((v) => freedomOption(v, chip)) : defaultFreedoms(chip);
       const ext = extname(file);
       const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`), '--out');
       let result: TuneResult;

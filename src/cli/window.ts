@@ -11,16 +11,16 @@ import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { solveChip, warmStartFrom, type SolvedChip } from '../analyses/chip.js';
 import { describePoint, mapTarget, targetCrossings, windowMap, type WindowMap } from '../analyses/window.js';
-import { parseSetting, settingName, settingValue, type Setting } from '../analyses/settings.js';
+import { settingName, settingValue, type Setting } from '../analyses/settings.js';
 import { windowChart, windowCsv, windowText, type WindowMarks } from '../render/windowMap.js';
 import type { Point } from '../render/chart.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
-import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
+import { numberOption, settingOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 import { progressBar } from './progress.js';
 
-import { StratiflowError, optionError } from '../errors.js';
+import { optionError } from '../errors.js';
 import type { Chip } from '../network/model.js';
 
 /** At most this many grid values along an axis: a million points at the most, hours of solves. */
@@ -42,15 +42,6 @@ interface WindowOptions {
   csv?: string;
   workers?: string;
   linear: string;
-}
-
-function settingOption(text: string, flag: string, chip: Chip): Setting {
-  try {
-    return parseSetting(text, chip);
-  } catch (error) {
-    if (error instanceof StratiflowError) throw optionError(flag, error.message);
-    throw error;
-  }
 }
 
 /** The first inlet of a phase, for the default axes. */

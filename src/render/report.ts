@@ -3,19 +3,18 @@
  * warnings, the chip drawing, the charts, the per-contactor and split tables, optionally the
  * extraction of a solute (src/analyses/extraction.ts: its figures, model, table and charts, with
  * the contactors of the drawing coloured by approach to equilibrium), and the inputs as read.
- * Exports `chipReport` and its option type. Pure: solved chip (and results) in, HTML text out.
+ * Exports `chipReport` and its option type. Pure: solved chip and results (its manifold profiles, an extraction) in, HTML text out.
  *
  * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no script,
  * font, image or link that a browser would fetch. The page is also well-formed XML (every element
  * closed, attributes quoted), so tests can check it with an XML parser. Every user string goes
  * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
  */
-import { findManifolds } from '../analyses/manifolds.js';
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ExtractionResult } from '../analyses/extraction.js';
+import type { Manifold } from '../analyses/manifolds.js';
 import type { ChipNode, ChipSegment } from '../network/model.js';
-import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
-import { pressureResolution } from '../analyses/resolution.js';
+import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
 import {
@@ -132,7 +131,8 @@ function extractionSection(extraction: ExtractionResult): string[] {
   return out;
 }
 
-export function chipReport(solved: SolvedChip, options: ReportOptions = {}): string {
+/** `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`), drawn among the charts. */
+export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
   const { chip, result } = solved;
   const { extraction } = options;
   const warnings = [...result.warnings, ...(extraction?.warnings ?? []).map((w) => `extraction: ${w}`)];
@@ -174,7 +174,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
   }
   for (const i of summary.inlets) items.push([`inlet ${i.id} (${i.phase})`, `${kPa(i.pressure)} kPa, ${flow(i.flow)} µL/min`]);
   for (const o of summary.outlets) items.push([`outlet ${o.id}`, `${kPa(o.pressure)} kPa; A ${flow(o.flowA)} µL/min, B ${flow(o.flowB)} µL/min`]);
-  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(minOf(result.splits.map((s) => s.margin)) ?? Infinity, pressureResolution(result))} Pa` : ''}`]);
+  items.push(['outlet splits', `${pinned} of ${result.splits.length} pinned${result.splits.length ? `; smallest window margin ${fmtResolved(minOf(result.splits.map((s) => s.margin)) ?? Infinity, result.summary.pressureResolution)} Pa` : ''}`]);
   items.push(['highest pressure', `${kPa(summary.maxPressure)} kPa${chip.maxPressure !== undefined ? ` (rating ${kPa(chip.maxPressure)} kPa)` : ''}`]);
   out.push(definitionList(items));
 
@@ -193,7 +193,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
 
   out.push('<h2>Charts</h2>');
   out.push('<div class="charts">');
-  for (const chart of chipCharts(solved, findManifolds(solved))) out.push(`<figure class="chart" id="chart-${esc(chart.id)}">${chart.svg}</figure>`);
+  for (const chart of chipCharts(solved, manifolds)) out.push(`<figure class="chart" id="chart-${esc(chart.id)}">${chart.svg}</figure>`);
   out.push('</div>');
 
   out.push('<h2>Per-contactor table</h2>');
@@ -205,7 +205,7 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
     ),
   );
   if (result.splits.length > 0) {
-    const resolution = pressureResolution(result);
+    const resolution = result.summary.pressureResolution;
     out.push('<h2>Outlet splits</h2>');
     out.push(
       table(
@@ -225,9 +225,9 @@ export function chipReport(solved: SolvedChip, options: ReportOptions = {}): str
   const inputs: Array<[string, string]> = [];
   for (const p of ['A', 'B'] as const) {
     const ph = chip.phases[p];
-    inputs.push([`phase ${p}`, `${ph.label}: viscosity ${fmt(ph.viscosity * DISPLAY.viscosity.factor)} mPa·s, density ${fmt(ph.density)} kg/m³${ph.diffusivity !== undefined ? `, diffusivity ${fmt(ph.diffusivity)} m²/s` : ''}`]);
+    inputs.push([`phase ${p}`, `${ph.label}: viscosity ${show(ph.viscosity, DISPLAY.viscosity)}, density ${fmt(ph.density)} kg/m³${ph.diffusivity !== undefined ? `, diffusivity ${fmt(ph.diffusivity)} m²/s` : ''}`]);
   }
-  inputs.push(['interfacial tension', chip.interfacialTension !== undefined ? `${fmt(chip.interfacialTension * DISPLAY.tension.factor)} mN/m` : 'not given']);
+  inputs.push(['interfacial tension', chip.interfacialTension !== undefined ? show(chip.interfacialTension, DISPLAY.tension) : 'not given']);
   inputs.push(['contact angle of A', chip.contactAngle ? `advancing ${deg(chip.contactAngle.advancing)}°, receding ${deg(chip.contactAngle.receding)}°` : 'not given']);
   inputs.push(['split window (p_B − p_A)', chip.splitWindow ? `${fmt(chip.splitWindow[0])} … ${fmt(chip.splitWindow[1])} Pa` : 'from the Young–Laplace estimate']);
   inputs.push(['pressure rating', chip.maxPressure !== undefined ? `${kPa(chip.maxPressure)} kPa` : 'not given']);

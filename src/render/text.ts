@@ -7,7 +7,6 @@
  */
 import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
 import { starvedPhase, type OperatingProblem } from '../analyses/verdict.js';
-import { pressureResolution } from '../analyses/resolution.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
@@ -85,7 +84,7 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   for (const inlet of summary.inlets) out.push(`  inlet ${inlet.id} (${inlet.phase})  ${show(inlet.pressure, DISPLAY.pressure)}, ${flow(inlet.flow)} µL/min`);
   for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${show(outlet.pressure, DISPLAY.pressure)}, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
   const pinned = s.splits.filter((x) => x.state === 'pinned').length;
-  out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(minOf(s.splits.map((x) => x.margin)) ?? Infinity, pressureResolution(s))} Pa` : ''}`);
+  out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(minOf(s.splits.map((x) => x.margin)) ?? Infinity, s.summary.pressureResolution)} Pa` : ''}`);
   out.push('');
   if (problems) {
     out.push(problems.length === 0 ? 'verdict: the chip works at these settings (splits pinned, contactors fed, no backflow, outlets pure, within the rating)' : `verdict: the chip does NOT work at these settings (${problems.length} problem${problems.length > 1 ? 's' : ''})`);

@@ -5,9 +5,8 @@
  */
 import { settingName, type Setting } from '../analyses/settings.js';
 import type { TargetKind, TuneResult } from '../analyses/tune.js';
-import { pressureResolution } from '../analyses/resolution.js';
 import type { Chip } from '../network/model.js';
-import { DISPLAY, fmt, fmtResolved } from '../units/format.js';
+import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { chipText, textTable } from './text.js';
 
 const TARGET_LABELS: Record<TargetKind, string> = {
@@ -56,7 +55,7 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
   ));
   out.push('');
   const splits = result.solved.result.splits;
-  const resolution = pressureResolution(result.solved.result);
+  const resolution = result.solved.result.summary.pressureResolution;
   if (splits.length > 0) {
     out.push(`split windows (p_B − p_A, Pa): smallest margin ${fmtResolved(result.minMargin, resolution)} Pa${result.spareFreedom > 0 ? `, raised as far as the ${result.spareFreedom} spare direction${result.spareFreedom > 1 ? 's' : ''} of the settings allow` : ''}`);
     if (result.spareFreedom === 0) {
@@ -71,7 +70,7 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
   }
   const rating = chip.maxPressure;
   out.push(rating !== undefined
-    ? `highest pressure in the chip ${fmt(result.solved.result.summary.maxPressure / 1e3)} kPa, within its rating of ${fmt(rating / 1e3)} kPa`
+    ? `highest pressure in the chip ${show(result.solved.result.summary.maxPressure, DISPLAY.pressure)}, within its rating of ${show(rating, DISPLAY.pressure)}`
     : 'the layout gives no pressure rating (maxPressure): check the tuned pressures against the rating of the chip, fittings and tubing yourself');
   if (written) out.push(`tuned layout written to ${written}`);
   out.push('');

@@ -87,7 +87,10 @@ describe('runTolerance at small tolerances', () => {
     expect(r.firstOrder!.available).toBe(true);
     // Bound: |s − σ₁| ≤ 3.29 SE(s), two-sided 99.9 % for one contactor; over 6 contactors the
     // chance that any one falls outside by sampling alone is below 6 × 0.1 % (Bonferroni).
-    // SE(s) from the variance of the sample variance (toleranceSummary.describeSample).
+    // SE(s) from the variance of the sample variance (sampleStatistics.ts describeSample).
+    // With SE(s)/s ≈ 1/√(2(n − 1)) = 3.5 % at n = 400 that bound keeps the ratio s/σ₁ within about
+    // ±12 %; 0.85 to 1.15 holds it there should a reported SE come out too large. Measured: ratios
+    // 1.013 to 1.064, at most 1.7 SE from 1.
     for (const c of r.contactors) {
       const { firstOrder, sampled, sampledError } = c.flowSd;
       expect(Math.abs(sampled! - firstOrder!)).toBeLessThanOrEqual(3.29 * sampledError!);
@@ -96,9 +99,14 @@ describe('runTolerance at small tolerances', () => {
     }
     // The first-order model on the same draws gives the spread's sd within the same bound.
     for (const s of r.spreads) expect(Math.abs(s.sampled!.sd - s.firstOrder!.sd)).toBeLessThanOrEqual(3.29 * s.sampled!.sdError);
-    // The shares measured on the samples sum to about 1 when the response is linear.
-    const sampledShares = r.sources.reduce((a, s) => a + s.flowShareSampled!, 0);
-    expect(Math.abs(sampledShares - 1)).toBeLessThan(0.02);
+    // The first-order terms l_k follow the sampled variance: Σ_k cov(y, l_k)/Var(y) (`followed`) is
+    // 1 for a linear response y = Σ_k l_k. The second-order terms, ~1e-3 of the first-order ones
+    // (above), move it by about that much; numerator and denominator come from the same draws, so
+    // their sampling errors largely cancel. Measured: 0.99987 (flows), 1.00031 (window positions).
+    // Bound 1e-2, ten times the second-order size. (The sampled shares themselves sum to 1 by
+    // construction, less the ones snapped to 0: checked below.)
+    expect(Math.abs(r.followed.flow! - 1)).toBeLessThan(1e-2);
+    expect(Math.abs(r.followed.window! - 1)).toBeLessThan(1e-2);
     const firstOrderShares = r.sources.reduce((a, s) => a + s.flowShare!, 0);
     expect(firstOrderShares).toBeCloseTo(1, 12);
   });

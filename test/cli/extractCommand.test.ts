@@ -16,15 +16,20 @@ describe('stratiflow extract on layouts/dye-octanol-8.yaml', () => {
     expect(out).not.toMatch(/NaN|Infinity/);
     const { extraction } = JSON.parse(out);
     const s = extraction.summary;
+    // Both checks use the layout's inlet flows (16 and 32 µL/min); the extraction uses the solved
+    // contactor flows, which sum to them within the solve's mass balance, 1e-12 of the smaller
+    // phase throughput per row (DEVELOPERS.md): 1e-11 relative allows the eight contactors' rows.
+    // Measured: 0 (equal to the last bit) for both.
+    const MASS_BALANCE = 1e-11;
     // Extraction factor E = Q_A/(K·Q_B) for a solute fed in B (common practice): the single-stage limit is E/(1+E).
     const E = 16 / (0.05 * 32);
-    expect(s.equilibriumYield).toBeCloseTo(E / (1 + E), 6);
+    expect(Math.abs(s.equilibriumYield / (E / (1 + E)) - 1)).toBeLessThan(MASS_BALANCE);
     expect(s.yield).toBeGreaterThan(0);
     expect(s.yield).toBeLessThan(s.equilibriumYield);
     // Solute balance of the mixed outlets: what leaves in A plus what stays in B equals the feed (1 mol/m³ in 32 µL/min of B).
     const qA = 16e-9 / 60;
     const qB = 32e-9 / 60;
-    expect(s.outletA * qA + s.outletB * qB).toBeCloseTo(1 * qB, 15);
+    expect(Math.abs((s.outletA * qA + s.outletB * qB) / (1 * qB) - 1)).toBeLessThan(MASS_BALANCE);
   });
 
   it('writes the report, the drawing and the charts with --out', async () => {

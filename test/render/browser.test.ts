@@ -9,6 +9,7 @@ import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
 import { analyseExtraction, type ExtractionResult } from '../../src/analyses/extraction.js';
 import { chipReport } from '../../src/render/report.js';
+import { findManifolds } from '../../src/analyses/manifolds.js';
 
 /**
  * The report in a real browser: Debian's chromium driven by playwright-core (the reference
@@ -78,7 +79,7 @@ describe.skipIf(!haveChromium)('the HTML report in headless chromium', () => {
       const solved = solve();
       const extraction = extract?.(solved);
       const file = join(pages, `${name}.html`);
-      writeFileSync(file, chipReport(solved, { extraction }));
+      writeFileSync(file, chipReport(solved, findManifolds(solved), { extraction }));
       const page = await context.newPage();
       const problems: string[] = [];
       page.on('console', (m) => {

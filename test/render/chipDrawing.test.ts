@@ -339,10 +339,13 @@ describe('chipDrawing with the contactors coloured by approach to equilibrium', 
     expect(colouring.title).toBe('approach to equilibrium');
     const ticks = all(bars[0]!, (e) => e.name === 'text' && !hasClass('title')(e)).map((e) => Number(e.text));
     expect(ticks).toEqual([0, 0.2, 0.4, 0.6, 0.8, 1]);
-    // 48 strips from the bottom (approach 0) up, each in the colour of its middle value.
+    // 64 strips from the bottom (approach 0) up, each in the colour of its middle value, each
+    // starting where the one below ends (edges rounded once, so no gap and no overlap). Positions
+    // are written to 0.01 px; 1e-6 px allows for the binary sum of two such decimals.
     const strips = all(bars[0]!, (e) => e.name === 'rect' && e.attrs.fill !== 'none');
-    expect(strips).toHaveLength(48);
-    strips.forEach((r, k) => expect(r.attrs.fill).toBe(approachColour((k + 0.5) / 48)));
+    expect(strips).toHaveLength(64);
+    strips.forEach((r, k) => expect(r.attrs.fill).toBe(approachColour((k + 0.5) / 64)));
+    for (let k = 1; k < strips.length; k++) expect(Number(strips[k - 1]!.attrs.y)).toBeCloseTo(Number(strips[k]!.attrs.y) + Number(strips[k]!.attrs.height), 6);
     for (const stop of colouring.stops) expect(stop.colour).toBe(approachColour(stop.value));
   });
 

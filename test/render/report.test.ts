@@ -87,10 +87,10 @@ describe('chipCharts', () => {
 });
 
 describe('chipReport', () => {
-  const html = chipReport(bare);
+  const html = chipReport(bare, findManifolds(bare));
 
   it('is one well-formed document', () => {
-    for (const page of [html, chipReport(ladder), chipReport(tree)]) {
+    for (const page of [html, chipReport(ladder, findManifolds(ladder)), chipReport(tree, findManifolds(tree))]) {
       expect(page.startsWith('<!DOCTYPE html>')).toBe(true);
       expect(XMLValidator.validate(page)).toBe(true);
     }
@@ -131,7 +131,7 @@ describe('chipReport with an extraction', () => {
   /** Invented demo solute, its name with markup characters; the 16-contactor ladder's splits leak, which the extraction warns about. */
   const SOLUTE: SoluteSetup = { label: 'dye <D> & "co"', partition: 4, feedPhase: 'A', feedConcentration: 1, diffusivityA: 0.5e-9, diffusivityB: 1e-9 };
   const extraction = analyseExtraction(ladder, SOLUTE);
-  const html = chipReport(ladder, { extraction });
+  const html = chipReport(ladder, findManifolds(ladder), { extraction });
   const section = html.slice(html.indexOf('<h2>Extraction</h2>'), html.indexOf('<h2>Inputs as read</h2>'));
 
   it('is one well-formed document that needs no network', () => {
@@ -186,8 +186,8 @@ describe('chipReport with an extraction', () => {
   });
 
   it('adds nothing without an extraction', () => {
-    const plain = chipReport(ladder);
-    expect(chipReport(ladder, { extraction: undefined })).toBe(plain);
+    const plain = chipReport(ladder, findManifolds(ladder));
+    expect(chipReport(ladder, findManifolds(ladder), { extraction: undefined })).toBe(plain);
     expect(plain).not.toContain('<h2>Extraction</h2>');
     expect(plain).not.toMatch(/by-approach|colour-bar|extraction: /);
   });

@@ -11,7 +11,7 @@ import type { Chip } from '../../src/network/model.js';
 /**
  * The targets measured on a solution here, without tune.ts: each phase's flow into the chip is the
  * flow of the segments at its inlets (flows are signed from → to), and the mean holdup is that of
- * the contactor segments (merge → split), as the target kinds are defined in tune.ts.
+ * the contactor segments (merge → split), as the target kinds are defined in tuneSpec.ts.
  */
 export function measuredTargets(chip: Chip, result: ChipSolution): Record<TargetKind, number> {
   const nodes = new Map(chip.nodes.map((n) => [n.id, n]));

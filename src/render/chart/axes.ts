@@ -1,0 +1,121 @@
+/**
+ * What every chart kind stands on: numeric axes (scale, ticks and tick labels from d3-scale, with
+ * the defined results for empty, degenerate and non-finite data stated in ../chart.ts) and the
+ * chart frame (title, legend and the room left for the plot). Exports `numericAxis`,
+ * `pixelTicks`, `axisTitle`, `extentOf`, `widen`, `beginChart`, `inside`, `markerSwatch` and
+ * the layout constants. Draws nothing of the data itself.
+ */
+import { scaleLinear, scaleLog, type ScaleLinear, type ScaleLogarithmic } from 'd3-scale';
+import type { MarkerShape } from '../palette.js';
+import {
+  FONT_SIZE, TICK_LENGTH, TITLE_SIZE, createDocument, drawLegend, label, legendSize, marker, textWidth,
+  type Frame, type LegendEntry, type PixelTick, type SvgNode,
+} from '../svg.js';
+import type { AxisSpec, ChartSpec } from './spec.js';
+
+export const PAD = 10;
+/** Room below the plot for tick labels and the axis title. */
+export const BOTTOM_ROOM = TICK_LENGTH + 2 * FONT_SIZE + 12;
+
+export type NumericScale = ScaleLinear<number, number> | ScaleLogarithmic<number, number>;
+
+export interface NumericAxis {
+  scale: NumericScale;
+  /** Ticks in data values; an empty label marks a minor tick of a log axis. */
+  ticks: { value: number; label: string }[];
+  usable: (v: number) => boolean;
+}
+
+export function axisTitle(axis: { label: string; unit?: string }): string {
+  return axis.unit ? `${axis.label} (${axis.unit})` : axis.label;
+}
+
+export function extentOf(values: Iterable<number>, usable: (v: number) => boolean): [number, number] | undefined {
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const v of values) {
+    if (!usable(v)) continue;
+    lo = Math.min(lo, v);
+    hi = Math.max(hi, v);
+  }
+  return lo <= hi ? [lo, hi] : undefined;
+}
+
+export function widen([lo, hi]: readonly [number, number], log: boolean): [number, number] {
+  if (lo !== hi) return [lo, hi];
+  if (log) return [lo / 10, lo * 10];
+  const pad = lo === 0 ? 1 : Math.abs(lo) / 2;
+  return [lo - pad, hi + pad];
+}
+
+/** Scale and ticks of an axis; `include` values are kept in an automatic domain (e.g. 0 for bars). */
+export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTicks: number, include: readonly number[] = []): NumericAxis {
+  const log = spec.scale === 'log';
+  const usable = (v: number) => Number.isFinite(v) && (!log || v > 0);
+  const count = spec.ticks ?? defaultTicks;
+  let scale: NumericScale;
+  if (spec.domain) {
+    if (!spec.domain.every(Number.isFinite)) throw new RangeError(`axis "${spec.label}" needs a finite domain`);
+    if (log && !(spec.domain[0] > 0 && spec.domain[1] > 0)) throw new RangeError(`log axis "${spec.label}" needs a positive domain`);
+    const domain = widen(spec.domain, log);
+    scale = log ? scaleLog().domain(domain) : scaleLinear().domain(domain);
+  } else {
+    const domain = widen(extentOf([...values, ...include], usable) ?? (log ? [1, 10] : [0, 1]), log);
+    scale = log ? scaleLog().domain(domain).nice() : scaleLinear().domain(domain).nice(count);
+  }
+  // '~g' keeps log labels short (1e-9, 0.01, 100) where the default SI prefixes would clash with units.
+  const format = log ? scale.tickFormat(count, '~g') : scale.tickFormat(count);
+  const ticks = scale.ticks(count).map((value) => {
+    const auto = format(value);
+    return { value, label: auto !== '' && spec.format ? spec.format(value) : auto };
+  });
+  return { scale, ticks, usable };
+}
+
+export function pixelTicks(axis: NumericAxis): PixelTick[] {
+  return axis.ticks.map((t) => ({ at: axis.scale(t.value), label: t.label }));
+}
+
+export interface Layout {
+  root: SvgNode;
+  width: number;
+  height: number;
+  /** Room for the plot; charts that keep an aspect ratio use part of it. */
+  frame: Frame;
+  yTitleX: number;
+  /** Right edge of the title and the legend. */
+  headRight: number;
+}
+
+/** The document with title and legend, and the plot frame left over for axes with these labels. */
+export function beginChart(spec: ChartSpec, legend: readonly LegendEntry[], yLabels: readonly string[], room: { right?: number; bottom?: number } = {}): Layout {
+  const width = Math.max(240, spec.width ?? 640);
+  const height = Math.max(180, spec.height ?? 400);
+  const root = createDocument(width, height, spec.title);
+  let top = PAD;
+  if (spec.title !== undefined) {
+    label(root, spec.title, { class: 'chart-title', x: PAD, y: top + TITLE_SIZE, 'font-size': TITLE_SIZE, 'font-weight': 'bold' });
+    top += TITLE_SIZE + 8;
+  }
+  drawLegend(root, legend, PAD, top, width - 2 * PAD);
+  const legendBox = legendSize(legend, width - 2 * PAD);
+  top += legendBox.height;
+  const headRight = PAD + Math.max(legendBox.width, spec.title === undefined ? 0 : textWidth(spec.title, TITLE_SIZE));
+  const x0 = PAD + FONT_SIZE + 8 + Math.max(0, ...yLabels.map((s) => textWidth(s))) + TICK_LENGTH + 3;
+  const y0 = top + 8;
+  const frame = {
+    x0,
+    y0,
+    x1: Math.max(x0 + 40, width - PAD - (room.right ?? 0) - 12),
+    y1: Math.max(y0 + 40, height - PAD - BOTTOM_ROOM - (room.bottom ?? 0)),
+  };
+  return { root, width, height, frame, yTitleX: PAD + FONT_SIZE, headRight };
+}
+
+export function inside(frame: Frame, x: number, y: number): boolean {
+  return x >= frame.x0 - 0.5 && x <= frame.x1 + 0.5 && y >= frame.y0 - 0.5 && y <= frame.y1 + 0.5;
+}
+
+export function markerSwatch(shape: MarkerShape, colour: string): LegendEntry['swatch'] {
+  return (parent, cx, cy) => void marker(parent, shape, cx, cy, colour);
+}
