@@ -6,7 +6,7 @@
  */
 import type { PhaseName } from '../../network/model.js';
 import { OKABE_ITO } from '../palette.js';
-import { hatchFill, textElement, type SvgNode } from '../svg.js';
+import { el, hatchFill, type SvgNode } from '../svg.js';
 
 /**
  * Phase colours from Okabe & Ito (2008, see ../palette.ts), the same as the first two series of
@@ -41,5 +41,6 @@ export interface Point {
 
 /** A tooltip: the SVG title child of `node`. */
 export function appendTitle(node: SvgNode, text: string): void {
-  textElement(node, 'title', text);
+  const t = el(node, 'title');
+  t.node.appendChild(t.node.ownerDocument!.createTextNode(text));
 }
