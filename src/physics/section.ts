@@ -3,11 +3,15 @@
  * two-phase holdup ↔ flow-fraction relation with its inversion.
  * Exports the section types, `conductance`, `flowFractionAt`, `holdupForFlowFraction` (robust,
  * bracketed) and `HoldupTable` (the fast path for many inversions on one geometry and fluid pair).
- * SI units only; no I/O.
+ * Rectangles use the exact series (twoLayer.ts); etched and trapezoidal sections the spectral
+ * strip solver (shapedSection.ts). SI units only; no I/O.
  */
 import { rectConductance, tubeConductance } from './singlePhase.js';
 import { twoLayerFlow } from './twoLayer.js';
+import { shapedConductance, shapedTwoLayerFlow, wallProfileOf, type EtchedSection, type ShapedSection, type TrapezoidSection } from './shapedSection.js';
 import { StratiflowError } from '../errors.js';
+
+export type { EtchedSection, ShapedSection, TrapezoidSection } from './shapedSection.js';
 
 export type Orientation = 'side' | 'stacked';
 
@@ -24,20 +28,74 @@ export interface TubeSection {
   diameter: number;
 }
 
-export type Section = RectSection | TubeSection;
+export type Section = RectSection | TubeSection | EtchedSection | TrapezoidSection;
+
+/** A section that two layers can share: a rectangle (either orientation) or a shape with side-by-side layers. */
+export type TwoLayerSection = RectSection | ShapedSection;
+
+export function isShaped(section: Section): section is ShapedSection {
+  return section.shape === 'etched' || section.shape === 'trapezoid';
+}
 
 export function area(section: Section): number {
+  if (isShaped(section)) return wallProfileOf(section).area;
   return section.shape === 'rect' ? section.width * section.depth : (Math.PI * section.diameter ** 2) / 4;
 }
 
+/** D_h = 4A/P with P the whole wetted perimeter (walls and cover). */
 export function hydraulicDiameter(section: Section): number {
+  if (isShaped(section)) {
+    const p = wallProfileOf(section);
+    return (4 * p.area) / p.perimeter;
+  }
   return section.shape === 'rect'
     ? (2 * section.width * section.depth) / (section.width + section.depth)
     : section.diameter;
 }
 
+/**
+ * The size a width or depth tolerance moves: a rectangle's width or depth, a tube's diameter
+ * (as its width; a tube has no depth: 0), an etched section's mask width, a trapezoid's bottom
+ * width, and the depth of either.
+ */
+export function nominalSize(section: Section, dimension: 'width' | 'depth'): number {
+  switch (section.shape) {
+    case 'rect':
+      return section[dimension];
+    case 'tube':
+      return dimension === 'width' ? section.diameter : 0;
+    case 'etched':
+      return dimension === 'width' ? section.maskWidth : section.depth;
+    case 'trapezoid':
+      return dimension === 'width' ? section.bottomWidth : section.depth;
+  }
+}
+
+/** The section with those sizes moved by dWidth and dDepth, and whether every size stays positive (a mask width may be 0). */
+export function shiftedSection(section: Section, dWidth: number, dDepth: number): { section: Section; positive: boolean } {
+  switch (section.shape) {
+    case 'rect': {
+      const s = { ...section, width: section.width + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.width > 0 && s.depth > 0 };
+    }
+    case 'tube': {
+      const s = { ...section, diameter: section.diameter + dWidth };
+      return { section: s, positive: s.diameter > 0 };
+    }
+    case 'etched': {
+      const s = { ...section, maskWidth: section.maskWidth + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.maskWidth >= 0 && s.depth > 0 };
+    }
+    case 'trapezoid': {
+      const s = { ...section, bottomWidth: section.bottomWidth + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.bottomWidth >= 0 && s.depth > 0 };
+    }
+  }
+}
+
 /** Single-phase conductance k (Q = k·G), m⁴/(Pa·s). */
 export function conductance(section: Section, mu: number): number {
+  if (isShaped(section)) return shapedConductance(section, mu);
   return section.shape === 'rect' ? rectConductance(section.width, section.depth, mu) : tubeConductance(section.diameter, mu);
 }
 
@@ -59,9 +117,12 @@ export interface TwoPhaseState {
   dkB: number;
 }
 
-/** Flow fraction φ = k_A/(k_A + k_B) at holdup α, with dφ/dα = (k_A' k_B − k_A k_B')/(k_A + k_B)². */
-export function flowFractionAt(section: RectSection, muA: number, muB: number, holdup: number): TwoPhaseState {
-  const r = twoLayerFlow({ ...layerAxes(section), holdup, muA, muB });
+/**
+ * Flow fraction φ = k_A/(k_A + k_B) at holdup α, with dφ/dα = (k_A' k_B − k_A k_B')/(k_A + k_B)².
+ * For a shaped section α is the share of the area that A fills, left of a vertical interface.
+ */
+export function flowFractionAt(section: TwoLayerSection, muA: number, muB: number, holdup: number): TwoPhaseState {
+  const r = section.shape === 'rect' ? twoLayerFlow({ ...layerAxes(section), holdup, muA, muB }) : shapedTwoLayerFlow(section, holdup, muA, muB);
   const k = r.kA + r.kB;
   return {
     holdup,
@@ -95,7 +156,7 @@ const SETTLED_MISS = 1e-9;
  * φ(α) is 0 or 1 to rounding) or the search closes in on a point that is not a root.
  */
 export function holdupForFlowFraction(
-  section: RectSection,
+  section: TwoLayerSection,
   muA: number,
   muB: number,
   flowFraction: number,
