@@ -322,7 +322,7 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
           bottomWidth: need(s.bottomWidth, 'bottomWidth', 'bottomWidth'),
           depth: need(s.depth, 'depth', 'channel'),
           // A plain number is in degrees (as every angle of a layout), and is named so in a message.
-          wallAngle: s.wallAngle === undefined ? SILICON_WALL_ANGLE : quantity(typeof s.wallAngle === 'number' ? `${s.wallAngle} deg` : s.wallAngle, 'wallAngle', element, 'wallAngle'),
+          wallAngle: s.wallAngle === undefined ? SILICON_WALL_ANGLE : Math.min(Math.PI / 2, quantity(typeof s.wallAngle === 'number' ? `${s.wallAngle} deg` : s.wallAngle, 'wallAngle', element, 'wallAngle')),
         };
         break;
     }

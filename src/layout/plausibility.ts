@@ -52,10 +52,13 @@ export interface PlausibleRange {
  * - partition coefficient: 1e-6 to 1e6 spans any extraction worth modelling.
  * - feed concentration: at most 1e5 mol/m³ (pure water is 55 500 mol/m³, from its molar mass).
  */
+/** 90° converted from degrees may land an ulp or two above π/2; the loader then takes π/2. */
+export const RIGHT_ANGLE_ROUNDING = 1e-12;
+
 export const PLAUSIBLE = {
   channel: { dimension: 'length', low: 1e-6, high: 10e-3, usual: 100e-6, what: 'a channel width or depth', limits: '1 um to 10 mm' },
   bottomWidth: { dimension: 'length', low: 0, high: 10e-3, usual: 100e-6, what: 'a mask opening or bottom width', limits: '0 to 10 mm' },
-  wallAngle: { dimension: 'angle', low: (5 * Math.PI) / 180, high: Math.PI / 2, usual: 0.9553166181245093, what: 'a wall angle', limits: '5 deg to 90 deg' },
+  wallAngle: { dimension: 'angle', low: (5 * Math.PI) / 180, high: Math.PI / 2 + RIGHT_ANGLE_ROUNDING, usual: 0.9553166181245093, what: 'a wall angle', limits: '5 deg to 90 deg' },
   diameter: { dimension: 'length', low: 10e-6, high: 10e-3, usual: 250e-6, what: 'a tube diameter', limits: '10 um to 10 mm' },
   length: { dimension: 'length', low: 1e-6, high: 10, usual: 10e-3, what: 'a segment length', limits: '1 um to 10 m' },
   position: { dimension: 'length', low: -100, high: 100, usual: 10e-3, what: 'a drawing position', limits: '-100 m to 100 m' },

@@ -3,7 +3,7 @@
  * two-layer flow in them. Exports the section types `EtchedSection`, `TrapezoidSection`,
  * `ShapedSection`, `SILICON_WALL_ANGLE`, `wallProfileOf`, `shapedTwoLayerFlow` (flows per unit
  * gradient with their derivatives in the holdup and both viscosities), `shapedConductance`
- * (single phase) and `interfaceSpan`. SI units; no I/O.
+ * (single phase), `shapedFlowFraction` (no slopes, for curves) and `interfaceSpan`. SI units; no I/O.
  *
  * Shapes (the cover flat on top, y the depth below it):
  * - `etched`: an isotropic wet etch under a mask opening of width w to depth d: a flat bottom of
@@ -123,6 +123,13 @@ export function shapedTwoLayerFlow(section: ShapedSection, holdup: number, muA: 
     flow.dkBDMuB = (-flow.kB - muA * flow.dkBDMuA) / muB;
   }
   return flow;
+}
+
+/** Flow fraction k_A/(k_A + k_B) at holdup α, without slopes (one solve; for curves). */
+export function shapedFlowFraction(section: ShapedSection, holdup: number, muA: number, muB: number): number {
+  const profile = wallProfileOf(section);
+  const r = spectralTwoLayer(profile, interfacePosition(profile, holdup), muA, muB);
+  return r.qA / (r.qA + r.qB);
 }
 
 /** Single-phase conductance k (Q = k·G), m⁴/(Pa·s): the two-layer solve with one viscosity. */

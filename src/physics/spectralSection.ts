@@ -32,7 +32,7 @@
  * and the agreement is 6e-6 (test/physics/shapedSection.test.ts, freefemReference.test.ts).
  */
 import { chebyshevGrid, DenseLu, separableDirichlet } from './chebyshev.js';
-import { pieceCurve, pieceEnd, pieceStart, type WallPiece, type WallProfile } from './wallProfile.js';
+import { pieceCurve, pieceEnd, pieceStart, type Curve, type WallPiece, type WallProfile } from './wallProfile.js';
 
 /** Polynomial degree across the depth of every strip (the cuts share these nodes). */
 export const SPECTRAL_DEGREE = 24;
@@ -45,6 +45,10 @@ export interface StripField {
   nx: number;
   ny: number;
   phase: 'A' | 'B';
+  xa: number;
+  xb: number;
+  /** The strip's wall, parametrised by ξ as in its map. */
+  wall: Curve;
 }
 
 export interface SpectralField {
@@ -195,7 +199,7 @@ export function spectralTwoLayer(profile: WallProfile, xI: number, muA: number, 
         x[k] = g[0]!;
         y[k] = g[1]!;
       });
-      fields.push({ x, y, u, nx: strip.nx, ny, phase: strip.phase });
+      fields.push({ x, y, u, nx: strip.nx, ny, phase: strip.phase, xa: strip.xa, xb: strip.xb, wall: pieceCurve(strip.piece, strip.xa, strip.xb) });
     }
   });
   return withField ? { qA, qB, field: { strips: fields } } : { qA, qB };
