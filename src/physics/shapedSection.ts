@@ -3,7 +3,8 @@
  * two-layer flow in them. Exports the section types `EtchedSection`, `TrapezoidSection`,
  * `ShapedSection`, `SILICON_WALL_ANGLE`, `wallProfileOf`, `shapedTwoLayerFlow` (flows per unit
  * gradient with their derivatives in the holdup and both viscosities), `shapedConductance`
- * (single phase), `shapedFlowFraction` (no slopes, for curves) and `interfaceSpan`. SI units; no I/O.
+ * (single phase), `shapedFlows` and `shapedFlowFraction` (no slopes), `jointHoldups` and
+ * `interfaceSpan`. SI units; no I/O.
  *
  * Shapes (the cover flat on top, y the depth below it):
  * - `etched`: an isotropic wet etch under a mask opening of width w to depth d: a flat bottom of
@@ -96,7 +97,7 @@ export function shapedTwoLayerFlow(section: ShapedSection, holdup: number, muA: 
   const at = (alpha: number, a = muA) => spectralTwoLayer(profile, interfacePosition(profile, alpha), a, muB, degree);
   const base = at(holdup);
   const h = HOLDUP_STEP * Math.min(holdup, 1 - holdup);
-  const joints = profile.pieces.slice(0, -1).map((p) => areaLeftOf(profile, pieceEnd(p)) / profile.area);
+  const joints = jointHoldups(section);
   const blocked = (a: number, b: number) => joints.some((j) => j > Math.min(a, b) && j < Math.max(a, b));
   let dkA: number;
   let dkB: number;
@@ -125,18 +126,44 @@ export function shapedTwoLayerFlow(section: ShapedSection, holdup: number, muA: 
   return flow;
 }
 
+/** k_A and k_B at holdup α without slopes (one solve), m⁴/(Pa·s). */
+export function shapedFlows(section: ShapedSection, holdup: number, muA: number, muB: number, degree = SPECTRAL_DEGREE): { kA: number; kB: number } {
+  const profile = wallProfileOf(section);
+  const r = spectralTwoLayer(profile, interfacePosition(profile, holdup), muA, muB, degree);
+  return { kA: r.qA, kB: r.qB };
+}
+
 /** Flow fraction k_A/(k_A + k_B) at holdup α, without slopes (one solve; for curves). */
 export function shapedFlowFraction(section: ShapedSection, holdup: number, muA: number, muB: number): number {
-  const profile = wallProfileOf(section);
-  const r = spectralTwoLayer(profile, interfacePosition(profile, holdup), muA, muB);
-  return r.qA / (r.qA + r.qB);
+  const { kA, kB } = shapedFlows(section, holdup, muA, muB);
+  return kA / (kA + kB);
 }
+
+/** The holdups at which the interface passes a joint of the wall (arc to bottom, wall to bottom), increasing. */
+export function jointHoldups(section: ShapedSection): number[] {
+  const profile = wallProfileOf(section);
+  return profile.pieces.slice(0, -1).map((p) => areaLeftOf(profile, pieceEnd(p)) / profile.area);
+}
+
+/**
+ * Single-phase conductances by shape and degree, for μ = 1 (k ∝ 1/μ exactly): a chip repeats a
+ * few section shapes over many segments, and each costs a spectral solve.
+ */
+const UNIT_CONDUCTANCE = new Map<string, number>();
+const UNIT_CONDUCTANCE_LIMIT = 1024;
 
 /** Single-phase conductance k (Q = k·G), m⁴/(Pa·s): the two-layer solve with one viscosity. */
 export function shapedConductance(section: ShapedSection, mu: number, degree = SPECTRAL_DEGREE): number {
-  const profile = wallProfileOf(section);
-  const r = spectralTwoLayer(profile, interfacePosition(profile, 0.5), mu, mu, degree);
-  return r.qA + r.qB;
+  const key = `${JSON.stringify(section)}|${degree}`;
+  let unit = UNIT_CONDUCTANCE.get(key);
+  if (unit === undefined) {
+    const profile = wallProfileOf(section);
+    const r = spectralTwoLayer(profile, interfacePosition(profile, 0.5), 1, 1, degree);
+    unit = r.qA + r.qB;
+    if (UNIT_CONDUCTANCE.size >= UNIT_CONDUCTANCE_LIMIT) UNIT_CONDUCTANCE.clear();
+    UNIT_CONDUCTANCE.set(key, unit);
+  }
+  return unit / mu;
 }
 
 /** The depth the side-by-side interface spans at holdup α, m (what its meniscus bridges at a split). */
