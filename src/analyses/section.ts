@@ -3,12 +3,15 @@
  * share a channel? Exports `analyseSection` (typed input → typed summary, SI units) used by the
  * `section` command and by the report. Calls the physics; does no I/O.
  */
-import { flowFractionAt, holdupForFlowFraction, area, type RectSection, type TwoPhaseState } from '../physics/section.js';
+import { flowFractionAt, holdupForFlowFraction, area, type TwoLayerSection, type TwoPhaseState } from '../physics/section.js';
 import { velocityMaximum, type VelocityMaximum } from '../physics/field.js';
+import { shapedVelocityMaximum } from '../physics/shapedField.js';
+import { interfaceSpan, wallProfileOf } from '../physics/shapedSection.js';
 import { StratiflowError } from '../errors.js';
 
 export interface SectionQuery {
-  section: RectSection;
+  /** A rectangle, or an etched or trapezoidal section (layers side by side). */
+  section: TwoLayerSection;
   muA: number;
   muB: number;
   /** Exactly one of holdup and flowFraction. */
@@ -22,7 +25,10 @@ export interface SectionSummary {
   holdup: number;
   flowFraction: number;
   viscosityRatio: number;
+  /** Width/depth (for an etched or trapezoidal section: top width/depth). */
   aspectRatio: number;
+  /** The length of the interface from wall to wall (or cover), m: what its meniscus spans at a split. */
+  interfaceSpan: number;
   /** Flow per unit pressure gradient, m⁴/(Pa·s). */
   qPerGradient: { a: number; b: number };
   /** dφ/dα and dα/dφ. */
@@ -43,8 +49,14 @@ export function analyseSection(query: SectionQuery): SectionSummary {
     if (!ok) throw new StratiflowError('bad-option', message, { field });
   };
   // Fields are named as in SectionQuery; a command line maps them to its options.
-  check(section.width > 0, 'width', 'must be a positive length');
   check(section.depth > 0, 'depth', 'must be a positive length');
+  if (section.shape === 'rect') check(section.width > 0, 'width', 'must be a positive length');
+  if (section.shape === 'etched') check(section.maskWidth >= 0, 'maskWidth', 'must be a length of at least 0');
+  if (section.shape === 'trapezoid') {
+    check(section.bottomWidth >= 0, 'bottomWidth', 'must be a length of at least 0');
+    check(section.wallAngle > 0 && section.wallAngle <= Math.PI / 2, 'wallAngle', 'must lie above 0 and at most 90°');
+    check(section.bottomWidth > 0 || section.wallAngle < Math.PI / 2, 'bottomWidth', 'must be positive when the walls are vertical');
+  }
   check(muA > 0, 'muA', 'must be a positive viscosity');
   check(muB > 0, 'muB', 'must be a positive viscosity');
   check((query.holdup === undefined) !== (query.flowFraction === undefined), 'holdup', 'give exactly one of the holdup and the flow fraction');
@@ -61,12 +73,13 @@ export function analyseSection(query: SectionQuery): SectionSummary {
   const g = gradient ?? 1;
   const areaA = state.holdup * area(section);
   const areaB = (1 - state.holdup) * area(section);
-  const maximum = velocityMaximum(section, state.holdup, muA, muB);
+  const maximum = section.shape === 'rect' ? velocityMaximum(section, state.holdup, muA, muB) : shapedVelocityMaximum(section, state.holdup, muA, muB);
   return {
     holdup: state.holdup,
     flowFraction: query.flowFraction ?? state.flowFraction,
     viscosityRatio: muA / muB,
-    aspectRatio: section.width / section.depth,
+    aspectRatio: section.shape === 'rect' ? section.width / section.depth : wallProfileOf(section).topWidth / section.depth,
+    interfaceSpan: section.shape !== 'rect' ? interfaceSpan(section, state.holdup) : section.orientation === 'side' ? section.depth : section.width,
     qPerGradient: { a: state.kA, b: state.kB },
     dFlowFractionDHoldup: state.dFlowFraction,
     dHoldupDFlowFraction: 1 / state.dFlowFraction,

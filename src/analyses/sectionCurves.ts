@@ -1,20 +1,28 @@
 /**
  * The data behind the pictures of one cross-section: flow fraction against holdup for the given
- * channel, for a few other aspect ratios and for the limit of infinitely deep plates; and the
- * velocity over the cross-section with its maximum. Exports `flowFractionCurves`,
- * `sectionVelocity` and their types. Computes (SI units); render/sectionCharts.ts draws.
+ * channel and for comparison channels (other aspect ratios of a rectangle, or the rectangle as
+ * wide as an etched or trapezoidal channel's bottom), and the limit of infinitely deep plates;
+ * and the velocity over the cross-section with its maximum, interface and outline. Exports
+ * `flowFractionCurves`, `sectionVelocity` and their types. Computes (SI units);
+ * render/sectionCharts.ts draws.
  */
-import { flowFractionAt, layerAxes, type RectSection } from '../physics/section.js';
+import { flowFractionAt, layerAxes, nominalSize, type RectSection, type TwoLayerSection } from '../physics/section.js';
 import { twoLayerPlates } from '../physics/twoLayer.js';
 import { velocityField, velocityMaximum, type VelocityMaximum } from '../physics/field.js';
+import { shapedFlowFraction, wallProfileOf, type ShapedSection } from '../physics/shapedSection.js';
+import { shapedVelocityField, shapedVelocityMaximum } from '../physics/shapedField.js';
 
 const HOLDUPS = Array.from({ length: 49 }, (_, i) => (i + 1) / 50);
+/** A shaped section costs a spectral solve per point: 24 holdups draw its curve. */
+const SHAPED_HOLDUPS = Array.from({ length: 24 }, (_, i) => (i + 1) / 25);
 /** Ratios of the interface span to the layer thickness direction (along/across) drawn besides the given one. */
 const ASPECTS = [0.25, 1, 4];
 
 export interface FlowFractionCurve {
-  /** along/across of the channel the curve belongs to; undefined for infinitely deep plates. */
+  /** along/across of the channel the curve belongs to; undefined for infinitely deep plates and shaped comparisons. */
   aspect?: number;
+  /** What the curve is, when not a rectangle's aspect ratio or the plates: 'etched', 'trapezoid' or 'rectangle of the bottom width'. */
+  kind?: 'etched' | 'trapezoid' | 'bottom-rectangle';
   given: boolean;
   points: Array<[number, number]>;
 }
@@ -28,25 +36,45 @@ export interface FlowFractionCurves {
   operatingPoint: [number, number];
 }
 
-export function flowFractionCurves(section: RectSection, muA: number, muB: number, holdup: number): FlowFractionCurves {
+const platesCurve = (muA: number, muB: number): FlowFractionCurve => ({
+  given: false,
+  points: HOLDUPS.map((a) => {
+    const p = twoLayerPlates(1, a, muA, muB);
+    return [a, p.kA / (p.kA + p.kB)];
+  }),
+});
+
+export function flowFractionCurves(section: TwoLayerSection, muA: number, muB: number, holdup: number): FlowFractionCurves {
+  if (section.shape !== 'rect') return shapedCurves(section, muA, muB, holdup);
   const { across, along } = layerAxes(section);
   const curve = (alongOverAcross: number): Array<[number, number]> =>
     HOLDUPS.map((a) => [a, flowFractionAt({ ...section, ...dims(section, across, across * alongOverAcross) }, muA, muB, a).flowFraction]);
   const given = along / across;
   const curves: FlowFractionCurve[] = [{ aspect: given, given: true, points: curve(given) }];
   for (const r of ASPECTS) if (Math.abs(Math.log(r / given)) > 0.05) curves.push({ aspect: r, given: false, points: curve(r) });
-  curves.push({
-    given: false,
-    points: HOLDUPS.map((a) => {
-      const p = twoLayerPlates(1, a, muA, muB);
-      return [a, p.kA / (p.kA + p.kB)];
-    }),
-  });
+  curves.push(platesCurve(muA, muB));
   return {
     ratioName: section.orientation === 'side' ? 'depth/width' : 'width/depth',
     viscosityRatio: muA / muB,
     curves,
     operatingPoint: [holdup, flowFractionAt(section, muA, muB, holdup).flowFraction],
+  };
+}
+
+/** A shaped section, the rectangle as wide as its bottom and as deep (when the bottom is not empty), and the plates. */
+function shapedCurves(section: ShapedSection, muA: number, muB: number, holdup: number): FlowFractionCurves {
+  const curves: FlowFractionCurve[] = [{ kind: section.shape, given: true, points: SHAPED_HOLDUPS.map((a) => [a, shapedFlowFraction(section, a, muA, muB)]) }];
+  const bottom = nominalSize(section, 'width');
+  if (bottom > 0) {
+    const rect: RectSection = { shape: 'rect', width: bottom, depth: section.depth, orientation: 'side' };
+    curves.push({ kind: 'bottom-rectangle', given: false, points: HOLDUPS.map((a) => [a, flowFractionAt(rect, muA, muB, a).flowFraction]) });
+  }
+  curves.push(platesCurve(muA, muB));
+  return {
+    ratioName: 'depth/width',
+    viscosityRatio: muA / muB,
+    curves,
+    operatingPoint: [holdup, shapedFlowFraction(section, holdup, muA, muB)],
   };
 }
 
@@ -56,19 +84,34 @@ function dims(section: RectSection, across: number, along: number): Pick<RectSec
 }
 
 export interface SectionVelocity {
-  section: RectSection;
+  /** Extent of the drawing: across the channel and up from its deepest point, m. */
+  width: number;
+  height: number;
   holdup: number;
-  /** Velocity on a grid over the section (rows along the depth), m/s per unit gradient. */
+  /** Velocity on a grid over the extent (rows up the depth), per unit gradient; NaN outside the section. */
   u: number[][];
-  /** Where the interface sits across the section, m. */
-  interfaceAt: number;
+  /** The interface, [across, up] in m. */
+  interfaceLine: Array<[number, number]>;
+  /** The outline of a shaped section (closed), [across, up] in m; none for a rectangle (the frame is its outline). */
+  outline?: Array<[number, number]>;
   maximum: VelocityMaximum;
 }
 
 /** The velocity over the cross-section on a grid of about 64 points across its longer side. */
-export function sectionVelocity(section: RectSection, muA: number, muB: number, holdup: number): SectionVelocity {
+export function sectionVelocity(section: TwoLayerSection, muA: number, muB: number, holdup: number): SectionVelocity {
+  if (section.shape !== 'rect') {
+    const { topWidth, depth } = wallProfileOf(section);
+    const nz = Math.max(8, Math.min(64, Math.round((64 * depth) / topWidth)));
+    const field = shapedVelocityField(section, holdup, muA, muB, 64, nz);
+    return { width: topWidth, height: depth, holdup, u: field.u, interfaceLine: field.interfaceLine, outline: field.outline, maximum: shapedVelocityMaximum(section, holdup, muA, muB) };
+  }
   const ny = 64;
   const nz = Math.max(8, Math.min(64, Math.round((64 * section.depth) / section.width)));
   const field = velocityField(section, holdup, muA, muB, ny, nz);
-  return { section, holdup, u: field.u, interfaceAt: field.interfaceAt, maximum: velocityMaximum(section, holdup, muA, muB) };
+  const at = field.interfaceAt;
+  const interfaceLine: Array<[number, number]> =
+    section.orientation === 'side'
+      ? [[at, 0], [at, section.depth]]
+      : [[0, at], [section.width, at]];
+  return { width: section.width, height: section.depth, holdup, u: field.u, interfaceLine, maximum: velocityMaximum(section, holdup, muA, muB) };
 }

@@ -19,7 +19,7 @@ import { runPool, startWorkerBeside } from './workers.js';
 import { solveChip, warmStartFrom } from './chip.js';
 import { observableLayout, observe, planTolerance, runJob, type Job, type JobContext, type Outcome, type Slot, type TolerancePlan, type ToleranceSpec } from './toleranceModel.js';
 import { summariseTolerance, type SummaryInput, type ToleranceResult } from './toleranceSummary.js';
-import { conductance, type RectSection } from '../physics/section.js';
+import { conductance, nominalSize, type RectSection } from '../physics/section.js';
 import { isContactor } from '../network/topology.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip } from '../network/model.js';
@@ -124,7 +124,8 @@ function differenceStep(chip: Chip, slot: Slot): number {
     nominal = Math.min(
       ...slot.segments.map((i) => {
         const s = chip.segments[i]!.section;
-        return slot.target === 'depth' ? (s.shape === 'rect' ? s.depth : Infinity) : s.shape === 'rect' ? s.width : s.diameter;
+        const size = nominalSize(s, slot.target as 'width' | 'depth');
+        return size > 0 ? size : Infinity;
       }),
     );
   }

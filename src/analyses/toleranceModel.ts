@@ -17,6 +17,7 @@ import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, ChipSegment } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
+import { nominalSize, shiftedSection } from '../physics/section.js';
 
 // ---------------------------------------------------------------------------------------------
 // Spec and plan
@@ -149,8 +150,9 @@ export function planTolerance(chip: Chip, spec: ToleranceSpec): TolerancePlan {
     for (const dimension of ['depth', 'width'] as const) {
       const tolerance = rule[dimension];
       if (!tolerance) continue;
-      // A tube has no depth; its diameter follows the width tolerance.
-      const moved = dimension === 'depth' ? covered.filter((i) => chip.segments[i]!.section.shape === 'rect') : covered;
+      // A tube has no depth; its diameter follows the width tolerance (an etched or trapezoidal
+      // section's mask or bottom width, see nominalSize).
+      const moved = dimension === 'depth' ? covered.filter((i) => chip.segments[i]!.section.shape !== 'tube') : covered;
       if (moved.length === 0) continue;
       if (tolerance.each) {
         checkVariation(tolerance.each, `${dimension} of each channel (${scope})`);
@@ -211,7 +213,7 @@ export function realiseChip(chip: Chip, plan: TolerancePlan, z: ArrayLike<number
       const into = slot.target === 'depth' ? depth : width;
       for (const i of slot.segments) {
         const s = chip.segments[i]!.section;
-        const nominal = slot.target === 'depth' ? (s.shape === 'rect' ? s.depth : 0) : s.shape === 'rect' ? s.width : s.diameter;
+        const nominal = nominalSize(s, slot.target as 'width' | 'depth');
         into[i] += shift(v, nominal, zk);
       }
     }
@@ -225,10 +227,8 @@ export function realiseChip(chip: Chip, plan: TolerancePlan, z: ArrayLike<number
       segments.push(segment);
       continue;
     }
-    const s = segment.section;
-    const section = s.shape === 'rect' ? { ...s, depth: s.depth + depth[i]!, width: s.width + width[i]! } : { ...s, diameter: s.diameter + width[i]! };
-    const sizes = section.shape === 'rect' ? [section.depth, section.width] : [section.diameter];
-    if (!sizes.every((d) => d > 0)) return { problem: `a size of segment ${segment.id} drawn ≤ 0` };
+    const { section, positive } = shiftedSection(segment.section, width[i]!, depth[i]!);
+    if (!positive) return { problem: `a size of segment ${segment.id} drawn ≤ 0` };
     segments.push({ ...segment, section });
   }
   return {

@@ -1,11 +1,13 @@
 /**
- * `stratiflow section`: one cross-section with two layers. Options → SectionQuery → analyseSection
- * → text or JSON; optional charts.
+ * `stratiflow section`: one cross-section with two layers (a rectangle, or an etched or
+ * trapezoidal channel). Options → SectionQuery → analyseSection → text or JSON; optional charts.
  */
 import { StratiflowError } from '../errors.js';
 import type { Command } from 'commander';
 import { analyseSection, type SectionSummary } from '../analyses/section.js';
-import type { RectSection } from '../physics/section.js';
+import type { TwoLayerSection } from '../physics/section.js';
+import { SILICON_WALL_ANGLE } from '../physics/shapedSection.js';
+import { RIGHT_ANGLE_ROUNDING } from '../layout/plausibility.js';
 import { DISPLAY, fmt, show } from '../units/format.js';
 import { numberOption, quantityOption, choice } from './options.js';
 import type { CommandContext } from './context.js';
@@ -14,7 +16,11 @@ import { flowFractionChart, velocityFieldChart } from '../render/sectionCharts.j
 import { flowFractionCurves, sectionVelocity } from '../analyses/sectionCurves.js';
 
 interface SectionOptions {
+  shape: string;
   width?: string;
+  maskWidth?: string;
+  bottomWidth?: string;
+  wallAngle?: string;
   depth?: string;
   muA?: string;
   muB?: string;
@@ -30,6 +36,9 @@ interface SectionOptions {
 /** The option that sets each field of the section query, for the library's messages. */
 const OPTION_OF: Record<string, string> = {
   width: '--width',
+  maskWidth: '--mask-width',
+  bottomWidth: '--bottom-width',
+  wallAngle: '--wall-angle',
   depth: '--depth',
   muA: '--mu-a',
   muB: '--mu-b',
@@ -41,9 +50,13 @@ const OPTION_OF: Record<string, string> = {
 export function registerSection(program: Command, context: CommandContext): void {
   program
     .command('section')
-    .description('Two liquids side by side (or stacked) in one rectangular channel: holdup, flow fraction, velocities.')
-    .option('--width <length>', 'channel width, e.g. 200um')
-    .option('--depth <length>', 'channel depth, e.g. 50um')
+    .description('Two liquids side by side (or stacked) in one channel cross-section: holdup, flow fraction, velocities.')
+    .addOption(choice('--shape <rect|etched|trapezoid>', 'rectangle, wet-etched (flat bottom, quarter-round walls) or trapezoid', ['rect', 'etched', 'trapezoid'], 'rect'))
+    .option('--width <length>', 'rect: channel width, e.g. 200um')
+    .option('--depth <length>', 'channel depth, e.g. 50um (etched: also the radius of the round walls)')
+    .option('--mask-width <length>', 'etched: width of the mask opening (the flat bottom), e.g. 100um; 0 for a half-disc')
+    .option('--bottom-width <length>', 'trapezoid: width of the flat bottom, e.g. 60um')
+    .option('--wall-angle <angle>', 'trapezoid: angle between wall and bottom, e.g. 60deg (a plain number is in degrees; default 54.74)')
     .option('--mu-a <viscosity>', 'viscosity of phase A, e.g. 6.5mPa.s')
     .option('--mu-b <viscosity>', 'viscosity of phase B, e.g. 1.9mPa.s')
     .option('--holdup <fraction>', 'fraction of the width (side) or depth (stacked) filled by phase A')
@@ -56,12 +69,7 @@ export function registerSection(program: Command, context: CommandContext): void
     .action((options: SectionOptions) => {
       const plot = options.plot === undefined ? undefined : outputFile(options.plot, '--plot');
       const field = options.field === undefined ? undefined : outputFile(options.field, '--field');
-      const section: RectSection = {
-        shape: 'rect',
-        width: quantityOption(options.width, '--width', 'length'),
-        depth: quantityOption(options.depth, '--depth', 'length'),
-        orientation: options.orientation as 'side' | 'stacked',
-      };
+      const section = sectionOf(options);
       const query = {
         section,
         muA: quantityOption(options.muA, '--mu-a', 'viscosity'),
@@ -86,13 +94,52 @@ export function registerSection(program: Command, context: CommandContext): void
     });
 }
 
-function describeSection(section: RectSection, s: SectionSummary): string {
+/** The options each shape takes, beside --depth (and --orientation for a rectangle). */
+const SHAPE_OPTIONS = {
+  rect: ['width'],
+  etched: ['maskWidth'],
+  trapezoid: ['bottomWidth', 'wallAngle'],
+} as const;
+
+function sectionOf(options: SectionOptions): TwoLayerSection {
+  const shape = options.shape as keyof typeof SHAPE_OPTIONS;
+  for (const key of ['width', 'maskWidth', 'bottomWidth', 'wallAngle'] as const) {
+    if (options[key] !== undefined && !(SHAPE_OPTIONS[shape] as readonly string[]).includes(key)) {
+      throw new StratiflowError('bad-option', `is not an option of --shape ${shape} (it takes ${[...SHAPE_OPTIONS[shape].map((k) => OPTION_OF[k]), '--depth'].join(', ')})`, { field: OPTION_OF[key] });
+    }
+  }
+  const depth = quantityOption(options.depth, '--depth', 'length');
+  if (shape === 'rect') return { shape, width: quantityOption(options.width, '--width', 'length'), depth, orientation: options.orientation as 'side' | 'stacked' };
+  if (options.orientation !== 'side') throw new StratiflowError('bad-option', `layers in --shape ${shape} lie side by side only`, { field: '--orientation' });
+  if (shape === 'etched') return { shape, maskWidth: quantityOption(options.maskWidth, '--mask-width', 'length'), depth };
+  // A plain number is in degrees, as in layout files.
+  const angle = options.wallAngle !== undefined && /^\s*[-+]?[\d.]+(e[-+]?\d+)?\s*$/i.test(options.wallAngle) ? `${options.wallAngle} deg` : options.wallAngle;
+  const read = quantityOption(angle, '--wall-angle', 'angle', true) ?? SILICON_WALL_ANGLE;
+  // 90° converted from degrees may land an ulp above π/2.
+  const wallAngle = Math.abs(read - Math.PI / 2) <= RIGHT_ANGLE_ROUNDING ? Math.PI / 2 : read;
+  return { shape, bottomWidth: quantityOption(options.bottomWidth, '--bottom-width', 'length'), depth, wallAngle };
+}
+
+function sectionLine(section: TwoLayerSection): string {
+  const length = (v: number) => show(v, DISPLAY.length);
+  switch (section.shape) {
+    case 'rect':
+      return `cross-section ${length(section.width)} wide × ${length(section.depth)} deep, layers ${section.orientation === 'side' ? 'side by side' : 'stacked'}`;
+    case 'etched':
+      return `etched cross-section, mask opening ${length(section.maskWidth)}, ${length(section.depth)} deep (top ${length(section.maskWidth + 2 * section.depth)}), layers side by side`;
+    case 'trapezoid':
+      return `trapezoidal cross-section, bottom ${length(section.bottomWidth)}, ${length(section.depth)} deep, walls at ${fmt((section.wallAngle * 180) / Math.PI, 4)}°, layers side by side`;
+  }
+}
+
+function describeSection(section: TwoLayerSection, s: SectionSummary): string {
   const lines = [
-    `cross-section ${show(section.width, DISPLAY.length)} wide × ${show(section.depth, DISPLAY.length)} deep, layers ${section.orientation === 'side' ? 'side by side' : 'stacked'}`,
+    sectionLine(section),
     `  viscosity ratio μA/μB     ${fmt(s.viscosityRatio)}`,
     `  holdup of A               ${fmt(s.holdup, 8)}`,
     `  flow fraction of A        ${fmt(s.flowFraction, 8)}`,
     `  dα/dφ                     ${fmt(s.dHoldupDFlowFraction)}`,
+    `  interface spans           ${show(s.interfaceSpan, DISPLAY.length)}`,
     `  resistance per length     ${fmt(s.resistancePerLength)} Pa·s/m⁴`,
   ];
   if (s.velocityPerGradient) {

@@ -13,6 +13,7 @@ import { StratiflowError, StratiflowErrors } from '../errors.js';
 import { findFluid } from '../physics/fluids.js';
 import type { Chip, ChipNode, ChipSegment, Phase, PhaseName } from '../network/model.js';
 import type { Section } from '../physics/section.js';
+import { SILICON_WALL_ANGLE } from '../physics/shapedSection.js';
 import { checkTopology } from '../network/topology.js';
 import { implausible, mustBePositive, PLAUSIBLE, type PlausibleKind } from './plausibility.js';
 import { checkPhases } from './phases.js';
@@ -33,6 +34,16 @@ export const MAX_LAYOUT_BYTES = 16 * 2 ** 20;
  */
 const ASSUMED_DENSITY = 1000;
 export const MAX_JSON_LAYOUT_BYTES = 64 * 2 ** 20;
+
+/** The size keys each segment shape takes (the layout schema's keys; README, "Layout files"). */
+const SHAPE_KEYS = {
+  rect: ['width', 'depth', 'orientation'],
+  tube: ['diameter'],
+  etched: ['maskWidth', 'depth', 'orientation'],
+  trapezoid: ['bottomWidth', 'depth', 'wallAngle', 'orientation'],
+} as const satisfies Record<string, readonly string[]>;
+const SHAPE_KEYS_ALL = ['width', 'depth', 'diameter', 'maskWidth', 'bottomWidth', 'wallAngle'] as const;
+const withArticle = (shape: string) => `${/^[aeiou]/.test(shape) ? 'an' : 'a'} ${shape}`;
 
 export function loadLayout(path: string): Chip {
   return parseLayout(readLayoutText(path), path);
@@ -284,16 +295,39 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     const element = `segment ${s.id}`;
     const need = (value: unknown, field: string, kind: PlausibleKind) => {
       if (value === undefined) {
-        problems.push(new StratiflowError('bad-layout', `missing (a ${s.shape} segment needs it)`, { file: source, element, field }));
+        problems.push(new StratiflowError('bad-layout', `missing (${withArticle(s.shape)} segment needs it)`, { file: source, element, field }));
         return NaN;
       }
       return quantity(value, kind, element, field);
     };
+    for (const key of SHAPE_KEYS_ALL) {
+      if (s[key] !== undefined && !(SHAPE_KEYS[s.shape] as readonly string[]).includes(key)) {
+        problems.push(new StratiflowError('bad-layout', `not a key of ${withArticle(s.shape)} segment (it takes ${SHAPE_KEYS[s.shape].join(', ')})`, { file: source, element, field: key }));
+      }
+    }
     let section: Section;
-    if (s.shape === 'rect') {
-      section = { shape: 'rect', width: need(s.width, 'width', 'channel'), depth: need(s.depth, 'depth', 'channel'), orientation: s.orientation ?? 'side' };
-    } else {
-      section = { shape: 'tube', diameter: need(s.diameter, 'diameter', 'diameter') };
+    switch (s.shape) {
+      case 'rect':
+        section = { shape: 'rect', width: need(s.width, 'width', 'channel'), depth: need(s.depth, 'depth', 'channel'), orientation: s.orientation ?? 'side' };
+        break;
+      case 'tube':
+        section = { shape: 'tube', diameter: need(s.diameter, 'diameter', 'diameter') };
+        break;
+      case 'etched':
+        section = { shape: 'etched', maskWidth: need(s.maskWidth, 'maskWidth', 'bottomWidth'), depth: need(s.depth, 'depth', 'channel') };
+        break;
+      case 'trapezoid':
+        section = {
+          shape: 'trapezoid',
+          bottomWidth: need(s.bottomWidth, 'bottomWidth', 'bottomWidth'),
+          depth: need(s.depth, 'depth', 'channel'),
+          // A plain number is in degrees (as every angle of a layout), and is named so in a message.
+          wallAngle: s.wallAngle === undefined ? SILICON_WALL_ANGLE : Math.min(Math.PI / 2, quantity(typeof s.wallAngle === 'number' ? `${s.wallAngle} deg` : s.wallAngle, 'wallAngle', element, 'wallAngle')),
+        };
+        break;
+    }
+    if (s.orientation === 'stacked' && s.shape !== 'rect') {
+      problems.push(new StratiflowError('bad-layout', `layers in ${withArticle(s.shape)} channel lie side by side only`, { file: source, element, field: 'orientation' }));
     }
     const length = quantity(s.length, 'length', element, 'length');
     return { id: s.id, from: s.from, to: s.to, section, length, group: s.group, note: s.note };

@@ -30,6 +30,9 @@ export interface PlausibleRange {
  * Why each limit (common practice unless a source is named):
  * - channels: etched or moulded microchannels run from about 1 µm to millimetre manifolds;
  *   10 mm is wider than any channel a chip closes over.
+ * - a mask opening (etched) or flat bottom (trapezoid) may be 0 (a half-disc or a V-groove).
+ * - wall angles of etched trapezoids: 5° (shallower is no longer a channel wall) to 90°
+ *   (vertical walls; anisotropic etches of silicon give 54.74°).
  * - tubes: capillary tubing from 10 µm inner diameter up to 10 mm hose.
  * - lengths: 1 µm (a constriction) up to 10 m (a long tubing run).
  * - reservoir heights: a bench set-up fits inside ±10 m; drawing positions within ±100 m (a
@@ -49,8 +52,13 @@ export interface PlausibleRange {
  * - partition coefficient: 1e-6 to 1e6 spans any extraction worth modelling.
  * - feed concentration: at most 1e5 mol/m³ (pure water is 55 500 mol/m³, from its molar mass).
  */
+/** 90° converted from degrees may land an ulp or two above π/2; the loader then takes π/2. */
+export const RIGHT_ANGLE_ROUNDING = 1e-12;
+
 export const PLAUSIBLE = {
   channel: { dimension: 'length', low: 1e-6, high: 10e-3, usual: 100e-6, what: 'a channel width or depth', limits: '1 um to 10 mm' },
+  bottomWidth: { dimension: 'length', low: 0, high: 10e-3, usual: 100e-6, what: 'a mask opening or bottom width', limits: '0 to 10 mm' },
+  wallAngle: { dimension: 'angle', low: (5 * Math.PI) / 180, high: Math.PI / 2 + RIGHT_ANGLE_ROUNDING, usual: 0.9553166181245093, what: 'a wall angle', limits: '5 deg to 90 deg' },
   diameter: { dimension: 'length', low: 10e-6, high: 10e-3, usual: 250e-6, what: 'a tube diameter', limits: '10 um to 10 mm' },
   length: { dimension: 'length', low: 1e-6, high: 10, usual: 10e-3, what: 'a segment length', limits: '1 um to 10 m' },
   position: { dimension: 'length', low: -100, high: 100, usual: 10e-3, what: 'a drawing position', limits: '-100 m to 100 m' },

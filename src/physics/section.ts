@@ -3,11 +3,16 @@
  * two-phase holdup ↔ flow-fraction relation with its inversion.
  * Exports the section types, `conductance`, `flowFractionAt`, `holdupForFlowFraction` (robust,
  * bracketed) and `HoldupTable` (the fast path for many inversions on one geometry and fluid pair).
- * SI units only; no I/O.
+ * Rectangles use the exact series (twoLayer.ts); etched and trapezoidal sections the spectral
+ * strip solver (shapedSection.ts). SI units only; no I/O.
  */
 import { rectConductance, tubeConductance } from './singlePhase.js';
 import { twoLayerFlow } from './twoLayer.js';
+import { jointHoldups, shapedConductance, shapedFlows, shapedTwoLayerFlow, wallProfileOf, type EtchedSection, type ShapedSection, type TrapezoidSection } from './shapedSection.js';
 import { StratiflowError } from '../errors.js';
+import { chebyshevGrid } from './chebyshev.js';
+
+export type { EtchedSection, ShapedSection, TrapezoidSection } from './shapedSection.js';
 
 export type Orientation = 'side' | 'stacked';
 
@@ -24,20 +29,74 @@ export interface TubeSection {
   diameter: number;
 }
 
-export type Section = RectSection | TubeSection;
+export type Section = RectSection | TubeSection | EtchedSection | TrapezoidSection;
+
+/** A section that two layers can share: a rectangle (either orientation) or a shape with side-by-side layers. */
+export type TwoLayerSection = RectSection | ShapedSection;
+
+export function isShaped(section: Section): section is ShapedSection {
+  return section.shape === 'etched' || section.shape === 'trapezoid';
+}
 
 export function area(section: Section): number {
+  if (isShaped(section)) return wallProfileOf(section).area;
   return section.shape === 'rect' ? section.width * section.depth : (Math.PI * section.diameter ** 2) / 4;
 }
 
+/** D_h = 4A/P with P the whole wetted perimeter (walls and cover). */
 export function hydraulicDiameter(section: Section): number {
+  if (isShaped(section)) {
+    const p = wallProfileOf(section);
+    return (4 * p.area) / p.perimeter;
+  }
   return section.shape === 'rect'
     ? (2 * section.width * section.depth) / (section.width + section.depth)
     : section.diameter;
 }
 
+/**
+ * The size a width or depth tolerance moves: a rectangle's width or depth, a tube's diameter
+ * (as its width; a tube has no depth: 0), an etched section's mask width, a trapezoid's bottom
+ * width, and the depth of either.
+ */
+export function nominalSize(section: Section, dimension: 'width' | 'depth'): number {
+  switch (section.shape) {
+    case 'rect':
+      return section[dimension];
+    case 'tube':
+      return dimension === 'width' ? section.diameter : 0;
+    case 'etched':
+      return dimension === 'width' ? section.maskWidth : section.depth;
+    case 'trapezoid':
+      return dimension === 'width' ? section.bottomWidth : section.depth;
+  }
+}
+
+/** The section with those sizes moved by dWidth and dDepth, and whether every size stays positive (a mask width may be 0). */
+export function shiftedSection(section: Section, dWidth: number, dDepth: number): { section: Section; positive: boolean } {
+  switch (section.shape) {
+    case 'rect': {
+      const s = { ...section, width: section.width + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.width > 0 && s.depth > 0 };
+    }
+    case 'tube': {
+      const s = { ...section, diameter: section.diameter + dWidth };
+      return { section: s, positive: s.diameter > 0 };
+    }
+    case 'etched': {
+      const s = { ...section, maskWidth: section.maskWidth + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.maskWidth >= 0 && s.depth > 0 };
+    }
+    case 'trapezoid': {
+      const s = { ...section, bottomWidth: section.bottomWidth + dWidth, depth: section.depth + dDepth };
+      return { section: s, positive: s.bottomWidth >= 0 && s.depth > 0 };
+    }
+  }
+}
+
 /** Single-phase conductance k (Q = k·G), m⁴/(Pa·s). */
 export function conductance(section: Section, mu: number): number {
+  if (isShaped(section)) return shapedConductance(section, mu);
   return section.shape === 'rect' ? rectConductance(section.width, section.depth, mu) : tubeConductance(section.diameter, mu);
 }
 
@@ -59,9 +118,12 @@ export interface TwoPhaseState {
   dkB: number;
 }
 
-/** Flow fraction φ = k_A/(k_A + k_B) at holdup α, with dφ/dα = (k_A' k_B − k_A k_B')/(k_A + k_B)². */
-export function flowFractionAt(section: RectSection, muA: number, muB: number, holdup: number): TwoPhaseState {
-  const r = twoLayerFlow({ ...layerAxes(section), holdup, muA, muB });
+/**
+ * Flow fraction φ = k_A/(k_A + k_B) at holdup α, with dφ/dα = (k_A' k_B − k_A k_B')/(k_A + k_B)².
+ * For a shaped section α is the share of the area that A fills, left of a vertical interface.
+ */
+export function flowFractionAt(section: TwoLayerSection, muA: number, muB: number, holdup: number): TwoPhaseState {
+  const r = section.shape === 'rect' ? twoLayerFlow({ ...layerAxes(section), holdup, muA, muB }) : shapedTwoLayerFlow(section, holdup, muA, muB);
   const k = r.kA + r.kB;
   return {
     holdup,
@@ -95,7 +157,7 @@ const SETTLED_MISS = 1e-9;
  * φ(α) is 0 or 1 to rounding) or the search closes in on a point that is not a root.
  */
 export function holdupForFlowFraction(
-  section: RectSection,
+  section: TwoLayerSection,
   muA: number,
   muB: number,
   flowFraction: number,
@@ -143,28 +205,114 @@ function shiftState(state: TwoPhaseState, alpha: number): TwoPhaseState {
 
 /** Number of table intervals; nodes cluster toward α = 0 and 1 where φ ∝ α². */
 const TABLE_INTERVALS = 400;
+/**
+ * A shaped section's table: each node costs a spectral solve (milliseconds over a flat bottom,
+ * tens of milliseconds where the interface meets a curved or sloping wall), so the table is
+ * coarse and is itself the answer (no polish by a full solve). φ(α) is smooth between the
+ * holdups where the interface passes a joint of the wall, not across them, so each stretch
+ * between joints gets its own Chebyshev–Lobatto nodes, SHAPED_TABLE_DEGREE + 1 of them; k_A and
+ * k_B are solved there at SHAPED_TABLE_SOLVER_DEGREE (its error about 2e-6 of the slow layer
+ * on the wall, 3e-7 over a flat bottom), their slopes are those of each stretch's polynomial
+ * interpolant, which answers; the cubic Hermite table of φ only finds the stretch and the first
+ * guess (bench/shapedSection.ts measures the error against the direct inversion).
+ */
+const SHAPED_TABLE_DEGREE = 10;
+const SHAPED_TABLE_SOLVER_DEGREE = 16;
+/** Interpolated [k_A, k_B, dk_A/dα, dk_B/dα] (HoldupTable.interpolated is not re-entrant). */
+const SCRATCH = new Float64Array(4);
+/**
+ * The variable t ∈ [−1, 1] of a table stretch: linear between two joints, and quadratic toward
+ * an edge of the holdup range, α = lo + (hi − lo)·((t + 1)/2)² from α = 0 (mirrored toward
+ * α = 1), so that the thin layer's power law in α becomes smoother in t and the nodes cluster
+ * where it bends.
+ */
+function stretchMap(lo: number, hi: number) {
+  const w = hi - lo;
+  if (lo === 0 && hi < 1) return { alpha: (t: number) => w * ((t + 1) / 2) ** 2, dAlpha: (t: number) => w * ((t + 1) / 2), t: (a: number) => 2 * Math.sqrt(Math.max(0, a) / w) - 1 };
+  if (hi === 1 && lo > 0) return { alpha: (t: number) => 1 - w * ((1 - t) / 2) ** 2, dAlpha: (t: number) => w * ((1 - t) / 2), t: (a: number) => 1 - 2 * Math.sqrt(Math.max(0, 1 - a) / w) };
+  return { alpha: (t: number) => lo + ((t + 1) / 2) * w, dAlpha: () => w / 2, t: (a: number) => (2 * (a - lo)) / w - 1 };
+}
+
+/** The nodes of a shaped section's table (see SHAPED_TABLE_DEGREE). */
+function shapedTable(section: ShapedSection, muA: number, muB: number) {
+  const ends = [0, ...jointHoldups(section), 1];
+  const n = SHAPED_TABLE_DEGREE;
+  const grid = chebyshevGrid(n);
+  const count = (ends.length - 1) * n + 1;
+  const alpha = new Float64Array(count);
+  const phi = new Float64Array(count);
+  const slope = new Float64Array(count);
+  const flows = new Float64Array(4 * count);
+  const kFullA = conductance(section, muA);
+  const kFullB = conductance(section, muB);
+  for (let s = 0; s + 1 < ends.length; s++) {
+    const lo = ends[s]!;
+    const hi = ends[s + 1]!;
+    const kA = new Float64Array(n + 1);
+    const kB = new Float64Array(n + 1);
+    const map = stretchMap(lo, hi);
+    for (let i = 0; i <= n; i++) {
+      const a = map.alpha(grid.nodes[i]!);
+      alpha[s * n + i] = a;
+      // At the edges one phase fills the section (a layer of share e carries ∝ e², lanes.ts).
+      const k = a === 0 ? { kA: 0, kB: kFullB } : a === 1 ? { kA: kFullA, kB: 0 } : shapedFlows(section, a, muA, muB, SHAPED_TABLE_SOLVER_DEGREE);
+      kA[i] = k.kA;
+      kB[i] = k.kB;
+    }
+    for (let i = 0; i <= n; i++) {
+      let dA = 0;
+      let dB = 0;
+      for (let j = 0; j <= n; j++) {
+        dA += grid.d1[i * (n + 1) + j]! * kA[j]!;
+        dB += grid.d1[i * (n + 1) + j]! * kB[j]!;
+      }
+      // Slopes in the stretch's own variable t; d/dα = (d/dt)/(dα/dt), 0 where dα/dt = 0 (an
+      // edge, where the thin layer's flow and slope vanish).
+      const at = s * n + i;
+      const dAlpha = map.dAlpha(grid.nodes[i]!);
+      const kSum = kA[i]! + kB[i]!;
+      flows.set([kA[i]!, kB[i]!, dA, dB], 4 * at);
+      phi[at] = kA[i]! / kSum;
+      slope[at] = dAlpha === 0 ? 0 : (((dA * kB[i]! - kA[i]! * dB) / (kSum * kSum)) / dAlpha);
+    }
+  }
+  return { alpha, phi, slope, flows };
+}
+
 /** Largest Newton step, relative to min(α, 1 − α), that one polish may take before it is repeated. */
 const ONE_STEP_LIMIT = 1e-7;
 
 /**
  * Fast repeated inversion on one geometry and fluid pair: a monotone table of (α, φ, dφ/dα)
  * built once at Chebyshev–Lobatto nodes, a cubic Hermite guess (monotone because the exact node
- * derivatives are positive), then a Newton polish with one full series evaluation. Where the
- * guess is good (a relative Newton step below 1e-7) one step lands at rounding accuracy;
- * otherwise the safeguarded iteration continues inside the table interval.
+ * derivatives are positive), then for a rectangle a Newton polish with one full series
+ * evaluation. Where the guess is good (a relative Newton step below 1e-7) one step lands at
+ * rounding accuracy; otherwise the safeguarded iteration continues inside the table interval.
+ * For a shaped section the table also holds k_A, k_B and their slopes, and the answer is the
+ * interpolant's (SHAPED_TABLE_INTERVALS).
  */
 export class HoldupTable {
-  readonly section: RectSection;
+  readonly section: TwoLayerSection;
   readonly muA: number;
   readonly muB: number;
   private readonly alpha: Float64Array;
   private readonly phi: Float64Array;
   private readonly slope: Float64Array;
+  /** Shaped sections only: [k_A, k_B, dk_A/dα, dk_B/dα] per node. */
+  private readonly flows?: Float64Array;
 
-  constructor(section: RectSection, muA: number, muB: number, intervals = TABLE_INTERVALS) {
+  constructor(section: TwoLayerSection, muA: number, muB: number, intervals = TABLE_INTERVALS) {
     this.section = section;
     this.muA = muA;
     this.muB = muB;
+    if (section.shape !== 'rect') {
+      const nodes = shapedTable(section, muA, muB);
+      this.alpha = nodes.alpha;
+      this.phi = nodes.phi;
+      this.slope = nodes.slope;
+      this.flows = nodes.flows;
+      return;
+    }
     this.alpha = new Float64Array(intervals + 1);
     this.phi = new Float64Array(intervals + 1);
     this.slope = new Float64Array(intervals + 1);
@@ -182,17 +330,74 @@ export class HoldupTable {
     }
   }
 
-  /** Holdup for flow fraction φ in (0, 1), exact to rounding, with k_A, k_B and derivatives. */
+  /** Holdup for flow fraction φ in (0, 1), with k_A, k_B and derivatives (exact to rounding for a rectangle). */
   solve(flowFraction: number): TwoPhaseState {
     if (!(flowFraction > 0 && flowFraction < 1)) throw new RangeError(`flow fraction must lie in (0, 1), got ${flowFraction}`);
     const j = this.interval(flowFraction);
     const guess = this.hermiteInverse(j, flowFraction);
+    if (this.flows) return this.interpolated(j, guess, flowFraction);
     const state = flowFractionAt(this.section, this.muA, this.muB, guess);
     const step = -(state.flowFraction - flowFraction) / state.dFlowFraction;
     if (Math.abs(step) < ONE_STEP_LIMIT * Math.min(guess, 1 - guess) && guess + step > 0 && guess + step < 1) {
       return shiftState(state, guess + step);
     }
     return holdupForFlowFraction(this.section, this.muA, this.muB, flowFraction, guess, [this.alpha[j]!, this.alpha[j + 1]!]);
+  }
+
+  /**
+   * A shaped section's answer: Newton steps on φ(α) = k_A/(k_A + k_B), with k_A, k_B and their
+   * slopes from the polynomial interpolant of the stretch that holds table interval j
+   * (barycentric form, Berrut & Trefethen, 2004, SIAM Rev. 46:501), from the Hermite guess.
+   */
+  private interpolated(j: number, guess: number, flowFraction: number): TwoPhaseState {
+    const n = SHAPED_TABLE_DEGREE;
+    const stretch = Math.min(Math.floor(j / n), (this.alpha.length - 1) / n - 1);
+    const first = stretch * n;
+    const lo = this.alpha[first]!;
+    const hi = this.alpha[first + n]!;
+    const f = this.flows!;
+    const v = SCRATCH;
+    const map = stretchMap(lo, hi);
+    const evaluate = (alpha: number) => {
+      const t = map.t(alpha);
+      const dAlpha = map.dAlpha(t);
+      const toAlpha = () => {
+        v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
+        v[3] = dAlpha === 0 ? 0 : v[3]! / dAlpha;
+      };
+      const nodes = chebyshevGrid(n).nodes;
+      v.fill(0);
+      let weightSum = 0;
+      for (let i = 0; i <= n; i++) {
+        const d = t - nodes[i]!;
+        const base = 4 * (first + i);
+        if (d === 0) {
+          for (let c = 0; c < 4; c++) v[c] = f[base + c]!;
+          toAlpha();
+          return;
+        }
+        const w = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / d;
+        weightSum += w;
+        for (let c = 0; c < 4; c++) v[c]! += w * f[base + c]!;
+      }
+      for (let c = 0; c < 4; c++) v[c]! /= weightSum;
+      toAlpha();
+    };
+    let alpha = guess;
+    for (let step = 0; step < 8; step++) {
+      evaluate(alpha);
+      const k = v[0]! + v[1]!;
+      const miss = v[0]! / k - flowFraction;
+      const dPhi = (v[2]! * v[1]! - v[0]! * v[3]!) / (k * k);
+      const next = Math.min(hi, Math.max(lo, dPhi > 0 ? alpha - miss / dPhi : alpha));
+      const done = Math.abs(next - alpha) <= 1e-14 * Math.max(alpha, 1e-300);
+      alpha = next;
+      if (done) break;
+    }
+    evaluate(alpha);
+    const [kA, kB, dkA, dkB] = [v[0]!, v[1]!, v[2]!, v[3]!];
+    const k = kA + kB;
+    return { holdup: alpha, flowFraction, dFlowFraction: (dkA * kB - kA * dkB) / (k * k), kA, kB, dkA, dkB };
   }
 
   private interval(phi: number): number {

@@ -101,7 +101,16 @@ function nodeSetting(n: ChipNode): string {
 
 function sectionText(s: ChipSegment): string[] {
   const sec = s.section;
-  return sec.shape === 'rect' ? ['rect', um(sec.width), um(sec.depth), sec.orientation] : ['tube', um(sec.diameter), '–', '–'];
+  switch (sec.shape) {
+    case 'rect':
+      return ['rect', um(sec.width), um(sec.depth), sec.orientation];
+    case 'tube':
+      return ['tube', um(sec.diameter), '–', '–'];
+    case 'etched':
+      return ['etched', `${um(sec.maskWidth)} mask`, um(sec.depth), 'side'];
+    case 'trapezoid':
+      return ['trapezoid', `${um(sec.bottomWidth)} bottom`, um(sec.depth), 'side'];
+  }
 }
 
 /** The extraction section: solute, chip figures, model, per-contactor table and the two charts. */

@@ -8,10 +8,18 @@ import type { FlowFractionCurves, SectionVelocity } from '../analyses/sectionCur
 import { DISPLAY } from '../units/format.js';
 import { heatmap, lineChart, type LineSeries } from './chart.js';
 
+/** The legend name of a curve: this channel, a comparison rectangle, or the plates. */
+function curveName(c: FlowFractionCurves['curves'][number], ratioName: string): string {
+  if (c.kind === 'etched' || c.kind === 'trapezoid') return `this ${c.kind} channel`;
+  if (c.kind === 'bottom-rectangle') return 'rectangle as wide as its bottom, as deep';
+  if (c.aspect === undefined) return 'infinitely deep plates';
+  return c.given ? `this channel (${ratioName} ${Number(c.aspect.toPrecision(3))})` : `${ratioName} ${c.aspect}`;
+}
+
 export function flowFractionChart(data: FlowFractionCurves): string {
   const { ratioName } = data;
   const series: LineSeries[] = data.curves.map((c) => ({
-    name: c.aspect === undefined ? 'infinitely deep plates' : c.given ? `this channel (${ratioName} ${Number(c.aspect.toPrecision(3))})` : `${ratioName} ${c.aspect}`,
+    name: curveName(c, ratioName),
     points: c.points,
     ...(c.given ? {} : { dashed: true }),
   }));
@@ -25,20 +33,17 @@ export function flowFractionChart(data: FlowFractionCurves): string {
 }
 
 export function velocityFieldChart(data: SectionVelocity): string {
-  const { section, holdup, maximum: peak } = data;
+  const { holdup, maximum: peak } = data;
   const um = DISPLAY.length.factor;
   const scale = 1 / peak.u;
-  const interfaceLine: [number, number][] =
-    section.orientation === 'side'
-      ? [[data.interfaceAt * um, 0], [data.interfaceAt * um, section.depth * um]]
-      : [[0, data.interfaceAt * um], [section.width * um, data.interfaceAt * um]];
+  const toDisplay = (points: Array<[number, number]>): Array<[number, number]> => points.map(([y, z]) => [y * um, z * um]);
   return heatmap({
     title: `Velocity over the cross-section (holdup ${holdup.toFixed(3)})`,
-    x: { label: 'across the width', unit: DISPLAY.length.symbol, domain: [0, section.width * um] },
-    y: { label: 'across the depth', unit: DISPLAY.length.symbol, domain: [0, section.depth * um] },
+    x: { label: 'across the width', unit: DISPLAY.length.symbol, domain: [0, data.width * um] },
+    y: { label: 'across the depth', unit: DISPLAY.length.symbol, domain: [0, data.height * um] },
     values: data.u.map((row) => row.map((u) => u * scale)),
     colour: { label: 'velocity / maximum', unit: '–', domain: [0, 1] },
-    lines: [{ name: 'interface', points: interfaceLine }],
+    lines: [{ name: 'interface', points: toDisplay(data.interfaceLine) }, ...(data.outline ? [{ name: 'wall', points: toDisplay(data.outline) }] : [])],
     points: [{ at: [peak.y * um, peak.z * um], label: `maximum (phase ${peak.phase})` }],
   });
 }

@@ -35,9 +35,19 @@ export function niceFloor(v: number): number {
   return [5, 2, 1].map((m) => m * decade).find((n) => n <= v * (1 + 1e-12))!;
 }
 
-/** Plan-view width of a channel, m. */
+/** Plan-view width of a channel (the top width of an etched or trapezoidal one), m. */
 export function planWidth(segment: ChipSegment): number {
-  return segment.section.shape === 'rect' ? segment.section.width : segment.section.diameter;
+  const s = segment.section;
+  switch (s.shape) {
+    case 'rect':
+      return s.width;
+    case 'tube':
+      return s.diameter;
+    case 'etched':
+      return s.maskWidth + 2 * s.depth;
+    case 'trapezoid':
+      return s.bottomWidth + (s.wallAngle >= Math.PI / 2 ? 0 : (2 * s.depth) / Math.tan(s.wallAngle));
+  }
 }
 
 export interface Placement {

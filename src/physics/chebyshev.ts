@@ -1,0 +1,229 @@
+/**
+ * Chebyshev–Lobatto building blocks of the spectral cross-section solver: nodes, the first
+ * derivative matrix and the Clenshaw–Curtis weights on [−1, 1], and a small dense LU for the
+ * per-strip systems, and the separable solver of a rectangle. Exports `chebyshevGrid`, `DenseLu`,
+ * `separableDirichlet`. Knows nothing about channels.
+ */
+import { EigenvalueDecomposition, inverse, Matrix } from 'ml-matrix';
+
+export interface ChebyshevGrid {
+  /** Nodes t_j = −cos(πj/n), j = 0 … n (increasing). */
+  nodes: Float64Array;
+  /** D[i·(n+1) + j] = ℓ_j′(t_i): the collocation first derivative. */
+  d1: Float64Array;
+  /** D² = D·D. */
+  d2: Float64Array;
+  /** Clenshaw–Curtis weights: Σ w_j f(t_j) = ∫₋₁¹ f exactly for polynomials of degree ≤ n. */
+  weights: Float64Array;
+}
+
+const grids = new Map<number, ChebyshevGrid>();
+
+/**
+ * The grid of degree n (cached). D is Trefethen's (Spectral Methods in MATLAB, 2000, program
+ * cheb.m) with the diagonal as minus the off-diagonal row sum (exact for constants, which keeps
+ * rounding low); the weights are those of Waldvogel (2006, BIT 46:195, eq. 2.2), by direct sum.
+ */
+export function chebyshevGrid(n: number): ChebyshevGrid {
+  let grid = grids.get(n);
+  if (grid) return grid;
+  const m = n + 1;
+  const nodes = new Float64Array(m);
+  for (let j = 0; j <= n; j++) nodes[j] = -Math.cos((Math.PI * j) / n);
+  const c = (j: number) => (j === 0 || j === n ? 2 : 1) * (j % 2 === 0 ? 1 : -1);
+  const d1 = new Float64Array(m * m);
+  for (let i = 0; i <= n; i++) {
+    let row = 0;
+    for (let j = 0; j <= n; j++) {
+      if (i === j) continue;
+      // D_ij = (c_i/c_j)/(t_i − t_j) holds for the nodes in either order: reversing them
+      // changes every barycentric weight by the same sign, which cancels in c_i/c_j.
+      const v = c(i) / c(j) / (nodes[i]! - nodes[j]!);
+      d1[i * m + j] = v;
+      row += v;
+    }
+    d1[i * m + i] = -row;
+  }
+  const d2 = new Float64Array(m * m);
+  for (let i = 0; i < m; i++) {
+    for (let k = 0; k < m; k++) {
+      const a = d1[i * m + k]!;
+      if (a === 0) continue;
+      for (let j = 0; j < m; j++) d2[i * m + j] += a * d1[k * m + j]!;
+    }
+  }
+  const weights = new Float64Array(m);
+  for (let j = 0; j <= n; j++) {
+    const theta = (Math.PI * j) / n;
+    let s = 1;
+    for (let k = 1; k <= Math.floor(n / 2); k++) {
+      const b = 2 * k === n ? 1 : 2;
+      s -= (b * Math.cos(2 * k * theta)) / (4 * k * k - 1);
+    }
+    weights[j] = ((j === 0 || j === n ? 1 : 2) * s) / n;
+  }
+  grid = { nodes, d1, d2, weights };
+  grids.set(n, grid);
+  return grid;
+}
+
+/**
+ * LU factors of a dense square matrix (row-major, factored in place) with partial pivoting
+ * (Golub & Van Loan, Matrix Computations, 4th ed., 2013, algorithm 3.4.1). `solveInPlace`
+ * overwrites k right-hand sides stored as the columns of a row-major n×k block.
+ */
+export class DenseLu {
+  readonly n: number;
+  private readonly a: Float64Array;
+  private readonly pivot: Int32Array;
+
+  constructor(a: Float64Array, n: number) {
+    this.n = n;
+    this.a = a;
+    this.pivot = new Int32Array(n);
+    for (let k = 0; k < n; k++) {
+      let p = k;
+      let best = Math.abs(a[k * n + k]!);
+      for (let i = k + 1; i < n; i++) {
+        const v = Math.abs(a[i * n + k]!);
+        if (v > best) {
+          best = v;
+          p = i;
+        }
+      }
+      if (best === 0) throw new RangeError(`singular collocation matrix at column ${k}`);
+      this.pivot[k] = p;
+      if (p !== k) {
+        for (let j = 0; j < n; j++) {
+          const t = a[k * n + j]!;
+          a[k * n + j] = a[p * n + j]!;
+          a[p * n + j] = t;
+        }
+      }
+      const inv = 1 / a[k * n + k]!;
+      for (let i = k + 1; i < n; i++) {
+        const f = (a[i * n + k]! *= inv);
+        if (f === 0) continue;
+        const ri = i * n;
+        const rk = k * n;
+        for (let j = k + 1; j < n; j++) a[ri + j]! -= f * a[rk + j]!;
+      }
+    }
+  }
+
+  solveInPlace(b: Float64Array, k: number): void {
+    const { n, a, pivot } = this;
+    for (let i = 0; i < n; i++) {
+      const p = pivot[i]!;
+      if (p !== i) {
+        for (let c = 0; c < k; c++) {
+          const t = b[i * k + c]!;
+          b[i * k + c] = b[p * k + c]!;
+          b[p * k + c] = t;
+        }
+      }
+    }
+    for (let i = 1; i < n; i++) {
+      for (let j = 0; j < i; j++) {
+        const f = a[i * n + j]!;
+        if (f === 0) continue;
+        for (let c = 0; c < k; c++) b[i * k + c]! -= f * b[j * k + c]!;
+      }
+    }
+    for (let i = n - 1; i >= 0; i--) {
+      for (let j = i + 1; j < n; j++) {
+        const f = a[i * n + j]!;
+        if (f === 0) continue;
+        for (let c = 0; c < k; c++) b[i * k + c]! -= f * b[j * k + c]!;
+      }
+      const inv = 1 / a[i * n + i]!;
+      for (let c = 0; c < k; c++) b[i * k + c]! *= inv;
+    }
+  }
+}
+
+interface Eigenbasis {
+  values: Float64Array;
+  vectors: Float64Array;
+  inverse: Float64Array;
+}
+
+const eigenbases = new Map<number, Eigenbasis>();
+
+/**
+ * Eigenvalues and eigenvectors of the interior block of D² (the second derivative with u = 0 at
+ * both ends), cached by degree. They are real and negative (Gottlieb & Lustman, 1983, SIAM J.
+ * Numer. Anal. 20:909); the decomposition checks it.
+ */
+function dirichletEigenbasis(n: number): Eigenbasis {
+  let basis = eigenbases.get(n);
+  if (basis) return basis;
+  const { d2 } = chebyshevGrid(n);
+  const m = n + 1;
+  const rows: number[][] = [];
+  for (let i = 1; i < n; i++) {
+    const row: number[] = [];
+    for (let j = 1; j < n; j++) row.push(d2[i * m + j]!);
+    rows.push(row);
+  }
+  const eig = new EigenvalueDecomposition(new Matrix(rows));
+  let largest = 0;
+  for (const v of eig.realEigenvalues) largest = Math.max(largest, Math.abs(v));
+  if (eig.imaginaryEigenvalues.some((v) => Math.abs(v) > 1e-9 * largest) || eig.realEigenvalues.some((v) => !(v < 0))) {
+    throw new RangeError(`interior D² of degree ${n} has eigenvalues off the negative axis`);
+  }
+  const V = eig.eigenvectorMatrix;
+  basis = { values: Float64Array.from(eig.realEigenvalues), vectors: Float64Array.from(V.to1DArray()), inverse: Float64Array.from(inverse(V).to1DArray()) };
+  eigenbases.set(n, basis);
+  return basis;
+}
+
+/**
+ * Solver of a·∂²u/∂ξ² + c·∂²u/∂η² = f at the interior Chebyshev nodes of an nx × ny grid with
+ * u = 0 on the edges, unknown (i, j) at row (i − 1)(ny − 1) + (j − 1): with D²_x = V Λ V⁻¹ and
+ * D²_y = W M W⁻¹, U = V [(V⁻¹ F W⁻ᵀ) ./ (aλ_i + cμ_j)] Wᵀ (fast diagonalisation; Lynch, Rice &
+ * Thomas, 1964, Numer. Math. 6:185). Cost O(nx·ny·(nx + ny)) per right-hand side.
+ */
+export function separableDirichlet(nx: number, ny: number, a: number, c: number): { solveInPlace(b: Float64Array, k: number): void } {
+  const X = dirichletEigenbasis(nx);
+  const Y = dirichletEigenbasis(ny);
+  const mx = nx - 1;
+  const my = ny - 1;
+  const F = new Float64Array(mx * my);
+  const T = new Float64Array(mx * my);
+  return {
+    solveInPlace(b, k) {
+      for (let col = 0; col < k; col++) {
+        for (let r = 0; r < mx * my; r++) F[r] = b[r * k + col]!;
+        leftProduct(X.inverse, F, T, mx, my);
+        rightProductTransposed(T, Y.inverse, F, mx, my);
+        for (let i = 0; i < mx; i++) for (let j = 0; j < my; j++) F[i * my + j]! /= a * X.values[i]! + c * Y.values[j]!;
+        leftProduct(X.vectors, F, T, mx, my);
+        rightProductTransposed(T, Y.vectors, F, mx, my);
+        for (let r = 0; r < mx * my; r++) b[r * k + col] = F[r]!;
+      }
+    },
+  };
+}
+
+/** into = M·F for M (mx × mx) and F (mx × my), row-major. */
+function leftProduct(M: Float64Array, F: Float64Array, into: Float64Array, mx: number, my: number): void {
+  into.fill(0);
+  for (let i = 0; i < mx; i++) {
+    for (let p = 0; p < mx; p++) {
+      const v = M[i * mx + p]!;
+      for (let j = 0; j < my; j++) into[i * my + j]! += v * F[p * my + j]!;
+    }
+  }
+}
+
+/** into = T·Mᵀ for T (mx × my) and M (my × my), row-major. */
+function rightProductTransposed(T: Float64Array, M: Float64Array, into: Float64Array, mx: number, my: number): void {
+  for (let i = 0; i < mx; i++) {
+    for (let j = 0; j < my; j++) {
+      let sum = 0;
+      for (let q = 0; q < my; q++) sum += T[i * my + q]! * M[j * my + q]!;
+      into[i * my + j] = sum;
+    }
+  }
+}
