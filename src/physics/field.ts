@@ -4,6 +4,7 @@
  * Uses the same mode solution as ./twoLayer.ts (there: flows; here: point values). SI units only.
  */
 import { layerAxes, type RectSection } from './section.js';
+import { modeConstants } from './twoLayer.js';
 
 /**
  * Point values converge like n⁻³; the cap bounds the cost for very deep, narrow layers. At the
@@ -27,13 +28,7 @@ export function velocityAt(across: number, along: number, holdup: number, muA: n
   const mu = inA ? muA : muB;
   let u = 0;
   for (let n = 1; n <= modes; n += 2) {
-    const lambda = (n * Math.PI) / along;
-    const m = 4 / (n * Math.PI * lambda * lambda);
-    const ta = Math.tanh(0.5 * lambda * a);
-    const tb = Math.tanh(0.5 * lambda * b);
-    const Ta = Math.tanh(lambda * a);
-    const Tb = Math.tanh(lambda * b);
-    const fI = (m * (ta + tb) * Ta * Tb) / (muA * Tb + muB * Ta);
+    const { lambda, m, fI } = modeConstants(n, a, b, along, muA, muB);
     const e = (d: number) => Math.exp(-lambda * d);
     const bulk = ((-Math.expm1(-lambda * x) * -Math.expm1(-lambda * (own - x))) / (1 + e(own))) * (m / mu);
     const wallSide = (e(own - x) * -Math.expm1(-2 * lambda * x)) / -Math.expm1(-2 * lambda * own);

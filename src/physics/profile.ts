@@ -11,7 +11,7 @@
  */
 import { SATURATED_HALF_ARGUMENT } from './constants.js';
 import { oddPowerTail } from './series.js';
-import type { TwoLayerInput } from './twoLayer.js';
+import { modeConstants, type TwoLayerInput } from './twoLayer.js';
 
 /**
  * Fewest series terms summed directly. Beyond the last one, the interior of each layer is given
@@ -34,27 +34,6 @@ export interface LayerFaces {
 export interface LayerCells {
   A: Float64Array;
   B: Float64Array;
-}
-
-/** Constants of mode n (odd) with λ = nπ/L and m = 4/(nπλ²); f_I is the interface value of f_n. */
-interface Mode {
-  lambda: number;
-  /** 2/(nπ): the depth average of sin(nπt/L). */
-  weight: number;
-  m: number;
-  fI: number;
-}
-
-function modeConstants(n: number, a: number, b: number, L: number, muA: number, muB: number): Mode {
-  const lambda = (n * Math.PI) / L;
-  const m = 4 / (n * Math.PI * lambda * lambda);
-  const ea = Math.exp(-lambda * a);
-  const eb = Math.exp(-lambda * b);
-  const ta = -Math.expm1(-lambda * a) / (1 + ea);
-  const tb = -Math.expm1(-lambda * b) / (1 + eb);
-  const Ta = -Math.expm1(-2 * lambda * a) / (1 + ea * ea);
-  const Tb = -Math.expm1(-2 * lambda * b) / (1 + eb * eb);
-  return { lambda, weight: 2 / (n * Math.PI), m, fI: (m * (ta + tb) * Ta * Tb) / (muA * Tb + muB * Ta) };
 }
 
 /** Largest odd index summed directly: every tanh of the layers has saturated beyond it. */

@@ -1,6 +1,6 @@
 /**
- * Single-phase laminar conductances: rectangular ducts, circular tubes, parallel plates.
- * Exports `rectConductance`, `tubeConductance`, `platesConductance`; each returns k with
+ * Single-phase laminar conductances: rectangular ducts and circular tubes.
+ * Exports `rectConductance` and `tubeConductance`; each returns k with
  * Q = k·G, G = −dp/dx, in m⁴/(Pa·s). SI units only.
  */
 import { SATURATED_HALF_ARGUMENT } from './constants.js';
@@ -28,7 +28,3 @@ export function tubeConductance(diameter: number, mu: number): number {
   return (Math.PI * diameter ** 4) / (128 * mu);
 }
 
-/** Plane Poiseuille flow between plates a gap h apart, per unit width: k = h³/(12μ) (White, 2006, eq. 3-40). */
-export function platesConductance(gap: number, mu: number): number {
-  return gap ** 3 / (12 * mu);
-}

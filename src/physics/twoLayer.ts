@@ -54,6 +54,39 @@ function oneMinusTanhOverX(x: number, tanhX: number): number {
   return 1 - tanhX / x;
 }
 
+/** Constants of mode n (odd), shared by the flows here, the point values of ./field.ts and the depth averages of ./profile.ts. */
+export interface ModeConstants {
+  /** λ = nπ/L, 1/m. */
+  lambda: number;
+  /** m = 4/(nπλ²). */
+  m: number;
+  /** 2/(nπ): the depth average of sin(nπt/L). */
+  weight: number;
+  /** exp(−λa), exp(−λb). */
+  ea: number;
+  eb: number;
+  /** tanh(λa/2), tanh(λb/2), tanh(λa), tanh(λb), from decaying exponentials only. */
+  ta: number;
+  tb: number;
+  Ta: number;
+  Tb: number;
+  /** The interface value f_I = m (t_a + t_b) T_a T_b / (μ_A T_b + μ_B T_a). */
+  fI: number;
+}
+
+/** The constants of mode n for layers a (phase A) and b (phase B) across, interface span L (see `mode`). */
+export function modeConstants(n: number, a: number, b: number, L: number, muA: number, muB: number): ModeConstants {
+  const lambda = (n * Math.PI) / L;
+  const m = 4 / (n * Math.PI * lambda * lambda);
+  const ea = Math.exp(-lambda * a);
+  const eb = Math.exp(-lambda * b);
+  const ta = -Math.expm1(-lambda * a) / (1 + ea);
+  const tb = -Math.expm1(-lambda * b) / (1 + eb);
+  const Ta = -Math.expm1(-2 * lambda * a) / (1 + ea * ea);
+  const Tb = -Math.expm1(-2 * lambda * b) / (1 + eb * eb);
+  return { lambda, m, weight: 2 / (n * Math.PI), ea, eb, ta, tb, Ta, Tb, fI: (m * (ta + tb) * Ta * Tb) / (muA * Tb + muB * Ta) };
+}
+
 /**
  * One Fourier mode n (odd) of the two-layer problem, per unit pressure gradient.
  *
@@ -72,27 +105,18 @@ function oneMinusTanhOverX(x: number, tanhX: number): number {
  * Writes [q_A, q_B, dq_A/da, dq_B/da] into `out`.
  */
 function mode(n: number, a: number, b: number, L: number, muA: number, muB: number, out: Float64Array): void {
-  const lambda = (n * Math.PI) / L;
+  const { lambda, m, ea, eb, ta, tb, Ta, Tb, fI } = modeConstants(n, a, b, L, muA, muB);
   const K = (2 * L) / (n * Math.PI);
-  const m = 4 / (n * Math.PI * lambda * lambda);
-
-  const ea = Math.exp(-lambda * a);
-  const eb = Math.exp(-lambda * b);
-  const ta = -Math.expm1(-lambda * a) / (1 + ea);
-  const tb = -Math.expm1(-lambda * b) / (1 + eb);
   const sa = (4 * ea) / ((1 + ea) * (1 + ea)); // sech²(λa/2)
   const sb = (4 * eb) / ((1 + eb) * (1 + eb));
   const Ea = ea * ea;
   const Eb = eb * eb;
-  const Ta = -Math.expm1(-2 * lambda * a) / (1 + Ea);
-  const Tb = -Math.expm1(-2 * lambda * b) / (1 + Eb);
   const Sa = (4 * Ea) / ((1 + Ea) * (1 + Ea)); // sech²(λa)
   const Sb = (4 * Eb) / ((1 + Eb) * (1 + Eb));
 
   const N = ta + tb;
   const P = Ta * Tb;
   const Dn = muA * Tb + muB * Ta;
-  const fI = (m * N * P) / Dn;
 
   const xa = 0.5 * lambda * a;
   const xb = 0.5 * lambda * b;

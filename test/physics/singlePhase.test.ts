@@ -5,7 +5,10 @@
  */
 import { describe, expect, it } from 'vitest';
 import { area, conductance, hydraulicDiameter, type RectSection } from '../../src/physics/section.js';
-import { platesConductance, rectConductance, tubeConductance } from '../../src/physics/singlePhase.js';
+import { rectConductance, tubeConductance } from '../../src/physics/singlePhase.js';
+
+/** Plane Poiseuille flow between plates a gap h apart, per unit width: k = h³/(12μ) (White, 2006, §3-3). */
+const platesConductance = (gap: number, mu: number) => gap ** 3 / (12 * mu);
 
 const relativeError = (got: number, want: number) => Math.abs(got - want) / Math.abs(want);
 
@@ -111,9 +114,9 @@ describe('tubeConductance', () => {
   });
 });
 
-describe('platesConductance', () => {
-  it('equals the plane Poiseuille profile u = G s(h − s)/(2μ) integrated across the gap, h³/(12μ)', () => {
-    // White 2006, §3-3, plane Poiseuille flow (eq. 3-40 per src; equation number from memory).
+describe('plane Poiseuille flow, the wide-duct limit', () => {
+  it('the reference formula equals the plane Poiseuille profile u = G s(h − s)/(2μ) integrated across the gap, h³/(12μ)', () => {
+    // White 2006, §3-3, plane Poiseuille flow (equation number from memory).
     const h = 30e-6;
     const mu = 6.5e-3;
     const flow = simpson((s) => (s * (h - s)) / (2 * mu), 0, h);
@@ -121,7 +124,7 @@ describe('platesConductance', () => {
     expect(relativeError(platesConductance(h, mu), h ** 3 / (12 * mu))).toBeLessThan(1e-15);
   });
 
-  it('is the per-width limit of a rectangular duct whose width grows without bound', () => {
+  it('is the per-width limit of rectConductance for a duct whose width grows without bound', () => {
     // White 2006, eq. 3-48 (from memory): k/w → h³/(12μ) with a relative end correction ≈ 0.630 h/w.
     const k = rectConductance(1, 1e-6, 1e-3);
     expect(relativeError(k, platesConductance(1e-6, 1e-3))).toBeLessThan(1e-5);
