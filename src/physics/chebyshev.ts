@@ -71,6 +71,10 @@ export function chebyshevGrid(n: number): ChebyshevGrid {
  * LU factors of a dense square matrix (row-major, factored in place) with partial pivoting
  * (Golub & Van Loan, Matrix Computations, 4th ed., 2013, algorithm 3.4.1). `solveInPlace`
  * overwrites k right-hand sides stored as the columns of a row-major n×k block.
+ * Written by hand rather than taken from ml-matrix (used for the network's dense LU): on the
+ * collocation matrices of the curved strips ml-matrix's LuDecomposition took 1.2–1.4× as long
+ * (n = 300: 38.6 against 33.0 ms; n = 625: 247 against 172 ms, this machine, loaded), and the
+ * holdup table of an etched section is already at its 1 s build budget.
  */
 export class DenseLu {
   readonly n: number;
