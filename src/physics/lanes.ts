@@ -1,14 +1,17 @@
 /**
  * The two lanes of a contactor as the network solver sees them: the conductance of each lane
  * (phase next to s = 0 and phase next to s = S) on the closed holdup interval 0 ≤ α ≤ 1, with
- * its derivatives in the holdup and in both lane viscosities. Exports `laneConductances` and
- * `EDGE_LAYER`. SI units only; no I/O, no state beyond the series' scratch vectors.
+ * its derivatives in the holdup and in both lane viscosities. Exports `laneConductances`
+ * (rectangles: the exact series), `shapedLaneConductances` (etched and trapezoidal sections:
+ * the interpolant of a HoldupTable, no solve per call), `LANE_VISCOSITY_STEP`, `EDGE_LAYER` and
+ * `EDGE_SECANT`. SI units only; no I/O, no state beyond the series' scratch vectors.
  *
  * A starved contactor sits exactly at α = 0 or 1 (one phase fills the channel), so the solver
  * must be able to ask for the edges; the series itself is defined on the open interval only.
  */
 import { rectConductance } from './singlePhase.js';
 import { twoLayerFlow } from './twoLayer.js';
+import type { HoldupTable } from './section.js';
 
 /**
  * Within this holdup of an edge the lanes are closed by a quadratic in the thin layer's share
@@ -103,5 +106,54 @@ function closedLanes(across: number, along: number, holdup: number, muNear: numb
   result.kFar = kF;
   result.dkNear = sign * dkNde;
   result.dkFar = sign * dkFde;
+  return result;
+}
+
+/**
+ * Relative step of the viscosity-ratio central difference of the shaped lanes: the tables at
+ * r(1 ± h) share their nodes and strip layout (they depend on the interface position only), so
+ * the discretisation error, smooth in r, cancels in the difference; the truncation error is
+ * about h² ≈ 1e-6 of the slope and rounding about 1e-13/h.
+ */
+export const LANE_VISCOSITY_STEP = 1e-3;
+
+/**
+ * Lanes of an etched or trapezoidal contactor at holdup α ∈ [0, 1], the near lane left of the
+ * interface (the shapes are symmetric, so left and right are interchangeable). Stokes flow is
+ * linear in 1/μ: k_i(μ_n, μ_f) = k_i(r, 1)/μ_f with r = μ_n/μ_f, so one table per ratio serves
+ * every viscosity pair; `tableAt(r)` returns the HoldupTable of (section, r, 1), whose stretch
+ * interpolants give k and dk/dα (section.ts). At α = 0 and 1 the thin lane carries nothing
+ * and its slope there is the secant over EDGE_SECANT, as for rectangles. Viscosity slopes:
+ * ∂k_i/∂μ_n = (∂k_i(r, 1)/∂r)/μ_f² by a central difference in r over the tables at r(1 ± h),
+ * and μ_n ∂k/∂μ_n + μ_f ∂k/∂μ_f = −k gives the other.
+ */
+export function shapedLaneConductances(tableAt: (ratio: number) => HoldupTable, holdup: number, muNear: number, muFar: number, viscositySlopes: boolean): LaneConductances {
+  const ratio = muNear / muFar;
+  const table = tableAt(ratio);
+  const k = table.flowsAt(holdup);
+  const result: LaneConductances = {
+    kNear: k.kA / muFar,
+    kFar: k.kB / muFar,
+    dkNear: k.dkA / muFar,
+    dkFar: k.dkB / muFar,
+    dkNearDMuNear: 0,
+    dkNearDMuFar: 0,
+    dkFarDMuNear: 0,
+    dkFarDMuFar: 0,
+  };
+  if (holdup === 0 || holdup === 1) {
+    const h = holdup === 1 ? -EDGE_SECANT : EDGE_SECANT;
+    const inside = table.flowsAt(holdup + h);
+    result.dkNear = (inside.kA - k.kA) / h / muFar;
+    result.dkFar = (inside.kB - k.kB) / h / muFar;
+  }
+  if (!viscositySlopes) return result;
+  const step = LANE_VISCOSITY_STEP * ratio;
+  const up = tableAt(ratio + step).flowsAt(holdup);
+  const down = tableAt(ratio - step).flowsAt(holdup);
+  result.dkNearDMuNear = (up.kA - down.kA) / (2 * step) / (muFar * muFar);
+  result.dkFarDMuNear = (up.kB - down.kB) / (2 * step) / (muFar * muFar);
+  result.dkNearDMuFar = (-result.kNear - muNear * result.dkNearDMuNear) / muFar;
+  result.dkFarDMuFar = (-result.kFar - muNear * result.dkFarDMuNear) / muFar;
   return result;
 }
