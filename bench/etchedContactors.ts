@@ -6,7 +6,6 @@
  * against its rectangular twin (timed after one solve of the twin): a first solve, the tables
  * built inside it, and a solve with the tables already built. Exports `benchEtchedContactors`. Fluids as in bench/network.ts.
  */
-import { shapedLaneConductances } from '../src/physics/lanes.js';
 import { shapedFlows, type ShapedSection } from '../src/physics/shapedSection.js';
 import { SectionTables } from '../src/solver/sectionTables.js';
 import { SolverWorkspace } from '../src/solver/newton.js';
@@ -26,14 +25,14 @@ export function benchEtchedContactors(): Row[] {
   const [muA, muB] = [etched.phases.A.viscosity, etched.phases.B.viscosity];
   const tables = new SectionTables();
   rows.push({ name: 'lane interpolant build, etched contactor 100 × 50 µm (one HoldupTable)', value: timeOnce(() => tables.shaped(contactor, muA / muB)) * MILLI, unit: 'ms' });
-  const lookup = (r: number) => tables.shaped(contactor, r);
+  const lanes = tables.lanes(contactor, muA, muB);
   let shift = 0;
-  const evaluation = medianSecondsPerCall(() => shapedLaneConductances(lookup, 0.3 + 1e-7 * (shift++ % 1000), muA, muB, false).kNear);
+  const evaluation = medianSecondsPerCall(() => lanes.conductances(0.3 + 1e-7 * (shift++ % 1000), muA, muB, false).kNear);
   rows.push({ name: 'lane conductances from the interpolant, one call', value: evaluation * MICRO, unit: 'µs' });
   let worst = 0;
   for (const alpha of [0.002, 0.03, 0.12, 0.3, 0.5, 0.7, 0.88, 0.97, 0.998]) {
     const direct = shapedFlows(contactor, alpha, muA, muB);
-    const k = shapedLaneConductances(lookup, alpha, muA, muB, false);
+    const k = lanes.conductances(alpha, muA, muB, false);
     worst = Math.max(worst, Math.max(Math.abs(k.kNear - direct.kA), Math.abs(k.kFar - direct.kB)) / (direct.kA + direct.kB));
   }
   rows.push({ name: 'lane interpolant error against the direct solve (largest of 9 holdups, 0.002 to 0.998, share of the total flow)', value: worst, unit: 'relative' });

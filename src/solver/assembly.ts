@@ -13,7 +13,7 @@
  * every split leak and merge crossover (without it, a complementarity row on pressures alone
  * would force its flow to jump as τ → 0).
  */
-import { laneConductances, shapedLaneConductances, type LaneConductances } from '../physics/lanes.js';
+import { laneConductances, type LaneConductances } from '../physics/lanes.js';
 import { SectionTables } from './sectionTables.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { TripletBuilder } from './sparseMatrix.js';
@@ -162,7 +162,7 @@ export class NetworkEquations {
     const k =
       section.shape === 'rect'
         ? laneConductances(el.across, el.along, alpha, muN, muF, slopes)
-        : shapedLaneConductances((ratio) => this.tables.shaped(section, ratio), alpha, muN, muF, slopes);
+        : this.tables.lanes(section, this.muA, this.muB).conductances(alpha, muN, muF, slopes);
     this.laneMemo[c] = { alpha, muN, muF, slopes, k };
     return k;
   }
