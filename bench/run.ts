@@ -9,6 +9,7 @@
 import { formatTable, type Row } from './report.js';
 import { benchSection } from './section.js';
 import { benchShapedSection } from './shapedSection.js';
+import { benchEtchedContactors } from './etchedContactors.js';
 import { benchRender } from './render.js';
 import { benchNetwork } from './network.js';
 import { benchTolerance } from './tolerance.js';
@@ -26,6 +27,7 @@ interface Benchmark {
 const BENCHMARKS: Benchmark[] = [
   { name: 'section', run: benchSection },
   { name: 'shaped-section', run: benchShapedSection },
+  { name: 'etched-contactors', run: benchEtchedContactors },
   { name: 'render', run: benchRender },
   { name: 'network', run: benchNetwork },
   { name: 'maldistribution', run: benchMaldistribution },

@@ -5,8 +5,8 @@
  * it meets the curved or sloping wall; building a HoldupTable; one inversion by the table and
  * the table's largest holdup error against the direct inversion; and the 256-contactor ladder
  * of bench/network.ts with etched manifolds, feeds and drains against its rectangular twin
- * (contactors stay rectangular: the network solver takes only rectangles). Exports
- * `benchShapedSection`. The fluids are invented demo values (6.5 and 1.9 mPa·s).
+ * (contactors stay rectangular here; bench/etchedContactors.ts etches them too). Exports
+ * `benchShapedSection`, `etchedTwin` and `timeOnce`. The fluids are invented demo values (6.5 and 1.9 mPa·s).
  */
 import { HoldupTable, holdupForFlowFraction, type ShapedSection } from '../src/physics/section.js';
 import { shapedTwoLayerFlow } from '../src/physics/shapedSection.js';
@@ -30,19 +30,20 @@ const TWIN_RATIO_TARGET = 2;
 const MICRO = 1e6;
 const MILLI = 1e3;
 
-function timeOnce(fn: () => unknown): number {
+/** Seconds of one call (for what is too slow, or changes too much on a repeat, for the median timer). */
+export function timeOnce(fn: () => unknown): number {
   const start = performance.now();
   fn();
   return (performance.now() - start) / 1000;
 }
 
-/** The ladder with every non-contactor rectangle replaced by an etched channel as wide at the bottom and as deep. */
-function etchedTwin(contactors: number) {
+/** The ladder with every non-contactor rectangle (with `contactors`, every rectangle) replaced by an etched channel as wide at the bottom and as deep. */
+export function etchedTwin(contactors: number, etchContactors = false) {
   const layout = designedLadderLayout(contactors);
   const twin = {
     ...layout,
     segments: layout.segments.map((s): LayoutSegment => {
-      if (s.shape !== 'rect' || s.group === 'contactor') return s;
+      if (s.shape !== 'rect' || (s.group === 'contactor' && !etchContactors)) return s;
       const { width, orientation: _o, ...rest } = s;
       return { ...rest, shape: 'etched', maskWidth: width };
     }),

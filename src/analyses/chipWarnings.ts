@@ -8,6 +8,7 @@
 import { max as maxOf, min as minOf } from 'd3-array';
 import { DISPLAY, show } from '../units/format.js';
 import type { Network } from '../network/assemble.js';
+import { layersStacked } from '../physics/section.js';
 import type { NetworkSolution } from '../solver/newton.js';
 import type { ChipSummary, ContactorResult, SegmentResult, SplitResult } from './chip.js';
 
@@ -76,7 +77,7 @@ function regimeWarnings(network: Network, rows: readonly ContactorResult[]): str
   rows.forEach((row, c) => {
     if (row.reynolds > FLOW_REGIME_LIMITS.reynolds) regime.reynolds.push([row.id, row.reynolds]);
     if (row.capillary !== null && row.capillary > FLOW_REGIME_LIMITS.capillary) regime.capillary.push([row.id, row.capillary]);
-    if (row.bond !== null && row.bond > FLOW_REGIME_LIMITS.bond && network.contactors[c]!.section.orientation === 'side') regime.bond.push([row.id, row.bond]);
+    if (row.bond !== null && row.bond > FLOW_REGIME_LIMITS.bond && !layersStacked(network.contactors[c]!.section)) regime.bond.push([row.id, row.bond]);
   });
   const regimeText = {
     reynolds: `Reynolds number above ${FLOW_REGIME_LIMITS.reynolds}: inertia may disturb the stratified flow`,

@@ -4,8 +4,8 @@
  * contactors, split leak paths), boundary conditions, and the nominal phase of every port.
  * Exports `assembleNetwork` and the network types. Does no solving.
  */
-import { conductance, layerAxes, type RectSection } from '../physics/section.js';
-import { rectConductance } from '../physics/singlePhase.js';
+import { conductance, layerAxes, type TwoLayerSection } from '../physics/section.js';
+import { wallProfileOf } from '../physics/shapedSection.js';
 import type { Chip, ChipNode, ChipSegment, PhaseName, SplitNode } from './model.js';
 import { splitWindowOf, spannedDimension } from './topology.js';
 
@@ -34,7 +34,11 @@ export interface PlainElement {
 export interface ContactorElement {
   kind: 'contactor';
   segment: ChipSegment;
-  section: RectSection;
+  section: TwoLayerSection;
+  /**
+   * The dimension the layers share out and the one the interface spans: a rectangle's per its
+   * orientation; an etched or trapezoidal section's top width and depth (layers side by side).
+   */
   across: number;
   along: number;
   /** Ports at the start (merge) and end (split or plain node) of each lane. */
@@ -100,10 +104,10 @@ export function assembleNetwork(chip: Chip): Network {
   for (const segment of chip.segments) {
     const from = nodeById.get(segment.from)!;
     if (from.kind === 'merge') {
-      const section = segment.section as RectSection;
+      const section = segment.section as TwoLayerSection;
       const [nearIn, farIn] = portsOf.get(from.id)!;
       const endPorts = portsOf.get(segment.to)!;
-      const { across, along } = layerAxes(section);
+      const { across, along } = section.shape === 'rect' ? layerAxes(section) : { across: wallProfileOf(section).topWidth, along: section.depth };
       const mu = Math.sqrt(chip.phases.A.viscosity * chip.phases.B.viscosity);
       contactors.push({
         kind: 'contactor',
@@ -115,7 +119,7 @@ export function assembleNetwork(chip: Chip): Network {
         farIn: farIn!,
         nearOut: endPorts[0]!,
         farOut: endPorts[endPorts.length - 1]!,
-        scale: rectConductance(section.width, section.depth, mu) / segment.length,
+        scale: conductance(section, mu) / segment.length,
       });
     } else {
       plains.push({ kind: 'plain', segment, from: portAt(segment.from, segment.id), to: portAt(segment.to, segment.id), r0: segment.length / conductance(segment.section, 1) });

@@ -5,6 +5,7 @@
  */
 import { StratiflowError, StratiflowErrors } from '../errors.js';
 import type { Chip, ChipNode, ChipSegment, SplitNode } from './model.js';
+import { interfaceSpan } from '../physics/shapedSection.js';
 
 /** A contactor is a segment that starts at a merge: it carries the stratified co-flow. */
 export function isContactor(chip: Chip, segment: ChipSegment): boolean {
@@ -29,10 +30,18 @@ export function splitWindowOf(chip: Chip, split: SplitNode, spannedDimension: nu
   return [(2 * g * Math.cos(chip.contactAngle.advancing)) / spannedDimension, (2 * g * Math.cos(chip.contactAngle.receding)) / spannedDimension];
 }
 
-/** The dimension the interface spans in a rectangular contactor. */
+/**
+ * The span the interface crosses in a contactor, m: a rectangle's depth (side by side) or width
+ * (stacked); in an etched or trapezoidal section the depth under the interface at holdup ½
+ * (interfaceSpan of the section code), which is the full depth: the interface then stands over
+ * the flat bottom, or at the apex of a half-disc or triangle. Where the interface stands over a
+ * curved or sloping wall the span is shorter and the window wider, so this is the narrowest
+ * window the contactor can have (the window does not follow the solved holdup).
+ */
 export function spannedDimension(segment: ChipSegment): number {
   const s = segment.section;
-  if (s.shape !== 'rect') return NaN;
+  if (s.shape === 'tube') return NaN;
+  if (s.shape !== 'rect') return interfaceSpan(s, 0.5);
   return s.orientation === 'side' ? s.depth : s.width;
 }
 
@@ -80,7 +89,7 @@ export function checkTopology(chip: Chip): void {
       if (arriving(n.id).length !== 2) fail(element, `a merge needs exactly two arriving segments (its inlets), found ${arriving(n.id).length}`, 'inlets');
       const out = leaving(n.id);
       if (out.length !== 1) fail(element, `a merge needs exactly one leaving segment (the contactor), found ${out.length}`);
-      else if (out[0]!.section.shape !== 'rect') fail(`segment ${out[0]!.id}`, 'a contactor must be rectangular', 'shape');
+      else if (out[0]!.section.shape === 'tube') fail(`segment ${out[0]!.id}`, 'a contactor must be rectangular, etched or trapezoidal (not a tube)', 'shape');
     }
     if (n.kind === 'split') {
       const into = arriving(n.id);

@@ -100,6 +100,11 @@ export function conductance(section: Section, mu: number): number {
   return section.shape === 'rect' ? rectConductance(section.width, section.depth, mu) : tubeConductance(section.diameter, mu);
 }
 
+/** Whether the layers lie one above the other (a rectangle's `stacked`; shaped sections are side by side). */
+export function layersStacked(section: TwoLayerSection): boolean {
+  return section.shape === 'rect' && section.orientation === 'stacked';
+}
+
 /** The dimension the layers lie across and the one the interface spans. */
 export function layerAxes(section: RectSection): { across: number; along: number } {
   return section.orientation === 'side'
@@ -351,38 +356,11 @@ export class HoldupTable {
    */
   private interpolated(j: number, guess: number, flowFraction: number): TwoPhaseState {
     const n = SHAPED_TABLE_DEGREE;
-    const stretch = Math.min(Math.floor(j / n), (this.alpha.length - 1) / n - 1);
-    const first = stretch * n;
+    const first = Math.min(Math.floor(j / n), (this.alpha.length - 1) / n - 1) * n;
     const lo = this.alpha[first]!;
     const hi = this.alpha[first + n]!;
-    const f = this.flows!;
     const v = SCRATCH;
-    const map = stretchMap(lo, hi);
-    const evaluate = (alpha: number) => {
-      const t = map.t(alpha);
-      const dAlpha = map.dAlpha(t);
-      const toAlpha = () => {
-        v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
-        v[3] = dAlpha === 0 ? 0 : v[3]! / dAlpha;
-      };
-      const nodes = chebyshevGrid(n).nodes;
-      v.fill(0);
-      let weightSum = 0;
-      for (let i = 0; i <= n; i++) {
-        const d = t - nodes[i]!;
-        const base = 4 * (first + i);
-        if (d === 0) {
-          for (let c = 0; c < 4; c++) v[c] = f[base + c]!;
-          toAlpha();
-          return;
-        }
-        const w = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / d;
-        weightSum += w;
-        for (let c = 0; c < 4; c++) v[c]! += w * f[base + c]!;
-      }
-      for (let c = 0; c < 4; c++) v[c]! /= weightSum;
-      toAlpha();
-    };
+    const evaluate = (alpha: number) => this.evaluateStretch(first, alpha);
     let alpha = guess;
     for (let step = 0; step < 8; step++) {
       evaluate(alpha);
@@ -398,6 +376,53 @@ export class HoldupTable {
     const [kA, kB, dkA, dkB] = [v[0]!, v[1]!, v[2]!, v[3]!];
     const k = kA + kB;
     return { holdup: alpha, flowFraction, dFlowFraction: (dkA * kB - kA * dkB) / (k * k), kA, kB, dkA, dkB };
+  }
+
+  /**
+   * A shaped section's k_A, k_B and their slopes in α at holdup α ∈ [0, 1], from the polynomial
+   * interpolant of the stretch that holds α (no solve): the lane conductances of a contactor
+   * (lanes.ts). At α = 0 and 1 they are the node values (one phase fills the section, the
+   * other's flow and slope are 0).
+   */
+  flowsAt(alpha: number): { kA: number; kB: number; dkA: number; dkB: number } {
+    if (!this.flows) throw new RangeError('flowsAt answers for etched and trapezoidal sections only');
+    const n = SHAPED_TABLE_DEGREE;
+    const last = this.alpha.length - 1 - n;
+    let first = 0;
+    while (first < last && this.alpha[first + n]! <= alpha) first += n;
+    this.evaluateStretch(first, alpha);
+    return { kA: SCRATCH[0]!, kB: SCRATCH[1]!, dkA: SCRATCH[2]!, dkB: SCRATCH[3]! };
+  }
+
+  /** Barycentric interpolation of [k_A, k_B, dk_A/dα, dk_B/dα] on the stretch starting at node `first`, into SCRATCH. */
+  private evaluateStretch(first: number, alpha: number): void {
+    const n = SHAPED_TABLE_DEGREE;
+    const f = this.flows!;
+    const v = SCRATCH;
+    const map = stretchMap(this.alpha[first]!, this.alpha[first + n]!);
+    const t = map.t(alpha);
+    const dAlpha = map.dAlpha(t);
+    const toAlpha = () => {
+      v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
+      v[3] = dAlpha === 0 ? 0 : v[3]! / dAlpha;
+    };
+    const nodes = chebyshevGrid(n).nodes;
+    v.fill(0);
+    let weightSum = 0;
+    for (let i = 0; i <= n; i++) {
+      const d = t - nodes[i]!;
+      const base = 4 * (first + i);
+      if (d === 0) {
+        for (let c = 0; c < 4; c++) v[c] = f[base + c]!;
+        toAlpha();
+        return;
+      }
+      const w = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / d;
+      weightSum += w;
+      for (let c = 0; c < 4; c++) v[c]! += w * f[base + c]!;
+    }
+    for (let c = 0; c < 4; c++) v[c]! /= weightSum;
+    toAlpha();
   }
 
   private interval(phi: number): number {

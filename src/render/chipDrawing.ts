@@ -84,7 +84,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const captions = [
     place.note,
     'Contactors: phase A and B as two bands, the interface as a black line at the solved holdup; the near side (first merge inlet) lies on the left looking downstream.',
-    ...(network.contactors.some((c) => c.section.orientation === 'stacked')
+    ...(network.contactors.some((c) => (c.section.shape === 'rect' && c.section.orientation === 'stacked'))
       ? ['Contactors with stacked layers are drawn as if turned on their side: their bands show the shares of the depth.']
       : []),
     ...(extraction ? [extractionCaption(extraction, contactorSegments)] : []),

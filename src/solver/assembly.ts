@@ -14,6 +14,7 @@
  * would force its flow to jump as τ → 0).
  */
 import { laneConductances, type LaneConductances } from '../physics/lanes.js';
+import { SectionTables } from './sectionTables.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { TripletBuilder } from './sparseMatrix.js';
 import { laneLaw, mergeState, plainLaw, splitLaw, type FeedBranch, type SplitBranch } from './elements.js';
@@ -79,8 +80,11 @@ export class NetworkEquations {
   private readonly rowFactor: Float64Array;
   private readonly laneMemo: Array<{ alpha: number; muN: number; muF: number; slopes: boolean; k: LaneConductances } | undefined>;
 
-  constructor(net: Network, map: UnknownMap) {
+  private readonly tables: SectionTables;
+
+  constructor(net: Network, map: UnknownMap, tables = new SectionTables()) {
     this.net = net;
+    this.tables = tables;
     this.map = map;
     const n = map.size;
     this.F = new Float64Array(n);
@@ -154,7 +158,11 @@ export class NetworkEquations {
     const memo = this.laneMemo[c];
     if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF && (memo.slopes || !slopes)) return memo.k;
     const el = this.net.contactors[c]!;
-    const k = laneConductances(el.across, el.along, alpha, muN, muF, slopes);
+    const section = el.section;
+    const k =
+      section.shape === 'rect'
+        ? laneConductances(el.across, el.along, alpha, muN, muF, slopes)
+        : this.tables.lanes(section, this.muA, this.muB).conductances(alpha, muN, muF, slopes);
     this.laneMemo[c] = { alpha, muN, muF, slopes, k };
     return k;
   }

@@ -13,7 +13,8 @@
  * Euler step of the chip's start-up with a local time step τ per row. τ grows again as the
  * residual falls, τ_{k+1} = τ_k·‖F_k‖/‖F_{k+1}‖, back to Newton's method and its quadratic end.
  */
-import { HoldupTable } from '../physics/section.js';
+import type { HoldupTable } from '../physics/section.js';
+import { SectionTables } from './sectionTables.js';
 import { SingularMatrixError } from './linear.js';
 import { Matrix, QrDecomposition } from 'ml-matrix';
 import { SOLVER_DEFAULTS, type SolverOptions } from './defaults.js';
@@ -109,18 +110,10 @@ export type WarmStart = Pick<NetworkSolution, 'pressure' | 'holdup' | 'leak' | '
  */
 export class SolverWorkspace {
   readonly factors = new FactorCache();
-  private readonly tables = new Map<string, HoldupTable>();
-  private static readonly TABLES = 256;
+  readonly tables = new SectionTables();
 
   holdupTable(c: ContactorElement, muNear: number, muFar: number): HoldupTable {
-    const key = `${c.section.width}|${c.section.depth}|${c.section.orientation}|${muNear}|${muFar}`;
-    let table = this.tables.get(key);
-    if (!table) {
-      table = new HoldupTable(c.section, muNear, muFar);
-      if (this.tables.size >= SolverWorkspace.TABLES) this.tables.clear();
-      this.tables.set(key, table);
-    }
-    return table;
+    return this.tables.holdup(c.section, muNear, muFar);
   }
 }
 
@@ -190,7 +183,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
 
 function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode): NetworkSolution {
   const map = new UnknownMap(net);
-  const eq = new NetworkEquations(net, map);
+  const eq = new NetworkEquations(net, map, workspace.tables);
   const { alphaAt, leakAt, compAt, size: n, freePorts, unknownOf } = map;
   const { ports, contactors, splits } = net;
   const muA = net.chip.phases.A.viscosity;

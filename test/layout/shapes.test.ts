@@ -80,8 +80,13 @@ describe('the loader on bad shape keys', () => {
     expect(problemsOf(bad)).toEqual(['chip.yaml: segment oA: wallAngle: "120 deg" is outside the range of a wall angle (5 deg to 90 deg)']);
   });
 
-  it('refuses an etched contactor with one line', () => {
+  it('refuses a tube as a contactor with one line', () => {
+    const layout = withSegment('k', ({ width: _w, depth: _d, orientation: _o, ...s }) => ({ ...s, shape: 'tube', diameter: '100 um' }) as LayoutSegment);
+    expect(problemsOf(layout)).toEqual(['chip.yaml: segment k: shape: a contactor must be rectangular, etched or trapezoidal (not a tube)']);
+  });
+
+  it('accepts an etched contactor', () => {
     const layout = withSegment('k', ({ width: _w, orientation: _o, ...s }) => ({ ...s, shape: 'etched', maskWidth: '100 um' }) as LayoutSegment);
-    expect(problemsOf(layout)).toEqual(['chip.yaml: segment k: shape: a contactor must be rectangular']);
+    expect(problemsOf(layout)).toEqual([]);
   });
 });

@@ -33,7 +33,7 @@ export function drawContactors(
     const approachFill = extraction?.fill.get(c.segment.id);
     const approachText = extraction?.label.get(c.segment.id);
     const g = el(group, 'g', {
-      class: `contactor${c.section.orientation === 'stacked' ? ' stacked' : ''}${approachFill !== undefined ? ' by-approach' : ''}`,
+      class: `contactor${(c.section.shape === 'rect' && c.section.orientation === 'stacked') ? ' stacked' : ''}${approachFill !== undefined ? ' by-approach' : ''}`,
       'data-segment': c.segment.id,
       'data-index': String(row.index),
       'data-near-phase': nearIsA ? 'A' : 'B',

@@ -1,0 +1,53 @@
+/**
+ * Etched contactors in the network solve: the lane interpolant of an etched contactor (the
+ * HoldupTable of the shape at the viscosity ratio, section.ts) — its build time, one lane
+ * evaluation, and its largest error against the direct spectral solve — and the 256-contactor
+ * ladder of bench/network.ts with every channel etched (contactors 100 µm mask × 50 µm deep)
+ * against its rectangular twin (timed after one solve of the twin): a first solve, the tables
+ * built inside it, and a solve with the tables already built. Exports `benchEtchedContactors`. Fluids as in bench/network.ts.
+ */
+import { shapedFlows, type ShapedSection } from '../src/physics/shapedSection.js';
+import { SectionTables } from '../src/solver/sectionTables.js';
+import { SolverWorkspace } from '../src/solver/newton.js';
+import { solveChip } from '../src/analyses/chip.js';
+import { etchedTwin, timeOnce } from './shapedSection.js';
+import { medianSecondsPerCall, type Row } from './report.js';
+
+/** Target of the issue: the etched chip solves within 2× the time of its rectangular twin. */
+const TWIN_RATIO_TARGET = 2;
+const MILLI = 1e3;
+const MICRO = 1e6;
+
+export function benchEtchedContactors(): Row[] {
+  const rows: Row[] = [];
+  const { rect, etched } = etchedTwin(256, true);
+  const contactor = etched.segments.find((s) => s.group === 'contactor')!.section as ShapedSection;
+  const [muA, muB] = [etched.phases.A.viscosity, etched.phases.B.viscosity];
+  const tables = new SectionTables();
+  rows.push({ name: 'lane interpolant build, etched contactor 100 × 50 µm (one HoldupTable)', value: timeOnce(() => tables.shaped(contactor, muA / muB)) * MILLI, unit: 'ms' });
+  const lanes = tables.lanes(contactor, muA, muB);
+  let shift = 0;
+  const evaluation = medianSecondsPerCall(() => lanes.conductances(0.3 + 1e-7 * (shift++ % 1000), muA, muB, false).kNear);
+  rows.push({ name: 'lane conductances from the interpolant, one call', value: evaluation * MICRO, unit: 'µs' });
+  let worst = 0;
+  for (const alpha of [0.002, 0.03, 0.12, 0.3, 0.5, 0.7, 0.88, 0.97, 0.998]) {
+    const direct = shapedFlows(contactor, alpha, muA, muB);
+    const k = lanes.conductances(alpha, muA, muB, false);
+    worst = Math.max(worst, Math.max(Math.abs(k.kNear - direct.kA), Math.abs(k.kFar - direct.kB)) / (direct.kA + direct.kB));
+  }
+  rows.push({ name: 'lane interpolant error against the direct solve (largest of 9 holdups, 0.002 to 0.998, share of the total flow)', value: worst, unit: 'relative' });
+
+  // One solve of each before timing, so that neither pays for compiling the solver.
+  solveChip(rect);
+  const rectSeconds = timeOnce(() => solveChip(rect));
+  const workspace = new SolverWorkspace();
+  const firstSeconds = timeOnce(() => solveChip(etched, {}, undefined, workspace));
+  const first = solveChip(etched, {}, undefined, workspace).result;
+  const warmSeconds = timeOnce(() => solveChip(etched, {}, undefined, workspace));
+  rows.push({ name: '256-contactor ladder, rectangular: solve', value: rectSeconds * MILLI, unit: 'ms' });
+  rows.push({ name: `the same etched throughout: first solve, tables built inside (${first.converged ? 'converged' : 'NOT converged'}, ${first.iterations} steps)`, value: firstSeconds * MILLI, unit: 'ms' });
+  rows.push({ name: 'the same etched throughout: solve with the tables built', value: warmSeconds * MILLI, unit: 'ms' });
+  rows.push({ name: 'etched / rectangular solve time, 256 contactors, tables built', value: warmSeconds / rectSeconds, unit: '×', target: TWIN_RATIO_TARGET });
+  rows.push({ name: 'etched / rectangular solve time, 256 contactors, first solve', value: firstSeconds / rectSeconds, unit: '×' });
+  return rows;
+}
