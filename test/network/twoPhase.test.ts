@@ -602,6 +602,17 @@ describe('robustness of the solve', () => {
     expectStatedStates(result, raw);
   });
 
+  // Regression: letting the last stage of the composition homotopy fall back in every attempt
+  // sent the generator's default 16-contactor ladder through all attempts (2000 steps) without
+  // settling; it settles in the first.
+  it('settles the default 16-contactor ladder of the generator in its first attempt', () => {
+    const chip = layoutToChip(ladderLayout({ contactors: 16 }), 'default 16');
+    const { result } = solveChip(chip);
+    expect(result.converged, `${result.message ?? ''}`).toBe(true);
+    // The first attempt may take up to maxIterations (400) steps.
+    expect(result.iterations).toBeLessThanOrEqual(400);
+  });
+
   // Regression: with both collectors leaving at the inlet end (U-type), the plain cold start
   // stalls on this chip with feeds wrongly starved (at 128 contactors too: 313 steps from three
   // starts), and the first Picard start stalled in its Newton polish on contactors of the dead
