@@ -33,6 +33,8 @@ const STAGE_STEPS = 25;
 /** Picard sweeps at most, and active-set Newton steps per sweep, in the Picard start. */
 const PICARD_SWEEPS = 200;
 const PICARD_INNER_STEPS = 12;
+/** The frozen-holdup network of a sweep is solved to this share of the smaller phase throughput. */
+const PICARD_INNER_SETTLED = 1e-11;
 /**
  * The sweeps have settled when no holdup moves by more than this, each weighed by the share of
  * the throughput its lanes carry (a holdup change moves flow in that proportion).
@@ -366,6 +368,21 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   };
 
   /**
+   * The holdup whose flow fraction contactor c's lanes carry at the last evaluation (the holdup
+   * table inverted), or `edge` beyond 0 or 1 when one lane runs against the contactor's net
+   * flow; undefined when the lanes carry `stagnant` or less (m³/s) or no defined fraction.
+   */
+  const holdupOfLanes = (c: number, edge: number, stagnant: number): number | undefined => {
+    const qn = eq.laneFlow[2 * c]!;
+    const qf = eq.laneFlow[2 * c + 1]!;
+    const phi = qn / (qn + qf);
+    if (!Number.isFinite(phi) || Math.abs(qn) + Math.abs(qf) <= stagnant) return undefined;
+    if (phi <= 0) return -edge;
+    if (phi >= 1) return 1 + edge;
+    return workspace.holdupTable(contactors[c]!, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
+  };
+
+  /**
    * Picard sweeps on the holdups: with every open contactor's holdup frozen, the network is a
    * piecewise-linear one (lanes as fixed resistors, split windows, starved contactors'
    * crossovers), solved by active-set Newton steps; then each holdup is set to the one whose
@@ -373,9 +390,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * gradient. The plain map contracts by the share of a contactor's loop resistance that lies in
    * its own lanes, and slowly where a layer thins toward a wall (its lane conductance goes as
    * its thickness squared), so the sweeps are Anderson-accelerated (Walker & Ni, 2011, SIAM J.
-   * Numer. Anal. 49:1715; depth ANDERSON_DEPTH, history cleared whenever a feed opens or
-   * closes). A layer the accelerated sweep carries through a wall closes: its phase starves, and
-   * the crossover decides at the next sweep whether it opens again.
+   * Numer. Anal. 49:1715; depth ANDERSON_DEPTH). A feed that opens or closes leaves the history
+   * (its entries zeroed), or with `restartOnSwitch` clears it. A layer the accelerated sweep
+   * carries through a wall closes: its phase starves, and the inner steps' crossover decides
+   * whether it opens again.
    */
   function picardSweeps(restartOnSwitch: boolean): void {
     const nc = contactors.length;
@@ -389,7 +407,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       for (let inner = 0; inner < PICARD_INNER_STEPS; inner++) {
         eq.evaluate(x, settings(false, 'open'));
         reference = eq.flowReference();
-        if (settled(1e-11 * reference)) break;
+        if (settled(PICARD_INNER_SETTLED * reference)) break;
         apply(x.slice(), step(Infinity, 'open'), 1);
       }
       if (iterations >= opt.maxIterations / 2) return;
@@ -397,19 +415,15 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       const g = new Float64Array(nc);
       // Contactors whose feed opened or closed in this sweep: they leave the acceleration.
       const switched = new Uint8Array(nc);
-      for (const [c, el] of contactors.entries()) {
+      for (let c = 0; c < nc; c++) {
         const z = x[alphaAt + c]!;
         g[c] = z;
         if (z > 0 && z < 1) {
-          const qn = eq.laneFlow[2 * c]!;
-          const qf = eq.laneFlow[2 * c + 1]!;
-          const phi = qn / (qn + qf);
           // A stagnant contactor (lane flows at the rounding level) keeps its holdup.
-          if (!Number.isFinite(phi) || Math.abs(qn) + Math.abs(qf) <= STAGNANT * reference) continue;
-          if (phi <= 0 || phi >= 1) {
-            g[c] = phi <= 0 ? -EDGE : 1 + EDGE;
-            switched[c] = 1;
-          } else g[c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
+          const holdup = holdupOfLanes(c, EDGE, STAGNANT * reference);
+          if (holdup === undefined) continue;
+          g[c] = holdup;
+          if (holdup <= 0 || holdup >= 1) switched[c] = 1;
         }
         // A starved contactor's crossover is an unknown of the inner steps, and a step that
         // carries its z inside (0, 1) opens the feed again.
@@ -472,13 +486,9 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       apply(x.slice(), linearised(Infinity, true), 1);
       iterations++;
       eq.evaluate(x, settings(false, true));
-      for (const [c, el] of contactors.entries()) {
-        const qn = eq.laneFlow[2 * c]!;
-        const qf = eq.laneFlow[2 * c + 1]!;
-        const phi = qn / (qn + qf);
-        if (!Number.isFinite(phi)) continue;
-        if (phi <= 0 || phi >= 1) x[alphaAt + c] = phi <= 0 ? 0 : 1;
-        else x[alphaAt + c] = workspace.holdupTable(el, mix(eq.laneComposition[2 * c]!), mix(eq.laneComposition[2 * c + 1]!)).solve(phi).holdup;
+      for (let c = 0; c < contactors.length; c++) {
+        const holdup = holdupOfLanes(c, 0, 0);
+        if (holdup !== undefined) x[alphaAt + c] = holdup;
       }
       eq.rescale(x);
       if (picard !== 'off') picardSweeps(picard === 'restart');
@@ -499,8 +509,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       // In the Picard attempts the last stage (coupling 1) may fall back too; the plain attempt
       // keeps its last stage to the end, which settles the default 16-contactor ladder in 86 steps
       // where the fallback sent it through every attempt without settling.
-      const lastFallsBack = picard === 'off' ? coupling : settledCoupling;
-      if (withComposition && lastFallsBack < 1 && !settled(opt.relativeTolerance * reference) && iterations - stageStart > STAGE_STEPS) {
+      const fallbackCoupling = picard === 'off' ? coupling : settledCoupling;
+      if (withComposition && fallbackCoupling < 1 && !settled(opt.relativeTolerance * reference) && iterations - stageStart > STAGE_STEPS) {
         // This stage of the homotopy does not settle: back to the last settled one, half the step.
         x.set(settledAt!);
         couplingStep /= 2;
