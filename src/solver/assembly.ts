@@ -41,6 +41,19 @@ export interface EvaluateOptions {
   compositionPull: number;
   /** How far compositions change the viscosities the flows see, 0 to 1 (default 1). */
   coupling?: number;
+  /**
+   * A direction in which to differentiate the element flows (into `flowTangent`): the change
+   * dv of the unknowns, and the fixed port whose pressure moves by 1 along it, if any.
+   */
+  direction?: { dv: Float64Array; fixedPort?: number };
+}
+
+/** d(flow)/dt of every element along EvaluateOptions.direction, m³/s per unit t. */
+export interface FlowTangent {
+  plain: Float64Array;
+  /** [near0, far0, near1, far1, …] */
+  lane: Float64Array;
+  crossover: Float64Array;
 }
 
 export class NetworkEquations {
@@ -59,6 +72,8 @@ export class NetworkEquations {
   readonly laneComposition: Float64Array;
   /** Crossover of every merge, near → far port, m³/s. */
   readonly crossover: Float64Array;
+  /** The flows' derivatives along the last evaluation's `direction` (zero without one). */
+  readonly flowTangent: FlowTangent;
   readonly splitStates: SplitBranch[];
   readonly feedStates: FeedBranch[];
   /** The piece whose slopes each merge's Jacobian column takes (an active-set prediction), or undefined. */
@@ -96,6 +111,7 @@ export class NetworkEquations {
     this.laneFlow = new Float64Array(2 * net.contactors.length);
     this.laneComposition = new Float64Array(2 * net.contactors.length);
     this.crossover = new Float64Array(net.contactors.length);
+    this.flowTangent = { plain: new Float64Array(net.plains.length), lane: new Float64Array(2 * net.contactors.length), crossover: new Float64Array(net.contactors.length) };
     this.splitStates = net.splits.map(() => 'pinned');
     this.feedStates = net.contactors.map(() => 'open');
     this.splitBranch = net.splits.map(() => undefined);
@@ -199,12 +215,19 @@ export class NetworkEquations {
       J(af, col, -dA);
       J(at, col, dA);
     };
+    const dir = o.direction;
+    const dPressure = (port: number) => (unknownOf[port]! >= 0 ? dir!.dv[unknownOf[port]!]! : port === dir!.fixedPort ? 1 : 0);
+    const dComposition = (port: number) => (withX && unknownOf[port]! >= 0 ? dir!.dv[compAt + unknownOf[port]!]! : 0);
     /**
      * A flow q from → to carrying the composition of port `up`, with conductance g (dQ/dp_from),
      * dExtra its slope in unknown `extra`, dxUp its slope in the upstream composition; a lane
-     * also feels the other lane's composition (dxOther) through the shared interface.
+     * also feels the other lane's composition (dxOther) through the shared interface. Returns
+     * dq along `o.direction` (0 without one), from the same slopes.
      */
-    const stamp = (from: number, to: number, q: number, up: number, g: number, extra: number, dExtra: number, dxUp: number, other?: { from: number; to: number; up: number; dx: number }) => {
+    const stamp = (from: number, to: number, q: number, up: number, g: number, extra: number, dExtra: number, dxUp: number, other?: { from: number; to: number; up: number; dx: number }): number => {
+      const tangent = dir
+        ? g * (dPressure(from) - dPressure(to)) + (extra >= 0 ? dExtra * dir.dv[extra]! : 0) + dxUp * dComposition(up) + (other ? other.dx * dComposition(other.up) : 0)
+        : 0;
       const xu = this.compositionOf(v, up);
       const rf = massRow(from);
       const rt = massRow(to);
@@ -227,19 +250,20 @@ export class NetworkEquations {
         noise[r] += rounding * xu;
         dynamic[r] -= through;
       }
-      if (!o.jacobian) return;
+      if (!o.jacobian) return tangent;
       partial(rf, rt, af, at, massRow(from), g, g * xu);
       partial(rf, rt, af, at, massRow(to), -g, -g * xu);
       if (extra >= 0) partial(rf, rt, af, at, extra, dExtra, dExtra * xu);
       // Both ends' composition columns are stamped (one with 0) so the pattern does not depend
       // on the flow direction and the symbolic factorisation can be reused.
-      if (!withX) return;
+      if (!withX) return tangent;
       partial(rf, rt, af, at, xCol(from), up === from ? dxUp : 0, up === from ? q + xu * dxUp : 0);
       partial(rf, rt, af, at, xCol(to), up === to ? dxUp : 0, up === to ? q + xu * dxUp : 0);
       if (other) {
         partial(rf, rt, af, at, xCol(other.from), other.up === other.from ? other.dx : 0, other.up === other.from ? xu * other.dx : 0);
         partial(rf, rt, af, at, xCol(other.to), other.up === other.to ? other.dx : 0, other.up === other.to ? xu * other.dx : 0);
       }
+      return tangent;
     };
 
     for (let i = 0; i < ports.length; i++) {
@@ -261,7 +285,7 @@ export class NetworkEquations {
       const law = plainLaw(dp, el.r0, seen(up, xu), muA, muB);
       this.plainFlow[e] = law.q;
       this.plainComposition[e] = xu;
-      stamp(el.from, el.to, law.q, up, law.g, -1, 0, s * law.dqDx);
+      this.flowTangent.plain[e] = stamp(el.from, el.to, law.q, up, law.g, -1, 0, s * law.dqDx);
     }
     const stagnantDrop = STAGNANT_DROP * this.pressureScale;
     for (let c = 0; c < contactors.length; c++) {
@@ -277,7 +301,7 @@ export class NetworkEquations {
       const upFar = df >= 0 ? el.farIn : el.farOut;
       const xn = this.compositionOf(v, upNear);
       const xf = this.compositionOf(v, upFar);
-      const k = this.lanes(c, alpha, mix(seen(upNear, xn)), mix(seen(upFar, xf)), withX && o.jacobian);
+      const k = this.lanes(c, alpha, mix(seen(upNear, xn)), mix(seen(upFar, xf)), withX && (o.jacobian || dir !== undefined));
       const law = laneLaw(dn, df, el.segment.length, k, muA, muB);
       this.laneFlow[2 * c] = law.qNear;
       this.laneFlow[2 * c + 1] = law.qFar;
@@ -286,9 +310,10 @@ export class NetworkEquations {
       this.crossover[c] = merge.cross;
       const dNear = law.dNearDAlpha * merge.dAlpha;
       const dFar = law.dFarDAlpha * merge.dAlpha;
-      stamp(el.nearIn, el.nearOut, law.qNear, upNear, law.gNear, col, dNear, s * law.dNearDxNear, { from: el.farIn, to: el.farOut, up: upFar, dx: s * law.dNearDxFar });
-      stamp(el.farIn, el.farOut, law.qFar, upFar, law.gFar, col, dFar, s * law.dFarDxFar, { from: el.nearIn, to: el.nearOut, up: upNear, dx: s * law.dFarDxNear });
-      stamp(el.nearIn, el.farIn, merge.cross, merge.cross >= 0 ? el.nearIn : el.farIn, 0, col, merge.dCross, 0);
+      const tangent = this.flowTangent;
+      tangent.lane[2 * c] = stamp(el.nearIn, el.nearOut, law.qNear, upNear, law.gNear, col, dNear, s * law.dNearDxNear, { from: el.farIn, to: el.farOut, up: upFar, dx: s * law.dNearDxFar });
+      tangent.lane[2 * c + 1] = stamp(el.farIn, el.farOut, law.qFar, upFar, law.gFar, col, dFar, s * law.dFarDxFar, { from: el.nearIn, to: el.nearOut, up: upNear, dx: s * law.dFarDxNear });
+      tangent.crossover[c] = stamp(el.nearIn, el.farIn, merge.cross, merge.cross >= 0 ? el.nearIn : el.farIn, 0, col, merge.dCross, 0);
 
       // Lane constraint: both lanes feel one gradient, d_near = d_far. An open contactor whose
       // drops are lost in rounding carries no flow worth resolving: there the constraint gives

@@ -52,7 +52,7 @@ const ANDERSON_FROM = 1e-2;
  * comparable converge only linearly: at ten times the settling tolerance it slows no port whose
  * composition the tolerance resolves (1e-8 made the dead zone of a 512-contactor ladder creep).
  */
-const COMPOSITION_PULL = 1e-11;
+export const COMPOSITION_PULL = 1e-11;
 /** Largest holdup change of one Newton step after the Picard sweeps. */
 const HOLDUP_STEP = 0.2;
 /** z just outside [0, 1]: a feed the sweeps close. */
@@ -192,16 +192,11 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   const muB = net.chip.phases.B.viscosity;
   const mix = (x: number) => x * muA + (1 - x) * muB;
 
-  const x = new Float64Array(n);
+  let x = new Float64Array(n);
   const anchor = new Float64Array(n);
   let withComposition = false;
   if (warm) {
-    for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = warm.pressure[i]!;
-    eq.rescale(x);
-    contactors.forEach((el, c) => (x[alphaAt + c] = warm.holdup[c]! + warm.crossover[c]! / eq.mergeKappa(el)));
-    x.set(warm.leak, leakAt);
-    for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = warm.composition[i]!;
-    withComposition = !allPure(warm.composition) || warm.splitStates.some((st) => st !== 'pinned') || warm.feedStates.some((st) => st !== 'open');
+    ({ x, withComposition } = unknownsOf(eq, warm));
   } else {
     for (const u of unknownOf) if (u >= 0) x[u] = eq.fixedMean;
     for (let c = 0; c < contactors.length; c++) x[alphaAt + c] = 0.5;
@@ -604,6 +599,23 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     }
     throw error;
   }
+}
+
+/**
+ * The unknowns of a solution (or warm start) for `eq`'s numbering, and whether its compositions
+ * are unknowns: they are once any stream is mixed, a split leaks or a feed is starved. Widens
+ * eq's pressure scale to the solution's pressures first (the merge crossover is scaled by it).
+ */
+export function unknownsOf(eq: NetworkEquations, warm: WarmStart): { x: Float64Array<ArrayBuffer>; withComposition: boolean } {
+  const { alphaAt, leakAt, compAt, size, unknownOf } = eq.map;
+  const x = new Float64Array(size);
+  for (const [i, u] of unknownOf.entries()) if (u >= 0) x[u] = warm.pressure[i]!;
+  eq.rescale(x);
+  eq.net.contactors.forEach((el, c) => (x[alphaAt + c] = warm.holdup[c]! + warm.crossover[c]! / eq.mergeKappa(el)));
+  x.set(warm.leak, leakAt);
+  for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = warm.composition[i]!;
+  const withComposition = !allPure(warm.composition) || warm.splitStates.some((st) => st !== 'pinned') || warm.feedStates.some((st) => st !== 'open');
+  return { x, withComposition };
 }
 
 /** γ minimising ‖f − Σ γ_k·columns_k‖₂ (Anderson's small least-squares problem, by QR); undefined when it is rank deficient. */
