@@ -1,6 +1,7 @@
 /**
  * `stratiflow solve FILE`: load a layout, solve the whole chip, print the per-contactor table
- * and summary with the operating verdict (or JSON), optionally write the CSV table, or with `--out DIR` the JSON, the CSV,
+ * and summary with the hold tolerances of every setting (src/analyses/hold.ts) and the operating
+ * verdict (or JSON), optionally write the CSV table, or with `--out DIR` the JSON, the CSV,
  * the drawing and the HTML report. When the layout names a solute, the JSON (printed or written)
  * and the files of `--out` also carry its extraction (src/analyses/extraction.ts, default
  * accuracy); the printed table stays as it is. A solve that does not converge writes no files:
@@ -11,6 +12,7 @@ import { loadLayout } from '../layout/load.js';
 import { solveChip, type SolvedChip } from '../analyses/chip.js';
 import { operatingVerdict } from '../analyses/verdict.js';
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
+import { holdTolerances } from '../analyses/hold.js';
 import { join } from 'node:path';
 import { chipText, contactorCsv } from '../render/text.js';
 import { chipDrawing } from '../render/chipDrawing.js';
@@ -46,7 +48,8 @@ export function registerSolve(program: Command, context: CommandContext): void {
       const solved = solveChip(chip, { linear });
       const { result } = solved;
       const extraction = options.out || options.json ? layoutExtraction(solved, context) : undefined;
-      const json = JSON.stringify(extraction ? { ...result, extraction } : result, jsonNumbers, 2) + '\n';
+      const hold = result.converged ? holdTolerances(solved) : undefined;
+      const json = JSON.stringify({ ...result, ...(hold && { hold }), ...(extraction && { extraction }) }, jsonNumbers, 2) + '\n';
       if (result.converged) {
         // Everything is rendered before the first file is written.
         const files: Output[] = [];
@@ -60,7 +63,7 @@ export function registerSolve(program: Command, context: CommandContext): void {
         }
         writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }
-      context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined));
+      context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined, hold));
       if (!result.converged) throw unconverged(result.message, file, Boolean(csv || out));
     });
 }

@@ -262,6 +262,10 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
   };
   const splitWindow = readWindow(raw.splitWindow, undefined, 'splitWindow');
   const maxPressure = raw.maxPressure === undefined ? undefined : quantity(raw.maxPressure, 'rating', undefined, 'maxPressure', 'the pressure rating');
+  const controlResolution = raw.controlResolution && {
+    pressure: raw.controlResolution.pressure === undefined ? undefined : quantity(raw.controlResolution.pressure, 'resolution', undefined, 'controlResolution.pressure'),
+    flowFraction: raw.controlResolution.flow,
+  };
 
   const nodes: ChipNode[] = raw.nodes.map((n: LayoutNode) => {
     const element = `node ${n.id}`;
@@ -343,6 +347,6 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     };
   }
 
-  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, solute, nodes, segments, warnings };
+  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, controlResolution, solute, nodes, segments, warnings };
   return { chip, problems };
 }

@@ -46,6 +46,8 @@ export interface PlausibleRange {
  *   ISO 2533:1975) and 10 MPa (100 bar) is above what pumps and fittings of chip set-ups hold.
  * - a split window bounds p_B − p_A, so it is a pressure difference of either sign.
  * - a pressure rating below 1 kPa holds no chip; 100 MPa is above the strongest glass chips.
+ * - a controller resolution: 1 mPa is far finer than any pressure controller, 100 kPa coarser
+ *   than any that sets a chip's pressures.
  * - flows: 1e-15 m³/s (0.06 nL/min) to 1e-3 m³/s (60 L/min).
  * - diffusivity: 1e-14 m²/s (large assemblies in viscous liquids) to 1e-7 m²/s (above any
  *   solute in a liquid, about 1e-9 m²/s for small molecules in water, from memory).
@@ -68,6 +70,7 @@ export const PLAUSIBLE = {
   tension: { dimension: 'tension', low: 1e-7, high: 0.1, usual: 10e-3, what: 'an interfacial tension', limits: '0.1 uN/m to 0.1 N/m' },
   pressure: { dimension: 'pressure', low: -101_325, high: 10e6, usual: 10e3, what: 'a gauge pressure', limits: '-101.325 kPa (vacuum) to 10 MPa' },
   window: { dimension: 'pressure', low: -10e6, high: 10e6, usual: 100, what: 'a pressure difference', limits: '-10 MPa to 10 MPa' },
+  resolution: { dimension: 'pressure', low: 1e-3, high: 100e3, usual: 10, what: 'a controller resolution', limits: '1 mPa to 100 kPa' },
   rating: { dimension: 'pressure', low: 1e3, high: 100e6, usual: 500e3, what: 'a pressure rating', limits: '1 kPa to 100 MPa' },
   flow: { dimension: 'flow', low: 1e-15, high: 1e-3, usual: 1e-10, what: 'a flow', limits: '1e-15 m3/s (0.06 nL/min) to 1e-3 m3/s (60 L/min)' },
   diffusivity: { dimension: 'diffusivity', low: 1e-14, high: 1e-7, usual: 1e-9, what: 'a diffusivity', limits: '1e-14 m2/s to 1e-7 m2/s' },

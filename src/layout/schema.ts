@@ -98,6 +98,13 @@ const units = z
   })
   .describe('units in which plain numbers of this file are read (SI when absent)');
 
+const controlResolution = z
+  .strictObject({
+    pressure: quantity.optional().describe('the smallest pressure step the pressure controllers hold (default 10 Pa, common practice)'),
+    flow: z.number().positive().max(1).optional().describe('the relative flow error of the pumps, as a fraction of the set flow (default 0.01, common practice)'),
+  })
+  .describe('what the controllers of the settings resolve: hold tolerances below it are warned about');
+
 export const layoutSchema = z.strictObject({
   name: z.string(),
   note,
@@ -107,6 +114,7 @@ export const layoutSchema = z.strictObject({
   contactAngleA: contactAngle.optional().describe('contact angle of phase A on the wall, measured through A'),
   splitWindow: window.optional(),
   maxPressure: quantity.optional(),
+  controlResolution: controlResolution.optional(),
   solute: solute.optional(),
   nodes: z.array(z.discriminatedUnion('type', [inlet, junction, merge, split, outlet])).min(1),
   segments: z.array(segment).min(1),

@@ -92,6 +92,8 @@ export interface Chip {
   /** Chip-wide allowed p_B − p_A at splits, Pa. */
   splitWindow?: [number, number];
   maxPressure?: number;
+  /** What the controllers resolve, when the layout says: Pa, and a fraction of a set flow. */
+  controlResolution?: { pressure?: number; flowFraction?: number };
   solute?: Solute;
   nodes: ChipNode[];
   segments: ChipSegment[];

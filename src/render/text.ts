@@ -2,10 +2,13 @@
  * Plain-text and CSV renderings of a solved chip: the per-contactor table (a contactor's state is
  * its split's, or `starved of A|B` when a phase does not enter it), the summary, the operating
  * verdict when one is given (src/analyses/verdict.ts) and the warnings, plus the usual safety
- * cautions. An unconverged solution is headed NOT CONVERGED. Exports `chipText`, `contactorCsv`, `SAFETY_NOTES`,
- * `textTable`. Pure: data in, string out.
+ * cautions; with the hold tolerances (src/analyses/hold.ts), how far each setting may move with
+ * every split pinned. An unconverged solution is headed NOT CONVERGED. Exports `chipText`,
+ * `holdLines`, `contactorCsv`, `SAFETY_NOTES`, `textTable`. Pure: data in, string out.
  */
 import type { ChipSolution, ContactorResult } from '../analyses/chip.js';
+import type { HoldLimit, HoldResult, HoldTolerance } from '../analyses/hold.js';
+import { settingName } from '../analyses/settings.js';
 import { starvedPhase, type OperatingProblem } from '../analyses/verdict.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { max as maxOf, min as minOf } from 'd3-array';
@@ -67,7 +70,7 @@ export function contactorCsv(solution: ChipSolution): string {
  * The readable report of a solution. With `problems` (the operating verdict) it says whether the
  * chip works at these settings and, if not, why, element by element.
  */
-export function chipText(name: string, s: ChipSolution, problems?: readonly OperatingProblem[]): string {
+export function chipText(name: string, s: ChipSolution, problems?: readonly OperatingProblem[], hold?: HoldResult): string {
   const out: string[] = [];
   out.push(`${name}: ${s.contactors.length} contactors — ${s.converged ? `solved in ${s.iterations} Newton steps (mass residual ${s.residual.toExponential(1)} of throughput)` : `NOT CONVERGED: ${s.message ?? ''}`}`);
   out.push('');
@@ -86,6 +89,7 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   const pinned = s.splits.filter((x) => x.state === 'pinned').length;
   out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(minOf(s.splits.map((x) => x.margin)) ?? Infinity, s.summary.pressureResolution)} Pa` : ''}`);
   out.push('');
+  if (hold) out.push(...holdLines(hold), '');
   if (problems) {
     out.push(problems.length === 0 ? 'verdict: the chip works at these settings (splits pinned, contactors fed, no backflow, outlets pure, within the rating)' : `verdict: the chip does NOT work at these settings (${problems.length} problem${problems.length > 1 ? 's' : ''})`);
     for (const p of problems) out.push(`  - ${p.element}: ${p.reason}`);
@@ -103,4 +107,42 @@ export function warningsLines(warnings: readonly string[]): string[] {
 /** The cautions that close every text report: `extra` ones first, then SAFETY_NOTES. */
 export function cautionLines(extra: readonly string[] = []): string[] {
   return ['cautions', ...[...extra, ...SAFETY_NOTES].map((note) => `  - ${note}`)];
+}
+
+/** A setting's value or excursion in its display unit: Pa for pressures (excursions are small), µL/min for flows. */
+function amount(h: HoldTolerance, value: number): string {
+  if (!Number.isFinite(value)) return 'any';
+  return h.setting.quantity === 'pressure' ? `${fmt(value * DISPLAY.pressureDifference.factor)} Pa` : `${fmt(value * DISPLAY.flow.factor)} µL/min`;
+}
+
+const limitText = (l: HoldLimit | undefined) => (l ? `${l.split} ${l.limit}` : '–');
+
+function excursion(h: HoldTolerance): string {
+  const relative = h.setting.quantity === 'flow' && h.value > 0 ? ` (${fmt((100 * Math.min(h.down, h.up)) / h.value, 3)} %)` : '';
+  return `−${amount(h, h.down)} … +${amount(h, h.up)}${relative}`;
+}
+
+function head(h: HoldTolerance): string {
+  if (h.headDown === undefined || h.headUp === undefined) return '–';
+  const mm = (x: number) => (Number.isFinite(x) ? fmt(x * DISPLAY.lengthMm.factor, 3) : 'any');
+  return `−${mm(h.headDown)} … +${mm(h.headUp)} mm of ${h.liquid}`;
+}
+
+/**
+ * The hold tolerance block of `solve` and `tune`: a heading, one row per setting (how far it may
+ * fall and rise with every split pinned, the split and limit that bounds it, the head of a
+ * pressure excursion, the excursion within the flow ratio tolerance), then a warning for every
+ * excursion below what its controller resolves.
+ */
+export function holdLines(hold: HoldResult): string[] {
+  const out = [`hold tolerances (each setting alone, the others held; first order in the settings)${hold.allPinned ? '' : ': not every split is pinned at this point, so no excursion keeps them all pinned'}`];
+  const ratio = `flow ratio ±${fmt(100 * hold.ratioTolerance, 3)} %`;
+  const rows = hold.settings.map((h) => [settingName(h.setting), amount(h, h.value), excursion(h), `${limitText(h.downLimit)} / ${limitText(h.upLimit)}`, head(h), Number.isFinite(h.ratioExcursion) ? `±${amount(h, h.ratioExcursion)}` : 'any']);
+  out.push(...textTable(['setting', 'value', 'every split pinned', 'bound by (− / +)', 'as reservoir head', ratio], rows).split('\n').map((line) => `  ${line}`));
+  for (const h of hold.settings) {
+    if (!h.belowResolution || !hold.allPinned) continue;
+    const what = h.setting.quantity === 'pressure' ? `the ${amount(h, h.resolution)} a pressure controller holds` : `the ${fmt(100 * (h.resolution / h.value), 3)} % a pump holds`;
+    out.push(`  ! ${settingName(h.setting)} may move less than ${what} (layout key controlResolution; the default is common practice): hold it tighter or widen the window`);
+  }
+  return out;
 }

@@ -65,7 +65,8 @@ function expectContract(json: Record<string, unknown>): void {
 }
 
 describe('stratiflow solve --json', () => {
-  const file = write('pinned.yaml', singleContactorLayout({ outletPressure: { A: 0, B: 150 } }));
+  const layout = singleContactorLayout({ outletPressure: { A: 0, B: 150 } });
+  const file = write('pinned.yaml', layout);
 
   it('prints one JSON object with converged, iterations, nodes, segments and splits', async () => {
     const { code, out, err } = await runCli(['solve', file, '--json']);
@@ -79,6 +80,20 @@ describe('stratiflow solve --json', () => {
     expect(json.segments.map((s: { id: string }) => s.id)).toEqual(['fA', 'fB', 'k', 'oA', 'oB']);
     expect(json.splits).toHaveLength(1);
     expect(json.splits[0]).toMatchObject({ id: 's', state: 'pinned', window: [-200, 200] });
+  });
+
+  it('carries the hold tolerance of every setting: how far it may move each way with the split pinned, and what bounds it', async () => {
+    const json = JSON.parse((await runCli(['solve', file, '--json'])).out);
+    const names = json.hold.settings.map((h: { setting: { node: string; quantity: string } }) => `${h.setting.node}.${h.setting.quantity}`);
+    expect(names).toEqual(['inA.pressure', 'inB.pressure', 'outA.pressure', 'outB.pressure']);
+    for (const h of json.hold.settings) {
+      expect(h.down).toBeGreaterThan(0);
+      expect(h.up).toBeGreaterThan(0);
+      expect(h.upLimit.split).toBe('s');
+      // The head of a pressure excursion is Δp/(ρ·g) of the liquid at that node (g standard, 9.80665 m/s²).
+      const density = { A: Number(layout.phases.A.density), B: Number(layout.phases.B.density) }[h.liquid as 'A' | 'B'];
+      expect(h.headUp).toBeCloseTo(h.up / (density * 9.80665), 12);
+    }
   });
 
   it('writes no NaN and no Infinity anywhere, and only finite numbers', async () => {
@@ -139,6 +154,16 @@ describe('stratiflow solve', () => {
     expect(out).toMatch(/contactor/);
     expect(out).toMatch(/\bk\b/);
     expect(out).not.toMatch(/NaN|undefined/);
+    expect(out).toMatch(/hold tolerances/);
+    expect(out).toMatch(/inA\.pressure .* Pa … \+.* Pa/);
+  });
+
+  it('warns of a hold tolerance below what the controllers resolve, as the layout states it', async () => {
+    // The split window of this chip (±200 Pa) lets each inlet pressure move by a few hundred pascals.
+    const coarse = (await runCli(['solve', write('coarse.yaml', { ...singleContactorLayout(), controlResolution: { pressure: '1 kPa' } })])).out;
+    expect(coarse).toMatch(/! inA\.pressure may move less than the 1000 Pa a pressure controller holds/);
+    const fine = (await runCli(['solve', write('fine.yaml', { ...singleContactorLayout(), controlResolution: { pressure: '1 Pa' } })])).out;
+    expect(fine).not.toMatch(/may move less than/);
   });
 
   for (const name of readdirSync(LAYOUTS).filter((f) => /\.ya?ml$|\.json$/.test(f))) {
