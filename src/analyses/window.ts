@@ -5,7 +5,7 @@
  * throughput, phase flow ratio and spread between contactors at each point. What counts as
  * backflow or over the rating is decided by ./verdict.ts.
  *
- * The two axes are settings (./settings.ts).
+ * The two axes are settings (./settings.ts), or their mean and difference (./windowRegion.ts).
  *
  * Exports `axisValues`,
  * `describePoint`, `predictedStart`, `sweepLine`, `windowMap`, `SWEEP_SOLVER`, `POINT_CLASSES`,
@@ -25,6 +25,7 @@ import { settingName, withSettings, type Setting } from './settings.js';
 import { StratiflowError } from '../errors.js';
 import { operatingVerdict } from './verdict.js';
 import { min as minOf } from 'd3-array';
+import { settingsAt, type WindowCoordinates } from './windowRegion.js';
 
 // ---------------------------------------------------------------------------------------------
 // Grid and classes
@@ -40,6 +41,8 @@ export interface SweepAxis {
 export interface WindowSpec {
   x: SweepAxis;
   y: SweepAxis;
+  /** What the axes' values are: the two settings (default), or their mean and difference (./windowRegion.ts). */
+  coordinates?: WindowCoordinates;
   /** Passed to every chip solve. */
   solver?: SolverOptions;
 }
@@ -94,10 +97,10 @@ export function axisValues(axis: SweepAxis): number[] {
   return Array.from({ length: axis.steps }, (_, k) => (k === axis.steps - 1 ? axis.to : axis.from + ((axis.to - axis.from) * k) / (axis.steps - 1)));
 }
 
-function checkAxis(axis: SweepAxis, name: string): void {
+function checkAxis(axis: SweepAxis, name: string, plain: boolean): void {
   if (!Number.isInteger(axis.steps) || axis.steps < 2) throw new StratiflowError('bad-option', `${name}: the number of steps must be a whole number of at least 2`);
   if (!(Number.isFinite(axis.from) && Number.isFinite(axis.to)) || axis.from === axis.to) throw new StratiflowError('bad-option', `${name}: the range needs two different finite ends`);
-  if (axis.setting.quantity === 'flow' && Math.min(axis.from, axis.to) < 0) throw new StratiflowError('bad-option', `${name}: an inlet flow cannot be negative`);
+  if (plain && axis.setting.quantity === 'flow' && Math.min(axis.from, axis.to) < 0) throw new StratiflowError('bad-option', `${name}: an inlet flow cannot be negative`);
 }
 
 /**
@@ -212,7 +215,8 @@ export function sweepLine(
   let before: WarmStart | undefined;
   let previousFailed = false;
   for (const { i, j } of line) {
-    const variant = withSettings(chip, [[spec.x.setting, xs[i]!], [spec.y.setting, ys[j]!]]);
+    const [tx, ty] = settingsAt(spec.coordinates ?? 'settings', [xs[i]!, ys[j]!]);
+    const variant = withSettings(chip, [[spec.x.setting, tx], [spec.y.setting, ty]]);
     const solved = solveChip(variant, previousFailed ? { ...solver, maxAttempts: 1 } : solver, last && predictedStart(last, before), workspace);
     const attempts = solved.raw.restartedCold ? 2 : 1;
     if (solved.result.converged) {
@@ -261,8 +265,9 @@ export type SweepMessage =
   | { kind: 'error'; message: string };
 
 export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOptions = {}): Promise<WindowMap> {
-  checkAxis(spec.x, settingName(spec.x.setting));
-  checkAxis(spec.y, settingName(spec.y.setting));
+  const plain = (spec.coordinates ?? 'settings') === 'settings';
+  checkAxis(spec.x, settingName(spec.x.setting), true);
+  checkAxis(spec.y, settingName(spec.y.setting), plain);
   if (settingName(spec.x.setting) === settingName(spec.y.setting)) throw new StratiflowError('bad-option', 'the two swept settings must differ');
   if (spec.x.setting.node === spec.y.setting.node) throw new StratiflowError('bad-option', `both swept settings act on node "${spec.x.setting.node}"; choose settings of two different nodes`);
   const nx = spec.x.steps;
