@@ -1,17 +1,24 @@
 /**
- * `stratiflow window FILE`: sweep two settings of a chip (by default the pressures of its A and
- * B inlets) over a grid, classify every point and write the map (SVG), the grid (JSON, CSV) and
- * a short summary. A target (two of flow A, flow B, throughput, ratio) is marked where its two
- * contours cross. A progress bar goes to stderr when it is a terminal.
- * Exports `registerWindow`; the map, CSV and summary are drawn by src/render/windowMap.ts, the
- * target and its crossings computed by src/analyses/window.ts.
+ * `stratiflow window FILE`: the operating window of two settings of a chip (by default the
+ * pressures of its A and B inlets). First the working region is traced exactly
+ * (src/analyses/windowRegion.ts) over a search box around the settings as given; then a coarse
+ * grid around that region is swept and every point classified (leaking which way, backflow,
+ * over the rating). Writes the map (SVG: grid, traced region with its labelled boundaries, the
+ * point as given and its hold box), the grid and region (JSON), the grid (CSV) and a summary.
+ * Where the region is a thin band along the diagonal of two settings of one quantity, the axes
+ * become their mean and difference (`--coordinates auto`, the default). A target (two of flow A,
+ * flow B, throughput, ratio) is marked where its two contours cross. A progress bar goes to
+ * stderr when it is a terminal.
+ * Exports `registerWindow`; the map, CSV and summary are drawn by src/render/windowMap.ts.
  */
 import { availableParallelism } from 'node:os';
 import type { Command } from 'commander';
 import { loadLayout } from '../layout/load.js';
 import { solveChip, warmStartFrom, type SolvedChip } from '../analyses/chip.js';
 import { describePoint, mapTarget, targetCrossings, windowMap, type WindowMap } from '../analyses/window.js';
-import { settingName, settingValue, type Setting } from '../analyses/settings.js';
+import { coordinatesOf, polygonArea, regionIn, regionSpans, traceWindow, type WindowCoordinates, type WindowRegion } from '../analyses/windowRegion.js';
+import { holdTolerances, type HoldResult } from '../analyses/hold.js';
+import { settingName, settingValue, withSettings, type Setting } from '../analyses/settings.js';
 import { windowChart, windowCsv, windowText, type WindowMarks } from '../render/windowMap.js';
 import type { Point } from '../render/chart.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
@@ -21,10 +28,16 @@ import { jsonNumbers, type CommandContext } from './context.js';
 import { progressBar } from './progress.js';
 
 import { optionError } from '../errors.js';
+import { extent as extentOf } from 'd3-array';
 import type { Chip } from '../network/model.js';
 
 /** At most this many grid values along an axis: a million points at the most, hours of solves. */
 const MAX_STEPS = 1000;
+/** Below this share of its bounding box a traced region counts as a thin band (`--coordinates auto`). */
+const THIN_BAND = 0.05;
+/** Margin of the default map around the traced region, as a share of its extent on each axis. */
+const MAP_MARGIN = 0.25;
+const COORDINATES = ['auto', 'settings', 'mean-difference'] as const;
 
 interface WindowOptions {
   x?: string;
@@ -41,6 +54,7 @@ interface WindowOptions {
   json?: string;
   csv?: string;
   workers?: string;
+  coordinates: string;
   linear: string;
 }
 
@@ -51,16 +65,32 @@ function firstInlet(chip: Chip, phase: 'A' | 'B'): string {
   return inlet.id;
 }
 
-/** The range of an axis; by default half to one and a half times the value as given. */
-function rangeOption(text: string | undefined, flag: string, setting: Setting, current: number | undefined): [number, number] {
-  const dimension = setting.quantity === 'pressure' ? 'pressure' : 'flow';
-  if (text === undefined) {
-    if (current === undefined || current === 0) throw optionError(flag, `give the range (e.g. ${dimension === 'pressure' ? '0kPa:5kPa' : '1uL/min:20uL/min'}): the chip as given has ${settingName(setting)} = ${current === undefined ? 'no solved value' : '0'}`);
-    return [0.5 * current, 1.5 * current].sort((a, b) => a - b) as [number, number];
-  }
-  const [from, to] = parseRange(text, dimension, { field: flag });
+/** The range an option gives, or undefined. */
+function rangeOption(text: string | undefined, flag: string, setting: Setting): [number, number] | undefined {
+  if (text === undefined) return undefined;
+  const [from, to] = parseRange(text, setting.quantity === 'pressure' ? 'pressure' : 'flow', { field: flag });
   if (!(from < to)) throw optionError(flag, 'the first end must be below the second');
   return [from, to];
+}
+
+/** The box the region is searched in when no range is given: half to twice each setting as given. */
+function searchRange(flag: string, setting: Setting, current: number | undefined): [number, number] {
+  if (current === undefined || current === 0) {
+    throw optionError(flag, `give the range (e.g. ${setting.quantity === 'pressure' ? '0kPa:5kPa' : '1uL/min:20uL/min'}): the chip as given has ${settingName(setting)} = ${current === undefined ? 'no solved value' : '0'}`);
+  }
+  return [0.5 * current, 2 * current].sort((a, b) => a - b) as [number, number];
+}
+
+/** The traced region's extent on each axis, widened by MAP_MARGIN (and to 2 % of its level when it is a line). */
+function mapRanges(region: WindowRegion): { x: [number, number]; y: [number, number] } | undefined {
+  if (region.polygon.length < 3) return undefined;
+  const extent = (k: 0 | 1): [number, number] => {
+    const values = region.polygon.map((p) => p[k]);
+    const [lo, hi] = extentOf(values) as [number, number];
+    const pad = Math.max(MAP_MARGIN * (hi - lo), 0.01 * Math.abs((lo + hi) / 2), 1e-300);
+    return [lo - pad, hi + pad];
+  };
+  return { x: extent(0), y: extent(1) };
 }
 
 export function registerWindow(program: Command, context: CommandContext): void {
@@ -69,11 +99,11 @@ export function registerWindow(program: Command, context: CommandContext): void 
     .description('Map the operating window: sweep two settings (inlet or outlet pressures, inlet flows), solve the chip at every grid point and show where every split stays pinned, where outlets leak, where liquid flows back, and the throughput and flow ratio.')
     .argument('<layout>', 'layout file (YAML or JSON)')
     .option('--x <setting>', 'setting along x, as node.pressure or node.flow (default: pressure of the first A inlet)')
-    .option('--x-range <from:to>', 'range along x, e.g. 10kPa:60kPa (default: half to one and a half times the value as given)')
-    .option('--x-steps <n>', 'grid values along x', '41')
+    .option('--x-range <from:to>', 'range along x, e.g. 10kPa:60kPa; also the box the working region is traced in (default: the region found in half to twice each setting as given, with a margin)')
+    .option('--x-steps <n>', 'grid values along x', '21')
     .option('--y <setting>', 'setting along y (default: pressure of the first B inlet)')
     .option('--y-range <from:to>', 'range along y')
-    .option('--y-steps <n>', 'grid values along y', '41')
+    .option('--y-steps <n>', 'grid values along y', '21')
     .option('--flow-a <flow>', 'target to mark: total flow of A')
     .option('--flow-b <flow>', 'target to mark: total flow of B')
     .option('--throughput <flow>', 'target to mark: total flow of A and B')
@@ -82,6 +112,7 @@ export function registerWindow(program: Command, context: CommandContext): void 
     .option('--json <file>', 'write the grid as JSON (SI units)')
     .option('--csv <file>', 'write the grid as CSV, one row per point')
     .option('--workers <n>', 'worker threads (default: one per processor core)')
+    .option('--coordinates <kind>', `axes: the two settings, their mean and difference, or auto (mean and difference where the working region is a thin band along the diagonal of two settings of one quantity): ${COORDINATES.join(', ')}`, 'auto')
     .addOption(linearOption())
     .action(async (file: string, o: WindowOptions) => {
       const chip = loadLayout(file);
@@ -100,16 +131,72 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const jsonFile = o.json === undefined ? undefined : outputFile(o.json, '--json');
       const csvFile = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
 
+      if (!(COORDINATES as readonly string[]).includes(o.coordinates)) throw optionError('--coordinates', `must be one of ${COORDINATES.join(', ')}`);
+      if (o.coordinates === 'mean-difference' && xs.quantity !== ys.quantity) throw optionError('--coordinates', 'mean and difference need two settings of one quantity (two pressures or two flows)');
+      const xSteps = wholeNumberOption(o.xSteps, '--x-steps', 2, MAX_STEPS)!;
+      const ySteps = wholeNumberOption(o.ySteps, '--y-steps', 2, MAX_STEPS)!;
+
       // The chip as given: its settings mark the map and seed the sweep.
       const base: SolvedChip = solveChip(chip, { linear });
-      const current = base.result.converged ? ([settingValue(base, xs), settingValue(base, ys)] as Point) : undefined;
-      const [xFrom, xTo] = rangeOption(o.xRange, '--x-range', xs, current?.[0]);
-      const [yFrom, yTo] = rangeOption(o.yRange, '--y-range', ys, current?.[1]);
+      const givenSettings = base.result.converged ? ([settingValue(base, xs), settingValue(base, ys)] as Point) : undefined;
+      const xRange = rangeOption(o.xRange, '--x-range', xs);
+      const yRange = rangeOption(o.yRange, '--y-range', o.coordinates === 'mean-difference' ? xs : ys);
+
+      // The working region, traced in the box the ranges give (in the chosen coordinates), or in
+      // the settings' own coordinates over a tenth to twice each setting and redrawn.
+      const traceStart = performance.now();
+      let coordinates: WindowCoordinates = o.coordinates === 'mean-difference' ? 'mean-difference' : 'settings';
+      let coordinatesReason: string | undefined;
+      let region: WindowRegion;
+      if (xRange && yRange) {
+        const start = givenSettings && coordinatesOf(coordinates, givenSettings);
+        const inBox = start && start[0] >= xRange[0] && start[0] <= xRange[1] && start[1] >= yRange[0] && start[1] <= yRange[1];
+        region = traceWindow(chip, { x: xs, y: ys, coordinates, box: { x: xRange, y: yRange }, start: inBox ? start : undefined, solver: { linear } });
+      } else {
+        const box = { x: xRange ?? searchRange('--x-range', xs, givenSettings?.[0]), y: yRange ?? searchRange('--y-range', ys, givenSettings?.[1]) };
+        region = traceWindow(chip, { x: xs, y: ys, coordinates: 'settings', box, start: givenSettings && [givenSettings[0], givenSettings[1]], solver: { linear } });
+        const ranges = mapRanges(region);
+        const thin = ranges !== undefined && polygonArea(region.polygon) < THIN_BAND * (ranges.x[1] - ranges.x[0]) * (ranges.y[1] - ranges.y[0]) / (1 + 2 * MAP_MARGIN) ** 2;
+        if (o.coordinates === 'auto' && thin && xs.quantity === ys.quantity) {
+          coordinates = 'mean-difference';
+          coordinatesReason = `the mean and the difference of ${settingName(xs)} and ${settingName(ys)}: the working region is a thin band along the diagonal of the two settings (--coordinates settings for the settings themselves)`;
+        }
+        region = regionIn(region, coordinates);
+      }
+      const traceSeconds = (performance.now() - traceStart) / 1000;
+      const ranges = xRange && yRange ? { x: xRange, y: yRange } : mapRanges(region);
+      if (!ranges) throw optionError('--x-range', `no working region found to centre the map on (${region.message ?? 'none'}): give --x-range and --y-range`);
+      const current = givenSettings && coordinatesOf(coordinates, givenSettings);
       const spec = {
-        x: { setting: xs, from: xFrom, to: xTo, steps: wholeNumberOption(o.xSteps, '--x-steps', 2, MAX_STEPS)! },
-        y: { setting: ys, from: yFrom, to: yTo, steps: wholeNumberOption(o.ySteps, '--y-steps', 2, MAX_STEPS)! },
+        x: { setting: xs, from: ranges.x[0], to: ranges.x[1], steps: xSteps },
+        y: { setting: ys, from: ranges.y[0], to: ranges.y[1], steps: ySteps },
+        coordinates,
         solver: { linear },
       };
+
+      // How far each axis setting may move alone at the point as given: a segment per setting on the map.
+      let hold: Point[][] | undefined;
+      let holdResult: HoldResult | undefined;
+      if (givenSettings) {
+        const asAxes = solveChip(withSettings(chip, [[xs, givenSettings[0]], [ys, givenSettings[1]]]), { linear }, warmStartFrom(base));
+        if (asAxes.result.converged && asAxes.result.splits.every((sp) => sp.state === 'pinned')) {
+          holdResult = holdTolerances(asAxes);
+          const tolerances = holdResult.settings;
+          const of = (s: Setting) => tolerances.find((h) => h.setting.node === s.node && h.setting.quantity === s.quantity);
+          const hx = of(xs);
+          const hy = of(ys);
+          const [gx, gy] = givenSettings;
+          if (hx && hy && [hx.down, hx.up, hy.down, hy.up].every(Number.isFinite)) {
+            hold = [
+              [coordinatesOf(coordinates, [gx - hx.down, gy]), coordinatesOf(coordinates, [gx + hx.up, gy])],
+              [coordinatesOf(coordinates, [gx, gy - hy.down]), coordinatesOf(coordinates, [gx, gy + hy.up])],
+            ];
+          }
+        }
+      }
+      const { box } = region.search;
+      const corners: Array<readonly [number, number]> = [[box.x[0], box.y[0]], [box.x[1], box.y[0]], [box.x[1], box.y[1]], [box.x[0], box.y[1]]];
+      const searched = corners.map((c) => (region.search.coordinates === coordinates ? [c[0], c[1]] as Point : coordinatesOf(coordinates, c)));
 
       const progress = progressBar('mapping', 'points');
       const start = performance.now();
@@ -125,12 +212,17 @@ export function registerWindow(program: Command, context: CommandContext): void 
       }
       const seconds = (performance.now() - start) / 1000;
 
-      const marks: WindowMarks = { current, target, crossings: target ? targetCrossings(map, target) : [] };
+      const marks: WindowMarks = { current, target, crossings: target ? targetCrossings(map, target) : [], region, hold, searched };
       const currentClass = current ? describePoint(chip, base, { i: -1, j: -1, x: current[0], y: current[1] }).class : undefined;
+      const spans = current && region.closed ? regionSpans(region.polygon, current) : undefined;
       const outputs: Output[] = [{ path: svgFile, option: '--svg', content: windowChart(chip.name, map, marks) }];
-      if (jsonFile) outputs.push({ path: jsonFile, option: '--json', content: JSON.stringify({ layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings }, jsonNumbers, 2) + '\n' });
+      if (jsonFile) {
+        const { search, ...traced } = region;
+        const json = { layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings, region: { searchedIn: search.coordinates, searchBox: search.box, ...traced }, hold };
+        outputs.push({ path: jsonFile, option: '--json', content: JSON.stringify(json, jsonNumbers, 2) + '\n' });
+      }
       if (csvFile) outputs.push({ path: csvFile, option: '--csv', content: windowCsv(map) });
       writeOutputs(outputs);
-      context.out(windowText(chip.name, map, marks, { seconds, workers, current: currentClass }));
+      context.out(windowText(chip.name, map, marks, { seconds, workers, current: currentClass, coordinatesReason, traceSeconds, spans, hold: holdResult }));
     });
 }

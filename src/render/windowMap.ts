@@ -5,9 +5,11 @@
  */
 import { scaleLinear } from 'd3-scale';
 import { POINT_CLASSES, type MapTarget, type PointClass, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
+import { limitName, type WindowCoordinates, type WindowLimit, type WindowRegion } from '../analyses/windowRegion.js';
 import { settingName, type Setting } from '../analyses/settings.js';
 import { regionMap, type MarkedPoint, type Point } from './chart.js';
-import { cautionLines } from './text.js';
+import { cautionLines, holdLines } from './text.js';
+import type { HoldResult } from '../analyses/hold.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
@@ -26,9 +28,54 @@ function unitOf(setting: Setting): { symbol: string; factor: number } {
   return setting.quantity === 'pressure' ? DISPLAY.pressure : DISPLAY.flow;
 }
 
+/** What an axis shows: its name and display unit (a difference of pressures in Pa: it is the small one). */
+export interface AxisDisplay {
+  name: string;
+  symbol: string;
+  factor: number;
+  /** Name for file columns. */
+  column: string;
+}
+
+export function axisDisplay(x: Setting, y: Setting, coordinates: WindowCoordinates | undefined, which: 'x' | 'y'): AxisDisplay {
+  const own = which === 'x' ? x : y;
+  if ((coordinates ?? 'settings') === 'settings') {
+    const unit = unitOf(own);
+    return { name: settingName(own), ...unit, column: `${settingName(own)}_${csvUnit(own)}` };
+  }
+  if (which === 'x') return { name: `mean of ${settingName(x)} and ${settingName(y)}`, ...unitOf(x), column: `mean_${csvUnit(x)}` };
+  const unit = x.quantity === 'pressure' ? DISPLAY.pressureDifference : DISPLAY.flow;
+  return { name: `${settingName(x)} − ${settingName(y)}`, ...unit, column: `difference_${x.quantity === 'pressure' ? 'Pa' : 'uL_min'}` };
+}
+
+function showOn(axis: AxisDisplay, value: number): string {
+  return `${fmt(value * axis.factor)} ${axis.symbol}`;
+}
+
 function show(setting: Setting, value: number): string {
   const unit = unitOf(setting);
   return `${fmt(value * unit.factor)} ${unit.symbol}`;
+}
+
+/** A short label of a boundary piece for the map: `s6 low`, `k3 starved of B`, `range`. */
+export function pieceLabel(limit: WindowLimit, alike: readonly WindowLimit[]): string {
+  const more = alike.length ? ` (+${alike.length})` : '';
+  switch (limit.kind) {
+    case 'split-low':
+      return `${limit.id} low${more}`;
+    case 'split-high':
+      return `${limit.id} high${more}`;
+    case 'starved':
+      return `${limit.id} starved of ${limit.phase}${more}`;
+    case 'backflow':
+      return `${limit.id} backflow${more}`;
+    case 'rating':
+      return `${limit.id} rating${more}`;
+    case 'range':
+      return '';
+    case 'unsettled':
+      return 'not settled';
+  }
 }
 
 /** About `count` round levels inside the finite values: linear steps, or 1-2-5 steps over a wide positive range. */
@@ -54,13 +101,19 @@ export interface WindowMarks {
   current?: Point;
   target?: MapTarget;
   crossings: Point[];
+  /** The traced working region, in the map's coordinates. */
+  region?: WindowRegion;
+  /** How far each axis setting may move alone at the point as given: one segment per setting, in the map's coordinates. */
+  hold?: Point[][];
+  /** The box the region was traced in, as a closed outline in the map's coordinates. */
+  searched?: Point[];
 }
 
 /** The SVG map: regions by class, contours of throughput and flow ratio, marked points. */
 export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks): string {
   const { x, y } = map.spec;
-  const ux = unitOf(x.setting);
-  const uy = unitOf(y.setting);
+  const ax = axisDisplay(x.setting, y.setting, map.spec.coordinates, 'x');
+  const ay = axisDisplay(x.setting, y.setting, map.spec.coordinates, 'y');
   // Every class keeps its colour and hatch from map to map, so the legend lists them all.
   const cells = map.points.map((row) => row.map((p) => POINT_CLASSES.indexOf(p.class)));
   const half = (axis: SweepAxis) => (axis.to - axis.from) / (2 * (axis.steps - 1));
@@ -72,30 +125,50 @@ export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks
   // A target on the point as given (a tuned layout) is one mark with both names.
   const close = (a: Point, b: Point) => Math.abs(a[0] - b[0]) < 1e-3 * Math.abs(x.to - x.from) && Math.abs(a[1] - b[1]) < 1e-3 * Math.abs(y.to - y.from);
   const onCurrent = marks.current !== undefined && marks.crossings.some((c) => close(c, marks.current!));
+  const at = (p: Point): Point => [p[0] * ax.factor, p[1] * ay.factor];
   const points: MarkedPoint[] = [];
-  if (marks.current) points.push({ at: [marks.current[0] * ux.factor, marks.current[1] * uy.factor], label: onCurrent ? 'as given = target' : 'as given' });
-  for (const c of marks.crossings) if (!(onCurrent && close(c, marks.current!))) points.push({ at: [c[0] * ux.factor, c[1] * uy.factor], label: 'target' });
+  if (marks.current) points.push({ at: at(marks.current), label: onCurrent ? 'as given = target' : 'as given' });
+  for (const c of marks.crossings) if (!(onCurrent && close(c, marks.current!))) points.push({ at: at(c), label: 'target' });
+  const region = marks.region && marks.region.polygon.length > 2
+    ? {
+        label: `working region (traced${marks.region.closed ? '' : ', not closed'})`,
+        fillClass: POINT_CLASSES.indexOf('pinned'),
+        polygon: marks.region.polygon.map(at),
+        pieces: marks.region.pieces.map((piece) => ({ points: piece.points.map(at), label: pieceLabel(piece.limit, piece.alike) })),
+      }
+    : undefined;
   return regionMap({
     title: `${chipName}: operating window`,
     width: 760,
     height: 620,
-    x: { label: `${settingName(x.setting)}`, unit: ux.symbol, domain: [(x.from - half(x)) * ux.factor, (x.to + half(x)) * ux.factor] },
-    y: { label: `${settingName(y.setting)}`, unit: uy.symbol, domain: [(y.from - half(y)) * uy.factor, (y.to + half(y)) * uy.factor] },
+    x: { label: ax.name, unit: ax.symbol, domain: [(x.from - half(x)) * ax.factor, (x.to + half(x)) * ax.factor] },
+    y: { label: ay.name, unit: ay.symbol, domain: [(y.from - half(y)) * ay.factor, (y.to + half(y)) * ay.factor] },
     classes: POINT_CLASSES.map((c) => CLASS_LABELS[c]),
     cells,
     contours: [
-      { label: 'throughput', unit: DISPLAY.flow.symbol, values: throughput, levels: contourLevels(throughput.flat(), 5, marks.target?.throughput !== undefined ? Number((marks.target.throughput * flow).toPrecision(6)) : undefined) },
-      { label: 'flow ratio A/B', values: ratio, levels: contourLevels(ratio.flat(), 5, marks.target?.ratio) },
+      {
+        label: 'throughput',
+        unit: DISPLAY.flow.symbol,
+        values: throughput,
+        levels: contourLevels(throughput.flat(), 5, marks.target?.throughput !== undefined ? Number((marks.target.throughput * flow).toPrecision(6)) : undefined),
+        format: (v) => `${Number(v.toPrecision(4))} ${DISPLAY.flow.symbol}`,
+      },
+      { label: 'flow ratio A/B', values: ratio, levels: contourLevels(ratio.flat(), 5, marks.target?.ratio), format: (v) => `A/B ${Number(v.toPrecision(4))}` },
     ],
     points,
+    region,
+    outlines: [
+      ...(marks.searched ? [{ label: 'range searched for the region', lines: [marks.searched.map(at)], closed: true, dash: '2 3' }] : []),
+      ...(marks.hold ? [{ label: 'hold: how far each setting may move alone', lines: marks.hold.map((line) => line.map(at)), closed: false, dash: '6 3' }] : []),
+    ],
   });
 }
 
 const CSV_COLUMNS: Array<{ name: (map: WindowMap) => string; value: (p: WindowPoint, map: WindowMap) => number | string }> = [
   { name: () => 'i', value: (p) => p.i },
   { name: () => 'j', value: (p) => p.j },
-  { name: (m) => `${settingName(m.spec.x.setting)}_${csvUnit(m.spec.x.setting)}`, value: (p, m) => p.x * unitOf(m.spec.x.setting).factor },
-  { name: (m) => `${settingName(m.spec.y.setting)}_${csvUnit(m.spec.y.setting)}`, value: (p, m) => p.y * unitOf(m.spec.y.setting).factor },
+  { name: (m) => axisOf(m, 'x').column, value: (p, m) => p.x * axisOf(m, 'x').factor },
+  { name: (m) => axisOf(m, 'y').column, value: (p, m) => p.y * axisOf(m, 'y').factor },
   { name: () => 'class', value: (p) => p.class },
   { name: () => 'pinned', value: (p) => p.pinned },
   { name: () => 'leakingAtoB', value: (p) => p.leakingAtoB },
@@ -114,6 +187,10 @@ const CSV_COLUMNS: Array<{ name: (map: WindowMap) => string; value: (p: WindowPo
   { name: () => 'message', value: (p) => p.message ?? '' },
 ];
 
+function axisOf(map: WindowMap, which: 'x' | 'y'): AxisDisplay {
+  return axisDisplay(map.spec.x.setting, map.spec.y.setting, map.spec.coordinates, which);
+}
+
 function csvUnit(setting: Setting): string {
   return setting.quantity === 'pressure' ? 'kPa' : 'uL_min';
 }
@@ -128,14 +205,50 @@ export function windowCsv(map: WindowMap): string {
   return [CSV_COLUMNS.map((c) => c.name(map)).join(','), ...rows].join('\n') + '\n';
 }
 
-export function windowText(chipName: string, map: WindowMap, marks: WindowMarks, run: { seconds: number; workers: number; current?: PointClass }): string {
+/** How the map was made, for its summary. */
+export interface WindowRun {
+  seconds: number;
+  workers: number;
+  current?: PointClass;
+  /** Why the axes are the mean and difference of the settings, when the command chose them. */
+  coordinatesReason?: string;
+  /** Time of the trace of the working region, s. */
+  traceSeconds?: number;
+  /** The working region's extent along each axis through the point as given. */
+  spans?: { x?: [number, number]; y?: [number, number] };
+  /** Hold tolerances at the point as given, with the axes' settings set (src/analyses/hold.ts). */
+  hold?: HoldResult;
+}
+
+export function windowText(chipName: string, map: WindowMap, marks: WindowMarks, run: WindowRun): string {
   const { x, y } = map.spec;
+  const ax = axisOf(map, 'x');
+  const ay = axisOf(map, 'y');
   const total = map.xValues.length * map.yValues.length;
   const out: string[] = [];
-  const axis = (a: SweepAxis) => `${settingName(a.setting)} ${show(a.setting, a.from)} … ${show(a.setting, a.to)} (${a.steps} steps)`;
-  out.push(`${chipName}: operating window over ${axis(x)} × ${axis(y)}`);
-  out.push(`${total} points, ${map.splits} splits each; ${run.seconds.toFixed(1)} s on ${run.workers} worker${run.workers > 1 ? 's' : ''}`);
+  const axis = (a: SweepAxis, d: AxisDisplay) => `${d.name} ${showOn(d, a.from)} … ${showOn(d, a.to)} (${a.steps} steps)`;
+  out.push(`${chipName}: operating window over ${axis(x, ax)} × ${axis(y, ay)}`);
+  if (run.coordinatesReason) out.push(`axes: ${run.coordinatesReason}`);
+  const region = marks.region;
+  if (region) {
+    out.push('');
+    if (region.pieces.length === 0) {
+      out.push(`working region: not found (${region.message ?? 'no boundary traced'}; ${region.solves} solves)`);
+    } else {
+      const where = (u: readonly [number, number]) => `${showOn(ax, u[0])}, ${showOn(ay, u[1])}`;
+      out.push(`working region (every split pinned, every contactor fed, no inlet taking liquid back, within the rating), traced exactly: ${region.closed ? 'closed' : `not closed: ${region.message}`}; ${region.solves} solves${run.traceSeconds !== undefined ? `, ${run.traceSeconds.toFixed(1)} s` : ''}`);
+      out.push('  bounded by');
+      for (const piece of region.pieces) {
+        const alike = piece.alike.length ? `, with ${piece.alike.length} more on the same line (${piece.alike.map((l) => l.id).join(' ')})` : '';
+        out.push(`    ${limitName(piece.limit)}${alike}: from (${where(piece.points[0]!)}) to (${where(piece.points.at(-1)!)})`);
+      }
+      const spans = run.spans;
+      if (spans?.x) out.push(`  through the point as given it spans ${ax.name} ${showOn(ax, spans.x[0])} … ${showOn(ax, spans.x[1])} (${showOn(ax, spans.x[1] - spans.x[0])} wide)`);
+      if (spans?.y) out.push(`  through the point as given it spans ${ay.name} ${showOn(ay, spans.y[0])} … ${showOn(ay, spans.y[1])} (${showOn(ay, spans.y[1] - spans.y[0])} wide)`);
+    }
+  }
   out.push('');
+  out.push(`grid: ${total} points, ${map.splits} splits each; ${run.seconds.toFixed(1)} s on ${run.workers} worker${run.workers > 1 ? 's' : ''}`);
   const width = maxOf(POINT_CLASSES.map((c) => CLASS_LABELS[c].length)) ?? -Infinity;
   for (const c of POINT_CLASSES) {
     if (map.counts[c] === 0) continue;
@@ -144,27 +257,28 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
   const pinned = map.points.flat().filter((p) => p.class === 'pinned');
   out.push('');
   if (pinned.length > 0) {
-    const range = (values: number[], s: Setting) => `${show(s, minOf(values) ?? Infinity)} … ${show(s, maxOf(values) ?? -Infinity)}`;
+    const range = (values: number[], d: AxisDisplay) => `${showOn(d, minOf(values) ?? Infinity)} … ${showOn(d, maxOf(values) ?? -Infinity)}`;
     const flows = pinned.map((p) => p.throughput * DISPLAY.flow.factor);
     const ratios = pinned.map((p) => p.flowRatio);
-    out.push('where every split is pinned');
-    out.push(`  ${settingName(x.setting)}  ${range(pinned.map((p) => p.x), x.setting)}`);
-    out.push(`  ${settingName(y.setting)}  ${range(pinned.map((p) => p.y), y.setting)}`);
+    out.push('grid points where the chip works');
+    out.push(`  ${ax.name}  ${range(pinned.map((p) => p.x), ax)}`);
+    out.push(`  ${ay.name}  ${range(pinned.map((p) => p.y), ay)}`);
     out.push(`  throughput  ${fmt(minOf(flows) ?? Infinity)} … ${fmt(maxOf(flows) ?? -Infinity)} ${DISPLAY.flow.symbol}; flow ratio A/B ${fmt(minOf(ratios) ?? Infinity)} … ${fmt(maxOf(ratios) ?? -Infinity)}`);
     const best = pinned.reduce((a, b) => (b.minMargin > a.minMargin ? b : a));
-    out.push(`  most room: every split at least ${fmt(best.minMargin)} Pa inside its window at ${settingName(x.setting)} = ${show(x.setting, best.x)}, ${settingName(y.setting)} = ${show(y.setting, best.y)}`);
+    out.push(`  most room: every split at least ${fmt(best.minMargin)} Pa inside its window at ${ax.name} = ${showOn(ax, best.x)}, ${ay.name} = ${showOn(ay, best.y)}`);
   } else {
-    out.push('no grid point has every split pinned');
+    out.push(`no grid point has every split pinned${region && region.pieces.length > 0 ? ' (the working region, traced above, lies between grid points)' : ''}`);
   }
-  if (marks.current) out.push(`as given: ${settingName(x.setting)} = ${show(x.setting, marks.current[0])}, ${settingName(y.setting)} = ${show(y.setting, marks.current[1])}${run.current ? ` (${CLASS_LABELS[run.current]})` : ''}`);
+  if (marks.current) out.push(`as given: ${ax.name} = ${showOn(ax, marks.current[0])}, ${ay.name} = ${showOn(ay, marks.current[1])}${run.current ? ` (${CLASS_LABELS[run.current]})` : ''}`);
   if (marks.target) {
     const wanted = [
       marks.target.throughput !== undefined ? `throughput ${fmt(marks.target.throughput * DISPLAY.flow.factor)} ${DISPLAY.flow.symbol}` : undefined,
       marks.target.ratio !== undefined ? `ratio ${fmt(marks.target.ratio)}` : undefined,
     ].filter(Boolean).join(', ');
     if (marks.crossings.length === 0) out.push(`target ${wanted}: ${marks.target.throughput !== undefined && marks.target.ratio !== undefined ? 'its two contours do not cross inside the map' : 'drawn as a contour'}`);
-    for (const c of marks.crossings) out.push(`target ${wanted}: near ${settingName(x.setting)} = ${show(x.setting, c[0])}, ${settingName(y.setting)} = ${show(y.setting, c[1])} (read off the grid; stratiflow tune finds it exactly)`);
+    for (const c of marks.crossings) out.push(`target ${wanted}: near ${ax.name} = ${showOn(ax, c[0])}, ${ay.name} = ${showOn(ay, c[1])} (read off the grid; stratiflow tune finds it exactly)`);
   }
+  if (run.hold) out.push('', ...holdLines(run.hold));
   out.push(map.maxPressure !== undefined
     ? `pressure rating ${fmt(map.maxPressure * DISPLAY.pressure.factor)} ${DISPLAY.pressure.symbol}; ${map.counts['over-rating']} points above it`
     : 'the layout gives no pressure rating (maxPressure): check the pressures against the rating of the chip, fittings and tubing yourself');

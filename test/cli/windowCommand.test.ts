@@ -1,7 +1,9 @@
 /**
  * `stratiflow window` as a user runs it, on the hand-worked single-contactor chip of
- * test/support/handWindow.ts: the files it writes and its summary, and a range given the wrong
- * way round. The map itself is checked against the hand example in test/analyses/window.test.ts.
+ * test/support/handWindow.ts: the files it writes and its summary, the traced region in the
+ * JSON, and a range given the wrong way round; and with no options on the bundled enzyme chip,
+ * whose working region is a band a few pascals wide. The map itself is checked against the hand
+ * example in test/analyses/window.test.ts, the traced region in test/analyses/windowRegion.test.ts.
  */
 import { describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
@@ -10,7 +12,8 @@ import { join } from 'node:path';
 import { XMLValidator } from 'fast-xml-parser';
 import { stringify } from 'yaml';
 import { runCli } from '../support/cli.js';
-import { singleContactor } from '../support/handWindow.js';
+import { fileURLToPath } from 'node:url';
+import { A1, A2, HAND, singleContactor } from '../support/handWindow.js';
 
 describe('stratiflow window', () => {
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-window-'));
@@ -34,6 +37,34 @@ describe('stratiflow window', () => {
     expect(grid.current).toEqual([7000, 7750]);
     expect(out).toMatch(/as given: inA\.pressure = 7 kPa, inB\.pressure = 7\.75 kPa \(all splits pinned\)/);
     expect(out).toMatch(/lab safety rules/);
+    // The traced region: closed, its split pieces on the hand-derived lines a₁p_A + a₂p_B = ±200 Pa
+    // (to 1e-6 of the window; the hand constants carry 7 digits).
+    expect(grid.region.closed).toBe(true);
+    for (const piece of grid.region.pieces.filter((p: { limit: { kind: string } }) => p.limit.kind.startsWith('split'))) {
+      const limit = piece.limit.kind === 'split-low' ? HAND.low : HAND.high;
+      for (const [pA, pB] of piece.points) expect(Math.abs(A1 * pA + A2 * pB - limit) / (HAND.high - HAND.low)).toBeLessThan(1e-6);
+    }
+    expect(out).toMatch(/working region .* traced exactly: closed/);
+  });
+
+  it('draws the enzyme chip\'s working band with no options: mean and difference axes, the band a few pascals wide around the point as given', async () => {
+    const enzyme = fileURLToPath(new URL('../../layouts/enzyme-atps-16.yaml', import.meta.url));
+    const svg = join(dir, 'enzyme.svg');
+    const json = join(dir, 'enzyme.json');
+    // A coarse grid keeps the test short; the band itself is traced, not sampled.
+    const { code, out } = await runCli(['window', enzyme, '--x-steps', '5', '--y-steps', '5', '--workers', '1', '--svg', svg, '--json', json]);
+    expect(code).toBe(0);
+    expect(out).toMatch(/axes: the mean and the difference of inA\.pressure and inB\.pressure/);
+    const map = JSON.parse(readFileSync(json, 'utf8'));
+    expect(map.spec.coordinates).toBe('mean-difference');
+    expect(map.region.closed).toBe(true);
+    const kinds = new Set(map.region.pieces.map((p: { limit: { kind: string } }) => p.limit.kind));
+    expect(kinds.has('split-low') && kinds.has('split-high')).toBe(true);
+    // The band: the difference of the inlet pressures may lie within about 9 Pa (16 splits on one line each side).
+    const width = Number(/spans inA\.pressure − inB\.pressure [\d.]+ Pa … [\d.]+ Pa \(([\d.]+) Pa wide\)/.exec(out)?.[1]);
+    expect(width).toBeGreaterThan(5);
+    expect(width).toBeLessThan(15);
+    expect(readFileSync(svg, 'utf8')).toMatch(/class="region-piece"/);
   });
 
   it('refuses a range whose ends are the wrong way round, naming the option', async () => {

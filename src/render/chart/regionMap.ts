@@ -1,7 +1,8 @@
 /**
  * The region map: a grid of classified cells (e.g. pinned, leaking, backflow) in category colours
- * and hatches, with labelled contour lines of other quantities over it and marked points.
- * Exports `regionMap` and its spec types.
+ * and hatches, with labelled contour lines of other quantities over it, a traced region (its
+ * outline drawn piece by piece, each piece labelled), outlined boxes and marked points; no two
+ * labels overlap. Exports `regionMap` and its spec types.
  */
 import { INK, categoryColour } from '../palette.js';
 import {
@@ -10,7 +11,7 @@ import {
 } from '../svg.js';
 import { axisTitle, beginChart, numericAxis, pixelTicks } from './axes.js';
 import { isoSegments, joinSegments } from './contours.js';
-import { cellEdges, drawPoints, gridSize } from './grid.js';
+import { LabelPlacer, cellEdges, drawPoints, gridSize } from './grid.js';
 import type { ChartSpec, Grid, GridAxisSpec, MarkedPoint, Point } from './spec.js';
 
 export interface ContourSpec {
@@ -22,6 +23,31 @@ export interface ContourSpec {
   format?: (value: number) => string;
 }
 
+/** A polyline in axis units with its label. */
+export interface LabelledLine {
+  points: readonly Point[];
+  label: string;
+}
+
+/** Dashed lines with one legend entry: closed outlines (a searched box) or open strokes (excursions). */
+export interface DashedMark {
+  label: string;
+  lines: ReadonlyArray<readonly Point[]>;
+  closed: boolean;
+  /** Dash pattern, px. */
+  dash: string;
+}
+
+/** A region found exactly (not by cells): its closed outline and the labelled pieces of it. */
+export interface TracedRegion {
+  /** Legend text of the region. */
+  label: string;
+  /** The class whose colour and hatch fill it. */
+  fillClass: number;
+  polygon: readonly Point[];
+  pieces: readonly LabelledLine[];
+}
+
 export interface RegionMapSpec extends ChartSpec {
   x: GridAxisSpec;
   y: GridAxisSpec;
@@ -30,6 +56,9 @@ export interface RegionMapSpec extends ChartSpec {
   cells: Grid;
   contours?: readonly ContourSpec[];
   points?: readonly MarkedPoint[];
+  region?: TracedRegion;
+  /** Dashed marks (e.g. the box searched, how far the settings may move), each with a legend entry. */
+  outlines?: readonly DashedMark[];
 }
 
 const CONTOUR_DASHES = [undefined, '5 3', '2 2'] as const;
@@ -45,6 +74,8 @@ export function regionMap(spec: RegionMapSpec): string {
   const legend: LegendEntry[] = [
     ...spec.classes.map((name, c) => ({ text: name, swatch: fillSwatch(categoryColour(c), c) })),
     ...contours.map((c, m) => ({ text: axisTitle(c), swatch: contourSwatch(m) })),
+    ...(spec.region ? [{ text: spec.region.label, swatch: regionSwatch(spec.region.fillClass) }] : []),
+    ...(spec.outlines ?? []).map((o) => ({ text: o.label, swatch: outlineSwatch(o) })),
   ];
   const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label));
   hatchDefs(root, spec.classes.length);
@@ -75,9 +106,58 @@ export function regionMap(spec: RegionMapSpec): string {
   drawAxisLeft(root, frame, pixelTicks(y), axisTitle(spec.y), false, yTitleX);
 
   const lines = clipTo(root, frame);
-  contours.forEach((c, m) => drawContours(lines, root, frame, c, m));
-  drawPoints(root, frame, spec.points ?? [], x.scale, y.scale);
+  const px = (p: Point): Point => [x.scale(p[0]), y.scale(p[1])];
+  const path = (points: readonly Point[], close: boolean) => points.map((p, k) => `${k === 0 ? 'M' : 'L'}${num(px(p)[0])},${num(px(p)[1])}`).join('') + (close ? 'Z' : '');
+  const region = spec.region;
+  if (region && region.polygon.length > 2) {
+    const fill = el(lines, 'g', { class: 'traced-region' });
+    el(fill, 'path', { d: path(region.polygon, true), fill: categoryColour(region.fillClass), 'fill-opacity': 0.85 });
+    const hatch = hatchFill(region.fillClass);
+    if (hatch) el(fill, 'path', { d: path(region.polygon, true), fill: hatch });
+  }
+  const placer = new LabelPlacer(frame);
+  contours.forEach((c, m) => drawContours(lines, root, frame, c, m, placer));
+  if (region) {
+    // Each piece of the outline is drawn at least 2 px wide, so that a band thinner than a pixel still shows.
+    const outline = el(lines, 'g', { class: 'region-outline', fill: 'none', stroke: INK.text, 'stroke-width': 2, 'stroke-linejoin': 'round' });
+    for (const piece of region.pieces) el(outline, 'path', { class: 'region-piece', d: path(piece.points, false) });
+  }
+  const outlines = el(lines, 'g', { class: 'outlines', fill: 'none', stroke: INK.text, 'stroke-width': 1.4 });
+  for (const o of spec.outlines ?? []) for (const line of o.lines) el(outlines, 'path', { class: 'outline', d: path(line, o.closed), 'stroke-dasharray': o.dash });
+  drawPoints(root, frame, spec.points ?? [], x.scale, y.scale, placer);
+  if (region) {
+    const labels = el(root, 'g', { class: 'region-labels', 'font-size': FONT_SIZE - 1 });
+    for (const piece of region.pieces) if (piece.label) placer.place(labels, piece.label, pieceAnchors(piece.points.map(px)));
+  }
   return serialise(root);
+}
+
+/** Where a piece's label may go: beside points along it (middle first), on either side. */
+function pieceAnchors(points: readonly Point[]): Array<{ x: number; y: number; anchor: 'start' | 'end' | 'middle' }> {
+  const out: Array<{ x: number; y: number; anchor: 'start' | 'end' | 'middle' }> = [];
+  if (points.length === 0) return out;
+  for (const f of [0.5, 0.35, 0.65, 0.2, 0.8, 0.05, 0.95]) {
+    const k = Math.min(points.length - 1, Math.round(f * (points.length - 1)));
+    const [cx, cy] = points[k]!;
+    for (const [dx, dy, anchor] of [[0, -10, 'middle'], [0, 10, 'middle'], [6, 0, 'start'], [-6, 0, 'end']] as const) out.push({ x: cx + dx, y: cy + dy, anchor });
+  }
+  return out;
+}
+
+function regionSwatch(k: number): LegendEntry['swatch'] {
+  const fill = fillSwatch(categoryColour(k), k);
+  return (parent, cx, cy) => {
+    fill(parent, cx, cy);
+    el(parent, 'rect', { x: cx - 12, y: cy - 6, width: 24, height: 12, fill: 'none', stroke: INK.text, 'stroke-width': 2 });
+  };
+}
+
+function outlineSwatch(mark: DashedMark): LegendEntry['swatch'] {
+  const style = { fill: 'none', stroke: INK.text, 'stroke-width': 1.4, 'stroke-dasharray': mark.dash };
+  return (parent, cx, cy) =>
+    void (mark.closed
+      ? el(parent, 'rect', { x: cx - 11, y: cy - 5, width: 22, height: 10, ...style })
+      : el(parent, 'path', { d: `M${num(cx - 11)},${num(cy)}L${num(cx + 11)},${num(cy)}M${num(cx)},${num(cy - 5)}L${num(cx)},${num(cy + 5)}`, ...style }));
 }
 
 function contourSwatch(m: number): LegendEntry['swatch'] {
@@ -85,7 +165,7 @@ function contourSwatch(m: number): LegendEntry['swatch'] {
 }
 
 /** Isolines of one contour spec, each level labelled at its rightmost point. */
-function drawContours(clipped: SvgNode, root: SvgNode, frame: Frame, spec: ContourSpec, m: number): void {
+function drawContours(clipped: SvgNode, root: SvgNode, frame: Frame, spec: ContourSpec, m: number, placer: LabelPlacer): void {
   const { nx, ny } = gridSize(spec.values);
   const px = (i: number) => frame.x0 + ((frame.x1 - frame.x0) * (i + 0.5)) / nx;
   const py = (j: number) => frame.y1 - ((frame.y1 - frame.y0) * (j + 0.5)) / ny;
@@ -98,11 +178,9 @@ function drawContours(clipped: SvgNode, root: SvgNode, frame: Frame, spec: Conto
       .map((polyline) => polyline.map((p, k) => `${k === 0 ? 'M' : 'L'}${num(px(p[0]))},${num(py(p[1]))}`).join(''))
       .join('');
     el(clipped, 'path', { class: 'contour', d, fill: 'none', stroke: INK.text, 'stroke-width': 1.2, 'stroke-linecap': 'round', 'stroke-dasharray': CONTOUR_DASHES[m % CONTOUR_DASHES.length] });
-    let best: Point = [-Infinity, 0];
-    for (const [a, b] of segments) {
-      const mid: Point = [px((a[0] + b[0]) / 2), py((a[1] + b[1]) / 2)];
-      if (mid[0] > best[0] || (mid[0] === best[0] && mid[1] < best[1])) best = mid;
-    }
-    label(labels, format(level), { ...TEXT_HALO, x: best[0] - 3, y: best[1] - 3, 'text-anchor': 'end' });
+    // Labelled at the rightmost free place along the line (the label ends there).
+    const mids = segments.map(([a, b]): Point => [px((a[0] + b[0]) / 2), py((a[1] + b[1]) / 2)]).sort((p, q) => q[0] - p[0] || p[1] - q[1]);
+    const step = Math.max(1, Math.floor(mids.length / 12));
+    placer.place(labels, format(level), mids.filter((_, k) => k % step === 0).map((p) => ({ x: p[0] - 3, y: p[1] - 8, anchor: 'end' as const })));
   }
 }
