@@ -10,8 +10,8 @@
  * Exports `axisValues`,
  * `describePoint`, `predictedStart`, `sweepLine`, `windowMap`, `SWEEP_SOLVER`, `POINT_CLASSES`,
  * `mapTarget`, `targetCrossings` and the types. Continuation: each point starts from the solutions of its neighbours. The
- * first column is swept upwards from the first point, then each row rightwards from its
- * first-column point; rows are independent jobs, so the map is the same whatever the number of
+ * seed column is swept up and down from the seed point, then each row right and left from its
+ * seed-column point; lines are independent jobs, so the map is the same whatever the number of
  * worker threads (./sweepWorker.ts) that share them.
  * No file I/O; no drawing.
  */
@@ -239,6 +239,13 @@ export interface WindowOptions {
   workers?: number;
   /** Warm start for the first grid point (e.g. the chip's solution as given). */
   seed?: WarmStart;
+  /**
+   * The grid point the sweep starts from (default 0, 0): a point where the chip works, near the
+   * seed's settings, lets continuation go outward from working states into failing ones, which
+   * the solver follows better than the reverse.
+   */
+  seedColumn?: number;
+  seedRow?: number;
   /** Called after each solved point with the number done and the total. */
   onProgress?: (done: number, total: number) => void;
 }
@@ -279,15 +286,23 @@ export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOpt
     grid[p.j]![p.i] = p;
     options.onProgress?.(++done, total);
   };
-  const column: LinePoint[] = Array.from({ length: ny }, (_, j) => ({ i: 0, j }));
-  const row = (j: number): LinePoint[] => Array.from({ length: nx - 1 }, (_, k) => ({ i: k + 1, j }));
+  // The seed column is swept from the seed row up and then down; each row from the seed column
+  // right and left.
+  const c = Math.min(nx - 1, Math.max(0, options.seedColumn ?? 0));
+  const r = Math.min(ny - 1, Math.max(0, options.seedRow ?? 0));
+  const up: LinePoint[] = Array.from({ length: ny - r }, (_, k) => ({ i: c, j: r + k }));
+  const down: LinePoint[] = Array.from({ length: r }, (_, k) => ({ i: c, j: r - 1 - k }));
+  const rows = (j: number): LinePoint[][] =>
+    [Array.from({ length: nx - 1 - c }, (_, k) => ({ i: c + 1 + k, j })), Array.from({ length: c }, (_, k) => ({ i: c - 1 - k, j }))].filter((line) => line.length > 0);
   const workers = Math.max(1, Math.min(options.workers ?? 1, ny));
 
   if (workers === 1) {
-    const first = sweepLine(chip, spec, column, options.seed, record);
-    for (let j = 0; j < ny; j++) sweepLine(chip, spec, row(j), first.warm[j], record);
+    const upward = sweepLine(chip, spec, up, options.seed, record);
+    const downward = sweepLine(chip, spec, down, upward.warm[0], record);
+    const columnWarm = (j: number) => (j >= r ? upward.warm[j - r] : downward.warm[r - 1 - j]);
+    for (let j = 0; j < ny; j++) for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(j), record);
   } else {
-    await sweepInWorkers(chip, spec, workers, column, row, options.seed, record);
+    await sweepInWorkers(chip, spec, workers, { up, down, rows }, options.seed, record);
   }
 
   const counts = Object.fromEntries(POINT_CLASSES.map((c) => [c, 0])) as Record<PointClass, number>;
@@ -301,25 +316,27 @@ function startWorker(data: SweepWorkerData): Worker {
 }
 
 /**
- * The first worker sweeps the first column and streams each point's warm start back; every row
- * is queued as soon as its first-column point is known and taken by the next idle worker.
+ * The seed column is swept up from the seed row (streaming each point's warm start back), and
+ * down from it once the seed point is known; every row's lines are queued as soon as its
+ * column point is known and taken by the next idle worker.
  */
 function sweepInWorkers(
   chip: Chip,
   spec: WindowSpec,
   count: number,
-  column: LinePoint[],
-  row: (j: number) => LinePoint[],
+  lines: { up: LinePoint[]; down: LinePoint[]; rows: (j: number) => LinePoint[][] },
   seed: WarmStart | undefined,
   record: (p: WindowPoint) => void,
 ): Promise<void> {
-  const ny = column.length;
-  let rowsLeft = ny;
+  const UP = -1;
+  const DOWN = -2;
+  let pending = 0;
+  let next = 0;
   return runPool<SweepJob, SweepMessage>(
     Array.from({ length: count }, () => startWorker({ chip, spec })),
     (pool) => {
-      pool.submit({ id: -1, line: column, seed, stream: true });
-      if (ny === 0) pool.finish();
+      pending++;
+      pool.submit({ id: UP, line: lines.up, seed, stream: true });
     },
     (message, pool) => {
       if (message.kind === 'error') {
@@ -328,11 +345,19 @@ function sweepInWorkers(
       }
       if (message.kind === 'point') {
         record(message.point);
-        // A first-column point: its row can start.
-        if (message.id === -1 && spec.x.steps > 1) pool.submit({ id: message.point.j, line: row(message.point.j), seed: message.warm, stream: false });
+        if (message.id !== UP && message.id !== DOWN) return false;
+        // A column point: its row can start, and the first one also starts the way down.
+        if (message.id === UP && message.point.j === lines.up[0]!.j && lines.down.length > 0) {
+          pending++;
+          pool.submit({ id: DOWN, line: lines.down, seed: message.warm, stream: true });
+        }
+        for (const line of lines.rows(message.point.j)) {
+          pending++;
+          pool.submit({ id: next++, line, seed: message.warm, stream: false });
+        }
         return false;
       }
-      if (message.id !== -1 && --rowsLeft === 0) pool.finish();
+      if (--pending === 0) pool.finish();
       return true;
     },
   );

@@ -81,6 +81,12 @@ function searchRange(flag: string, setting: Setting, current: number | undefined
   return [0.5 * current, 2 * current].sort((a, b) => a - b) as [number, number];
 }
 
+/** The index of the grid value of `axis` nearest `value` (0 without one). */
+function nearestStep(axis: { from: number; to: number; steps: number }, value: number | undefined): number {
+  if (value === undefined) return 0;
+  return Math.min(axis.steps - 1, Math.max(0, Math.round(((value - axis.from) / (axis.to - axis.from)) * (axis.steps - 1))));
+}
+
 /** The traced region's extent on each axis, widened by MAP_MARGIN (and to 2 % of its level when it is a line). */
 function mapRanges(region: WindowRegion): { x: [number, number]; y: [number, number] } | undefined {
   if (region.polygon.length < 3) return undefined;
@@ -205,6 +211,9 @@ export function registerWindow(program: Command, context: CommandContext): void 
         map = await windowMap(chip, spec, {
           workers,
           seed: base.result.converged ? warmStartFrom(base) : undefined,
+          // From the grid point nearest the point as given (a working one, or inside the region).
+          seedColumn: nearestStep(spec.x, (current ?? region.inside)?.[0]),
+          seedRow: nearestStep(spec.y, (current ?? region.inside)?.[1]),
           onProgress: progress.onProgress,
         });
       } finally {

@@ -121,6 +121,20 @@ describe('worker threads', () => {
     expect(two.points).toEqual(one.points);
     expect(two.counts).toEqual(one.counts);
   });
+
+  it('give the same map as one thread when the sweep starts inside the grid, and solve every point once', async () => {
+    const chip = layoutToChip(ladderLayout({ contactors: 3 }), 'ladder');
+    const spec = {
+      x: { setting: parseSetting('inA.pressure', chip), from: 3e3, to: 5e3, steps: 5 },
+      y: { setting: parseSetting('inB.pressure', chip), from: 2e3, to: 4e3, steps: 4 },
+    };
+    const one = await windowMap(chip, spec, { workers: 1, seedColumn: 2, seedRow: 1 });
+    let reports = 0;
+    const two = await windowMap(chip, spec, { workers: 2, seedColumn: 2, seedRow: 1, onProgress: () => reports++ });
+    expect(reports).toBe(20);
+    expect(two.points).toEqual(one.points);
+    expect(one.points.flat().map((p) => `${p.i},${p.j}`).sort()).toEqual(Array.from({ length: 20 }, (_, k) => `${k % 5},${Math.floor(k / 5)}`).sort());
+  });
 });
 
 describe('targetCrossings', () => {
