@@ -8,6 +8,7 @@
  */
 import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
+import { holdTolerances } from '../analyses/hold.js';
 import { loadLayout, readLayoutText } from '../layout/load.js';
 import { defaultFreedoms, tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
@@ -88,11 +89,13 @@ export function registerTune(program: Command, context: CommandContext): void {
       }
       const original = readLayoutText(file);
       writeOutputs([{ path: out, option: '--out', content: tunedLayoutText(original, out.endsWith('.json'), result, tuneHeader(result)) }]);
+      // How tightly each tuned setting must be held (src/analyses/hold.ts).
+      const hold = holdTolerances(result.solved);
       if (o.json) {
         const { chip: _tuned, solved, ...rest } = result;
-        context.out(JSON.stringify({ layout: file, written: out, ...rest, result: solved.result }, jsonNumbers, 2) + '\n');
+        context.out(JSON.stringify({ layout: file, written: out, ...rest, result: solved.result, hold }, jsonNumbers, 2) + '\n');
       } else {
-        context.out(tuneText(chip, result, out));
+        context.out(tuneText(chip, result, out, hold));
       }
     });
 }

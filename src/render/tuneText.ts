@@ -4,6 +4,7 @@
  * text out. Also `tuneHeader`, the line that heads the tuned layout file.
  */
 import { settingName, type Setting } from '../analyses/settings.js';
+import type { HoldResult } from '../analyses/hold.js';
 import type { TargetKind, TuneResult } from '../analyses/tune.js';
 import type { Chip } from '../network/model.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
@@ -27,7 +28,7 @@ function settingUnit(setting: Setting): { symbol: string; factor: number } {
 
 const withUnit = (value: number, unit: { symbol: string; factor: number }, digits = 6) => `${fmt(value * unit.factor, digits)}${unit.symbol ? ` ${unit.symbol}` : ''}`;
 
-export function tuneText(chip: Chip, result: TuneResult, written?: string): string {
+export function tuneText(chip: Chip, result: TuneResult, written?: string, hold?: HoldResult): string {
   const out: string[] = [];
   out.push(`${chip.name}: tuned ${result.settings.length} setting${result.settings.length > 1 ? 's' : ''} for ${result.targets.length} target${result.targets.length > 1 ? 's' : ''} (${result.solves} chip solves)`);
   out.push('');
@@ -75,7 +76,7 @@ export function tuneText(chip: Chip, result: TuneResult, written?: string): stri
   if (written) out.push(`tuned layout written to ${written}`);
   out.push('');
   // tuneChip returns only settings at which the chip works (src/analyses/verdict.ts): an empty verdict.
-  out.push(chipText(chip.name, result.solved.result, []));
+  out.push(chipText(chip.name, result.solved.result, [], hold));
   return out.join('\n');
 }
 

@@ -28,6 +28,9 @@ describe('stratiflow tune', () => {
     expect(out).toMatch(/tuned layout written to .*ladder-tuned\.yaml/);
     expect(out).toMatch(/lab safety rules/);
     expect(out).toMatch(/within its rating of 300 kPa/);
+    // How tightly the tuned settings must be held, as solve prints it.
+    expect(out).toMatch(/hold tolerances/);
+    expect(out).toMatch(/inA\.pressure .* Pa … \+.* Pa/);
     const tuned = loadLayout(join(dir, 'ladder-tuned.yaml'));
     expectTargetsMet(tuned, [{ kind: 'throughput', value: 16 * uLmin }, { kind: 'ratio', value: 0.18 }]);
     expect(tuned.nodes.find((n) => n.id === 'inA')).toMatchObject({ flow: undefined });
