@@ -19,7 +19,9 @@
  *
  * Every boundary point is a converged solve on the working side, at most TOLERANCE of its
  * requirement's scale inside it (a split: of its window's width), so that a band 20 Pa wide
- * is traced as exactly as a wide one. A boundary may only be approached from the working side:
+ * is traced as exactly as a wide one. Where the chip does not settle near the boundary (a
+ * corner where feeds start to starve), the walk goes round the other way too and the gap
+ * between its two ends is a piece of its own (`unsettled`), drawn straight. A boundary may only be approached from the working side:
  * past a split's limit the solve holds Δ at the limit (the split leaks), so c_k has no useful
  * value there.
  */
@@ -287,18 +289,18 @@ export function traceWindow(chip: Chip, search: WindowSearch): WindowRegion {
     // Another requirement fails first on the way (nearly parallel split lines do): bisect on
     // the way for the last working station, and go onto the curve of the requirement nearest
     // its limit there.
-    let [lo, hi] = [inside, undefined as Station | undefined];
+    let lo = inside;
     let [tLo, tHi] = [0, 1];
     for (let k = 0; k < 40 && tHi - tLo > 1e-6; k++) {
       const t = (tLo + tHi) / 2;
       const s = solveAt([inside.u[0] + t * (aim[0] - inside.u[0]), inside.u[1] + t * (aim[1] - inside.u[1])], warm(lo));
       if (s && s.works) [lo, tLo] = [s, t];
-      else [hi, tHi] = [s, t];
+      else tHi = t;
     }
     const target = groupAt(lo, activeAt(lo, first.limit));
     const r = find(lo, target);
     const rg2 = r.gradient[0] ** 2 + r.gradient[1] ** 2;
-    station = hi === undefined ? undefined : ontoCurve(lo, [lo.u[0] - (r.value * r.gradient[0]) / rg2, lo.u[1] - (r.value * r.gradient[1]) / rg2], target);
+    station = ontoCurve(lo, [lo.u[0] - (r.value * r.gradient[0]) / rg2, lo.u[1] - (r.value * r.gradient[1]) / rg2], target);
   }
   if (!station) return { search, inside: inside.u, pieces: [], polygon: [], closed: false, solves, message: `could not reach the boundary (${limitName(first.limit)}) from the working point` };
   // The requirement nearest on the boundary may be another than the one aimed at.

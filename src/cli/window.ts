@@ -227,7 +227,7 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const outputs: Output[] = [{ path: svgFile, option: '--svg', content: windowChart(chip.name, map, marks) }];
       if (jsonFile) {
         const { search, ...traced } = region;
-        const json = { layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings, region: { searchedIn: search.coordinates, searchBox: search.box, ...traced }, hold };
+        const json = { layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings, region: { searchedIn: search.coordinates, searchBox: search.box, ...traced }, holdSegments: hold, hold: holdResult };
         outputs.push({ path: jsonFile, option: '--json', content: JSON.stringify(json, jsonNumbers, 2) + '\n' });
       }
       if (csvFile) outputs.push({ path: csvFile, option: '--csv', content: windowCsv(map) });

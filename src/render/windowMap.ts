@@ -52,11 +52,6 @@ function showOn(axis: AxisDisplay, value: number): string {
   return `${fmt(value * axis.factor)} ${axis.symbol}`;
 }
 
-function show(setting: Setting, value: number): string {
-  const unit = unitOf(setting);
-  return `${fmt(value * unit.factor)} ${unit.symbol}`;
-}
-
 /** A short label of a boundary piece for the map: `s6 low`, `k3 starved of B`, `range`. */
 export function pieceLabel(limit: WindowLimit, alike: readonly WindowLimit[]): string {
   const more = alike.length ? ` (+${alike.length})` : '';
@@ -243,8 +238,10 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
         out.push(`    ${limitName(piece.limit)}${alike}: from (${where(piece.points[0]!)}) to (${where(piece.points.at(-1)!)})`);
       }
       const spans = run.spans;
-      if (spans?.x) out.push(`  through the point as given it spans ${ax.name} ${showOn(ax, spans.x[0])} … ${showOn(ax, spans.x[1])} (${showOn(ax, spans.x[1] - spans.x[0])} wide)`);
-      if (spans?.y) out.push(`  through the point as given it spans ${ay.name} ${showOn(ay, spans.y[0])} … ${showOn(ay, spans.y[1])} (${showOn(ay, spans.y[1] - spans.y[0])} wide)`);
+      // A width of pressures in pascals: it is the small figure a reader looks for.
+      const wide = (d: AxisDisplay, w: number) => (d.symbol === DISPLAY.pressure.symbol ? `${fmt(w * DISPLAY.pressureDifference.factor)} ${DISPLAY.pressureDifference.symbol}` : showOn(d, w));
+      if (spans?.x) out.push(`  through the point as given it spans ${ax.name} ${showOn(ax, spans.x[0])} … ${showOn(ax, spans.x[1])} (${wide(ax, spans.x[1] - spans.x[0])} wide)`);
+      if (spans?.y) out.push(`  through the point as given it spans ${ay.name} ${showOn(ay, spans.y[0])} … ${showOn(ay, spans.y[1])} (${wide(ay, spans.y[1] - spans.y[0])} wide)`);
     }
   }
   out.push('');

@@ -65,6 +65,9 @@ describe('stratiflow window', () => {
     expect(width).toBeGreaterThan(5);
     expect(width).toBeLessThan(15);
     expect(readFileSync(svg, 'utf8')).toMatch(/class="region-piece"/);
+    // The hold tolerances at the point as given, as solve --json gives them.
+    expect(map.hold.settings.map((h: { setting: { node: string } }) => h.setting.node)).toContain('inA');
+    expect(out).toMatch(/hold tolerances/);
   });
 
   it('refuses a range whose ends are the wrong way round, naming the option', async () => {

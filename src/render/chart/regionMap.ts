@@ -6,7 +6,7 @@
  */
 import { INK, categoryColour } from '../palette.js';
 import {
-  FONT_SIZE, TEXT_HALO, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, label, num, serialise,
+  FONT_SIZE, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, num, serialise,
   type Frame, type LegendEntry, type SvgNode,
 } from '../svg.js';
 import { axisTitle, beginChart, numericAxis, pixelTicks } from './axes.js';
