@@ -2,7 +2,8 @@
  * The whole-chip answer: solve the network and turn the raw solution into what users read —
  * per-node pressures, per-segment phase flows and holdups, split states and purities, the
  * per-contactor table, the spread between contactors and the warnings.
- * Exports `solveChip`, `warmStartFrom`, `summariseSolution`, `spreadOf` and the result types.
+ * Exports `solveChip`, `warmStartFrom`, `summariseSolution`, `summariseContactors` (the part a
+ * sweep records of each solve), `spreadOf` and the result types.
  * No I/O. The tables are computed in ./chipRows.ts, the warnings written in ./chipWarnings.ts.
  */
 import { assembleNetwork, type Network } from '../network/assemble.js';
@@ -115,6 +116,13 @@ export interface ChipSolution {
   warnings: string[];
 }
 
+/** The contactor table, the splits and the spread between contactors: what a sweep records of a solve (a `ChipSolution` is one too). */
+export interface ContactorSummary {
+  contactors: ContactorResult[];
+  splits: SplitResult[];
+  summary: Pick<ChipSummary, 'spread'>;
+}
+
 export interface SolvedChip {
   chip: Chip;
   network: Network;
@@ -164,17 +172,30 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
     summary: {
       throughputA: ports.throughputA,
       throughputB: ports.throughputB,
-      spread: {
-        total: spreadOf(rows.map((r) => r.flowA + r.flowB)),
-        flowA: spreadOf(rows.map((r) => r.flowA)),
-        flowB: spreadOf(rows.map((r) => r.flowB)),
-        holdup: spreadOf(rows.map((r) => r.holdupA)),
-      },
+      spread: contactorSpread(rows),
       inlets: ports.inlets,
       outlets: ports.outlets,
       maxPressure,
       pressureResolution: pressureResolution({ nodes }),
     },
     warnings,
+  };
+}
+
+/**
+ * The contactor rows, splits and spread of `summariseSolution` alone, without the node, segment
+ * and port tables and the warnings that a sweep's record does not read: the same numbers.
+ */
+export function summariseContactors(network: Network, raw: NetworkSolution): ContactorSummary {
+  const { rows, splits } = contactorResults(network, raw);
+  return { contactors: rows, splits, summary: { spread: contactorSpread(rows) } };
+}
+
+function contactorSpread(rows: ContactorResult[]): ChipSummary['spread'] {
+  return {
+    total: spreadOf(rows.map((r) => r.flowA + r.flowB)),
+    flowA: spreadOf(rows.map((r) => r.flowA)),
+    flowB: spreadOf(rows.map((r) => r.flowB)),
+    holdup: spreadOf(rows.map((r) => r.holdupA)),
   };
 }

@@ -11,7 +11,9 @@
  * layout (`observableLayout`, `observe`) and `runJob`, one solve as a worker thread runs it.
  * No I/O, no threads; ./tolerance.ts runs the study.
  */
-import { solveChip, type ChipSolution } from './chip.js';
+import { summariseContactors, type ContactorSummary } from './chip.js';
+import { assembleNetwork, restampNetwork, type Network } from '../network/assemble.js';
+import { solveNetwork } from '../solver/newton.js';
 import { sampleStream, standardNormal, standardUniform } from './random.js';
 import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
@@ -267,7 +269,7 @@ export const CONTACTOR_BASE = SPREAD_KEYS.length;
 export const contactorAt = (c: number) => CONTACTOR_BASE + 4 * c;
 export const splitAt = (layout: ObservableLayout, s: number) => CONTACTOR_BASE + 4 * layout.contactors + 3 * s;
 
-export function observableLayout(solution: ChipSolution): ObservableLayout {
+export function observableLayout(solution: ContactorSummary): ObservableLayout {
   const contactors = solution.contactors.length;
   const splits = solution.splits.length;
   return { contactors, splits, size: CONTACTOR_BASE + 4 * contactors + 3 * splits };
@@ -276,7 +278,7 @@ export function observableLayout(solution: ChipSolution): ObservableLayout {
 /** Split states as small numbers: 0 pinned, 1 leaking A to B, 2 leaking B to A. */
 export const STATE_CODES = ['pinned', 'leaking-A-to-B', 'leaking-B-to-A'] as const;
 
-export function observe(solution: ChipSolution, layout: ObservableLayout): { values: Float64Array; states: Uint8Array } {
+export function observe(solution: ContactorSummary, layout: ObservableLayout): { values: Float64Array; states: Uint8Array } {
   const values = new Float64Array(layout.size);
   const { spread } = solution.summary;
   values.set([spread.total.cv, spread.total.ratio, spread.flowA.cv, spread.flowA.ratio, spread.flowB.cv, spread.flowB.ratio, spread.holdup.cv, spread.holdup.ratio]);
@@ -307,11 +309,25 @@ export type Outcome =
   | { values: Float64Array; states: Uint8Array; /** Solved only from a cold start. */ cold: boolean; problem?: undefined }
   | { problem: string; values?: undefined; states?: undefined; cold?: undefined };
 
+/** The nominal chip's network, assembled once per context (per thread) and restamped for every realisation. */
+const nominalNetworks = new WeakMap<JobContext, Network>();
+
+function nominalNetwork(context: JobContext): Network {
+  let network = nominalNetworks.get(context);
+  if (!network) {
+    network = assembleNetwork(context.chip);
+    nominalNetworks.set(context, network);
+  }
+  return network;
+}
+
 /**
  * Warm start from the nominal solution (the solver itself falls back to a cold start when that
  * does not settle). `workspace` is shared by the jobs of one thread: the realisations have the
  * nominal chip's pattern, so one symbolic analysis serves them all (numeric factors are never
- * carried from one solve to the next, so the outcome does not depend on the job order).
+ * carried from one solve to the next, so the outcome does not depend on the job order). The
+ * network is the nominal one restamped with the realised sizes and fluids, and only the
+ * contactors are summarised: the same numbers as `solveChip`, without its fixed costs.
  */
 export function runJob(context: JobContext, job: Job, workspace = new SolverWorkspace()): Outcome {
   let z: Float64Array;
@@ -326,13 +342,14 @@ export function runJob(context: JobContext, job: Job, workspace = new SolverWork
   const realised = realiseChip(context.chip, context.plan, z, scale);
   if (!realised.chip) return { problem: realised.problem };
   try {
-    const solved = solveChip(realised.chip, context.solver, context.warm, workspace);
-    const cold = solved.raw.restartedCold;
-    if (!solved.result.converged) return { problem: `did not converge: ${solved.result.message ?? 'no reason given'}` };
-    if (solved.result.contactors.length !== context.layout.contactors || solved.result.splits.length !== context.layout.splits) {
+    const network = restampNetwork(nominalNetwork(context), realised.chip);
+    const raw = solveNetwork(network, context.solver, context.warm, workspace);
+    if (!raw.converged) return { problem: `did not converge: ${raw.message ?? 'no reason given'}` };
+    const summary = summariseContactors(network, raw);
+    if (summary.contactors.length !== context.layout.contactors || summary.splits.length !== context.layout.splits) {
       return { problem: 'the solution has a different set of contactors or splits than the nominal one' };
     }
-    return { ...observe(solved.result, context.layout), cold };
+    return { ...observe(summary, context.layout), cold: raw.restartedCold };
   } catch (error) {
     return { problem: error instanceof Error ? error.message : String(error) };
   }

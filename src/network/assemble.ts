@@ -2,7 +2,8 @@
  * From the chip model to the hydraulic network the solver works on: pressure ports (one per
  * node, two per merge and split: near and far side), elements (plain segments, two-lane
  * contactors, split leak paths), boundary conditions, and the nominal phase of every port.
- * Exports `assembleNetwork` and the network types. Does no solving.
+ * Exports `assembleNetwork`, `restampNetwork` (the same topology with other sizes or fluids,
+ * for sweeps) and the network types. Does no solving.
  */
 import { conductance, layerAxes, type TwoLayerSection } from '../physics/section.js';
 import { wallProfileOf } from '../physics/shapedSection.js';
@@ -104,25 +105,11 @@ export function assembleNetwork(chip: Chip): Network {
   for (const segment of chip.segments) {
     const from = nodeById.get(segment.from)!;
     if (from.kind === 'merge') {
-      const section = segment.section as TwoLayerSection;
       const [nearIn, farIn] = portsOf.get(from.id)!;
       const endPorts = portsOf.get(segment.to)!;
-      const { across, along } = section.shape === 'rect' ? layerAxes(section) : { across: wallProfileOf(section).topWidth, along: section.depth };
-      const mu = Math.sqrt(chip.phases.A.viscosity * chip.phases.B.viscosity);
-      contactors.push({
-        kind: 'contactor',
-        segment,
-        section,
-        across,
-        along,
-        nearIn: nearIn!,
-        farIn: farIn!,
-        nearOut: endPorts[0]!,
-        farOut: endPorts[endPorts.length - 1]!,
-        scale: conductance(section, mu) / segment.length,
-      });
+      contactors.push(contactorElement(chip, segment, nearIn!, farIn!, endPorts[0]!, endPorts[endPorts.length - 1]!));
     } else {
-      plains.push({ kind: 'plain', segment, from: portAt(segment.from, segment.id), to: portAt(segment.to, segment.id), r0: segment.length / conductance(segment.section, 1) });
+      plains.push(plainElement(segment, portAt(segment.from, segment.id), portAt(segment.to, segment.id)));
     }
   }
 
@@ -134,15 +121,64 @@ export function assembleNetwork(chip: Chip): Network {
     if (end.kind !== 'split') continue;
     const [near, far] = portsOf.get(end.id)!;
     const nearPhase: PhaseName = ports[c.nearIn]!.nominal >= 0.5 ? 'A' : 'B';
-    const window = splitWindowOf(chip, end, spannedDimension(c.segment))!;
-    const split: SplitElement = { node: end, contactor: c, near: near!, far: far!, window, nearPhase };
-    c.split = split;
-    splits.push(split);
+    splits.push(splitElement(chip, c, end, near!, far!, nearPhase));
   }
   for (const port of ports) {
     if (port.node.kind === 'outlet') port.supplies = port.node.phase ? (port.node.phase === 'A' ? 1 : 0) : port.nominal;
   }
   return { chip, ports, plains, contactors, splits, portsOf };
+}
+
+/**
+ * The network of `chip` when it has the nodes of `template.chip` (the same array) and segments
+ * that join the same nodes in the same order, differing only in sections, lengths, fluids,
+ * interfacial tension or contact angles (a realisation of a tolerance study): the ports, their
+ * nominal compositions and the numbering are the template's, and only what those quantities
+ * set is computed again (resistances, lane geometry and scales, split windows). The same values
+ * as `assembleNetwork(chip)`, without the topology work; any other chip is assembled afresh.
+ */
+export function restampNetwork(template: Network, chip: Chip): Network {
+  const old = template.chip;
+  const sameTopology =
+    chip.nodes === old.nodes && chip.segments.length === old.segments.length && chip.segments.every((s, i) => s.from === old.segments[i]!.from && s.to === old.segments[i]!.to);
+  if (!sameTopology) return assembleNetwork(chip);
+  // Plains and contactors stand in segment order (assembleNetwork), splits in contactor order.
+  const plains: PlainElement[] = [];
+  const contactors: ContactorElement[] = [];
+  const splits: SplitElement[] = [];
+  chip.segments.forEach((segment, i) => {
+    const plain = template.plains[plains.length];
+    if (plain?.segment === old.segments[i]) {
+      plains.push(plainElement(segment, plain.from, plain.to));
+      return;
+    }
+    const el = template.contactors[contactors.length]!;
+    const c = contactorElement(chip, segment, el.nearIn, el.farIn, el.nearOut, el.farOut);
+    contactors.push(c);
+    if (el.split) splits.push(splitElement(chip, c, el.split.node, el.split.near, el.split.far, el.split.nearPhase));
+  });
+  return { chip, ports: template.ports, plains, contactors, splits, portsOf: template.portsOf };
+}
+
+/** A plain segment: Hagen–Poiseuille resistance per unit viscosity, r0 = L/k(section) (physics/section.ts). */
+function plainElement(segment: ChipSegment, from: number, to: number): PlainElement {
+  return { kind: 'plain', segment, from, to, r0: segment.length / conductance(segment.section, 1) };
+}
+
+/** A contactor's lanes; its constraint row is scaled by the conductance per length at the geometric mean viscosity. */
+function contactorElement(chip: Chip, segment: ChipSegment, nearIn: number, farIn: number, nearOut: number, farOut: number): ContactorElement {
+  const section = segment.section as TwoLayerSection;
+  const { across, along } = section.shape === 'rect' ? layerAxes(section) : { across: wallProfileOf(section).topWidth, along: section.depth };
+  const mu = Math.sqrt(chip.phases.A.viscosity * chip.phases.B.viscosity);
+  return { kind: 'contactor', segment, section, across, along, nearIn, farIn, nearOut, farOut, scale: conductance(section, mu) / segment.length };
+}
+
+/** The split at the end of contactor `c`, linked both ways, with its Young–Laplace window (topology.ts). */
+function splitElement(chip: Chip, c: ContactorElement, node: SplitNode, near: number, far: number, nearPhase: PhaseName): SplitElement {
+  const window = splitWindowOf(chip, node, spannedDimension(c.segment))!;
+  const split: SplitElement = { node, contactor: c, near, far, window, nearPhase };
+  c.split = split;
+  return split;
 }
 
 /**

@@ -104,6 +104,8 @@ function refinedSolve(matrix: SparseMatrix, factor: LinearFactor, rhs: Float64Ar
 }
 
 function samePattern(a: SparseMatrix, b: SparseMatrix): boolean {
+  // Matrices compressed from the same positions share their pattern arrays (sparseMatrix.ts).
+  if (a.colPtr === b.colPtr && a.rowIdx === b.rowIdx) return true;
   if (a.n !== b.n || a.rowIdx.length !== b.rowIdx.length) return false;
   for (let j = 0; j <= a.n; j++) if (a.colPtr[j] !== b.colPtr[j]) return false;
   for (let k = 0; k < a.rowIdx.length; k++) if (a.rowIdx[k] !== b.rowIdx[k]) return false;

@@ -15,10 +15,27 @@ export interface SparseMatrix {
 const INITIAL_CAPACITY = 64;
 
 /**
+ * The compression of one sequence of (row, column) positions: where each triplet lands in the
+ * values of the compressed matrix, and the compressed pattern itself.
+ */
+interface Compression {
+  rows: Int32Array;
+  cols: Int32Array;
+  slot: Int32Array;
+  colPtr: Int32Array;
+  rowIdx: Int32Array;
+}
+
+/**
  * Collects matrix entries one at a time. `toCsc` sums duplicates and sorts the rows of each
  * column, so the result depends only on the set of entries, not on the order they were added.
  * An entry added with value 0 stays in the pattern: an assembler that adds the same entries at
  * every Newton iteration gets the same pattern every time, whatever the values.
+ *
+ * `toCsc` remembers the last sequence of positions it compressed. When the next one is the same
+ * (a Newton loop stamps the same entries in the same order), it only adds each value into its
+ * remembered slot, in the order added, which sums the duplicates exactly as a fresh compression
+ * does; the matrices then share their `colPtr` and `rowIdx` arrays, which no one may change.
  */
 export class TripletBuilder {
   readonly n: number;
@@ -26,6 +43,7 @@ export class TripletBuilder {
   private cols: Int32Array;
   private vals: Float64Array;
   private count = 0;
+  private last: Compression | undefined;
 
   constructor(n: number) {
     if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix size must be a whole number ≥ 0, got ${n}`);
@@ -69,6 +87,27 @@ export class TripletBuilder {
   }
 
   toCsc(): SparseMatrix {
+    const { n, count, vals } = this;
+    const last = this.last;
+    if (last && this.samePositions(last)) {
+      // −0 is the identity of addition (−0 + v = v for every v, 0 and −0 included), so the sums
+      // equal the fresh compression's, which starts each entry from its first value.
+      const values = new Float64Array(last.rowIdx.length).fill(-0);
+      const { slot } = last;
+      for (let t = 0; t < count; t++) values[slot[t]] += vals[t];
+      return { n, colPtr: last.colPtr, rowIdx: last.rowIdx, values };
+    }
+    return this.compress();
+  }
+
+  private samePositions(last: Compression): boolean {
+    const { count, rows, cols } = this;
+    if (last.rows.length !== count) return false;
+    for (let t = 0; t < count; t++) if (rows[t] !== last.rows[t] || cols[t] !== last.cols[t]) return false;
+    return true;
+  }
+
+  private compress(): SparseMatrix {
     const { n, count, rows, cols, vals } = this;
     // Bucket the entries by row first; walking rows in order then fills each column with its
     // rows ascending, and the duplicates of an entry arrive one after another.
@@ -96,6 +135,7 @@ export class TripletBuilder {
     const rowIdx = new Int32Array(nnz);
     const values = new Float64Array(nnz);
     const fill = colPtr.slice(0, n);
+    const slot = new Int32Array(count);
     lastRow.fill(-1);
     for (let i = 0; i < n; i++) {
       for (let s = rowPtr[i]; s < rowPtr[i + 1]; s++) {
@@ -109,8 +149,10 @@ export class TripletBuilder {
           values[fill[j]] = vals[t];
           fill[j]++;
         }
+        slot[t] = fill[j] - 1;
       }
     }
+    this.last = { rows: rows.slice(0, count), cols: cols.slice(0, count), slot, colPtr, rowIdx };
     return { n, colPtr, rowIdx, values };
   }
 

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { layoutToChip } from '../../src/layout/load.js';
-import { assembleNetwork } from '../../src/network/assemble.js';
+import { assembleNetwork, restampNetwork, type Network } from '../../src/network/assemble.js';
 import { splitWindowOf, spannedDimension } from '../../src/network/topology.js';
 import type { SplitNode } from '../../src/network/model.js';
 import { rectConductance } from '../../src/physics/singlePhase.js';
@@ -83,5 +83,37 @@ describe('assembleNetwork', () => {
     const a = assembleNetwork(layoutToChip(wellDesignedLadder(3), 'a'));
     const b = assembleNetwork(layoutToChip(wellDesignedLadder(3, { manifold: { width: 1e-3, depth: 1e-4 }, drive: { A: { pressure: 1e3 }, B: { pressure: 2e3 } } }), 'b'));
     expect([...b.portsOf.entries()]).toEqual([...a.portsOf.entries()]);
+  });
+});
+
+describe('restampNetwork', () => {
+  /** Every number the solver reads from a network, by element. */
+  const numbers = (net: Network) => ({
+    ports: net.ports.map((p) => [p.fixed, p.injection, p.supplies, p.nominal]),
+    plains: net.plains.map((e) => [e.segment.id, e.from, e.to, e.r0]),
+    contactors: net.contactors.map((c) => [c.segment.id, c.section, c.across, c.along, c.nearIn, c.farIn, c.nearOut, c.farOut, c.scale, c.split?.node.id]),
+    splits: net.splits.map((s) => [s.node.id, s.contactor.segment.id, s.near, s.far, s.window, s.nearPhase]),
+  });
+
+  it('gives the network that assembleNetwork gives for a chip of the same topology with other sizes and fluids', () => {
+    const nominal = capillaryChip('side');
+    const template = assembleNetwork(nominal);
+    const realised = {
+      ...nominal,
+      phases: { A: { ...nominal.phases.A, viscosity: 2 * nominal.phases.A.viscosity }, B: nominal.phases.B },
+      interfacialTension: 0.9 * nominal.interfacialTension!,
+      segments: nominal.segments.map((s) => (s.section.shape === 'rect' ? { ...s, length: 1.1 * s.length, section: { ...s.section, width: 1.05 * s.section.width } } : s)),
+    };
+    const restamped = restampNetwork(template, realised);
+    expect(numbers(restamped)).toEqual(numbers(assembleNetwork(realised)));
+    expect(restamped.ports).toBe(template.ports);
+    expect(restamped.splits[0]!.window).not.toEqual(template.splits[0]!.window);
+    expect(restamped.plains[0]!.r0).not.toBe(template.plains[0]!.r0);
+  });
+
+  it('assembles afresh a chip of another topology', () => {
+    const ladder = layoutToChip(wellDesignedLadder(3), 'a');
+    const other = layoutToChip(wellDesignedLadder(4), 'b');
+    expect(numbers(restampNetwork(assembleNetwork(ladder), other))).toEqual(numbers(assembleNetwork(other)));
   });
 });

@@ -205,6 +205,30 @@ describe('TripletBuilder', () => {
     expect(Array.from(a.values)).toEqual([2]);
   });
 
+  it('toCsc of the same positions again gives what a fresh builder gives, bit for bit, and of other positions too', () => {
+    const fill = (builder: TripletBuilder, values: number[], extra = false) => {
+      builder.clear();
+      builder.add(2, 0, values[0]!);
+      builder.add(0, 0, values[1]!);
+      builder.add(2, 0, values[2]!);
+      builder.add(1, 2, values[3]!);
+      if (extra) builder.add(1, 1, 9);
+      builder.add(0, 2, values[4]!);
+      return builder.toCsc();
+    };
+    const reused = new TripletBuilder(3);
+    fill(reused, [1, 4, 2, -1, 5]);
+    // 0.1 + 0.2 ≠ 0.3 in binary: the sum must be formed in the order the entries were added;
+    // −0 alone must stay −0, as a fresh compression keeps a lone first value.
+    for (const [values, extra] of [[[0.1, -0, 0.2, 3, 7], false], [[0.2, 1, 0.1, -2, 0], true], [[0.3, 2, -0.1, 1, 1], false]] as const) {
+      const again = fill(reused, [...values], extra);
+      const fresh = fill(new TripletBuilder(3), [...values], extra);
+      expect(Array.from(again.colPtr)).toEqual(Array.from(fresh.colPtr));
+      expect(Array.from(again.rowIdx)).toEqual(Array.from(fresh.rowIdx));
+      expect(Array.from(again.values).map((v) => (Object.is(v, -0) ? '-0' : v))).toEqual(Array.from(fresh.values).map((v) => (Object.is(v, -0) ? '-0' : v)));
+    }
+  });
+
   it('add rejects an entry outside the matrix', () => {
     const builder = new TripletBuilder(2);
     expect(() => builder.add(2, 0, 1)).toThrow(RangeError);
