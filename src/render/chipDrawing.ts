@@ -19,8 +19,12 @@
  *   0.01 px) so that hatches and stripes keep their size.
  * - Contactors with stacked layers cannot show their interface in plan view; their bands give
  *   the share of the depth instead, as if the section were turned on its side.
- * - Without coordinates for every node the graph is laid out by dagre (layered drawing), and the
- *   drawing says that it is not to scale.
+ * - Without coordinates for every node the chip is drawn as a schematic (./chipDrawing/placement.ts:
+ *   contactors side by side in the order of the layout, the other nodes beside the contactors they
+ *   serve), and the drawing says that it is not to scale.
+ * - Channels never hide each other: widths are narrowed where channels of different phases would
+ *   touch, and channels that leave a node in the same direction run side by side
+ *   (./chipDrawing/routes.ts).
  */
 import { extent, max as maxOf } from 'd3-array';
 import type { SolvedChip } from '../analyses/chip.js';
@@ -36,6 +40,8 @@ import { drawContactors } from './chipDrawing/contactors.js';
 import { defs, legendEntries } from './chipDrawing/legend.js';
 import { drawArrows, drawPorts, drawSplits } from './chipDrawing/marks.js';
 import { placeAutomatically, placeToScale, planWidth } from './chipDrawing/placement.js';
+import { clearWidths, sideBySide } from './chipDrawing/routes.js';
+import type { Point } from './chipDrawing/common.js';
 
 export { FRACTION_DIGITS, PHASE_COLOURS } from './chipDrawing/common.js';
 
@@ -67,7 +73,30 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const contactorSegments = network.contactors.map((c) => c.segment);
   const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
   const place = toScale ? placeToScale(solved, contactorSegments, options.widthScale) : placeAutomatically(solved, contactorSegments, options.widthScale);
-  const drawnWidth = (s: ChipSegment) => planWidth(s) * place.widthPx;
+  const wanted = (s: ChipSegment) => planWidth(s) * place.widthPx;
+  const floor = (s: ChipSegment) => (place.pxPerMetre !== null ? Math.min(wanted(s), planWidth(s) * place.pxPerMetre) : Math.min(wanted(s), 2));
+  const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
+  const look = (s: ChipSegment) => {
+    const r = segmentResult.get(s.id)!;
+    return r.kind === 'single' ? r.phase! : 'two-phase';
+  };
+  // Each merge and split knows its contactor's direction, for the near side of its channels.
+  const contactorEnds = new Map<string, [Point, Point]>();
+  for (const c of network.contactors) {
+    const pair: [Point, Point] = [place.at.get(c.segment.from)!, place.at.get(c.segment.to)!];
+    contactorEnds.set(c.segment.from, pair);
+    contactorEnds.set(c.segment.to, pair);
+  }
+  const contactorIds = new Set(contactorSegments.map((s) => s.id));
+  const plainSegments = chip.segments.filter((s) => !contactorIds.has(s.id));
+  // Widths by the node positions, then once more by the routes those widths give (routing moves ends across).
+  const nodeEnds = (s: ChipSegment): [Point, Point] => [place.at.get(s.from)!, place.at.get(s.to)!];
+  const first = clearWidths(chip.segments, nodeEnds, wanted, floor, look);
+  const firstRoutes = sideBySide(chip, plainSegments, place.at, (s) => first.width.get(s.id)!, contactorEnds);
+  const cleared = clearWidths(chip.segments, (s) => firstRoutes.get(s.id) ?? nodeEnds(s), (s) => first.width.get(s.id)!, floor, look);
+  const narrowed = chip.segments.filter((s) => cleared.width.get(s.id)! < wanted(s) - 1e-9).length;
+  const drawnWidth = (s: ChipSegment) => cleared.width.get(s.id)!;
+  const routes = sideBySide(chip, plainSegments, place.at, drawnWidth, contactorEnds);
   const widest = maxOf(chip.segments.map(drawnWidth)) ?? -Infinity;
   const margin = Math.max(48, widest / 2 + 28);
 
@@ -82,10 +111,13 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const chipTop = PAD + TITLE_SIZE + 6 + heads.length * LINE + 8 + legendBox.height + margin;
   const chipLeft = margin;
   const captions = [
-    place.note,
+    place.note + (narrowed > 0 ? ` ${narrowed} channel${narrowed === 1 ? ' is' : 's are'} drawn narrower than that (never below their true width) where they would touch a neighbour.` : ''),
     'Contactors: phase A and B as two bands, the interface as a black line at the solved holdup; the near side (first merge inlet) lies on the left looking downstream.',
     ...(network.contactors.some((c) => (c.section.shape === 'rect' && c.section.orientation === 'stacked'))
       ? ['Contactors with stacked layers are drawn as if turned on their side: their bands show the shares of the depth.']
+      : []),
+    ...(result.splits.some((sp) => sp.state !== 'pinned')
+      ? ['A leaking split is labelled with the purity of the outlet it leaks into, beside its mark where there is room; the split table and each mark\'s tooltip give them all.']
       : []),
     ...(extraction ? [extractionCaption(extraction, contactorSegments)] : []),
     'A model prediction for planning: stay below the pressure rating of the chip, fittings and tubing, and follow your lab safety rules.',
@@ -121,16 +153,20 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     const b = at.get(s.to)!;
     return Math.hypot(b.x - a.x, b.y - a.y) > 0.5;
   });
-  const contactorIds = new Set(contactorSegments.map((s) => s.id));
   const plain = drawable.filter((s) => !contactorIds.has(s.id));
+  const moved = (p: Point): Point => ({ x: p.x + chipLeft, y: p.y + chipTop });
+  const ends = (s: ChipSegment): [Point, Point] => {
+    const route = routes.get(s.id);
+    return route ? [moved(route[0]), moved(route[1])] : [at.get(s.from)!, at.get(s.to)!];
+  };
 
-  drawUnderlays(root, solved, drawable, at, drawnWidth, nodePeak);
-  drawChannels(root, solved, plain, at, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
+  drawUnderlays(root, solved, drawable, ends, drawnWidth, nodePeak);
+  drawChannels(root, solved, plain, ends, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
 
   drawContactors(root, solved, at, drawnWidth, extraction);
   drawPorts(root, solved, at, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
-  drawArrows(root, solved, drawable, at, drawnWidth);
-  drawSplits(root, solved, at, drawnWidth);
+  drawArrows(root, solved, drawable, ends, drawnWidth);
+  drawSplits(root, solved, at, drawnWidth, width);
 
   const foot = el(root, 'g', { class: 'caption' });
   let y = footTop;
