@@ -1,6 +1,6 @@
 /**
  * The report of a solved chip as one self-contained HTML page: status, cautions, summary,
- * warnings, the chip drawing, the charts, the per-contactor and split tables, optionally the
+ * warnings, the overview strip of every contactor (linked to the drawing), the chip drawing, the charts, the per-contactor and split tables, optionally the
  * extraction of a solute (src/analyses/extraction.ts: its figures, model, table and charts, with
  * the contactors of the drawing coloured by approach to equilibrium), and the inputs as read.
  * Exports `chipReport` and its option type. Pure: solved chip and results (its manifold profiles, an extraction) in, HTML text out.
@@ -17,6 +17,7 @@ import type { ChipNode, ChipSegment } from '../network/model.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
+import { overviewStrip } from './overviewStrip.js';
 import {
   EXTRACTION_COLUMNS, EXTRACTION_MODEL_NOTES, contactorExtractionChart, extractionAlongChart, extractionColouring, extractionSummaryItems, soluteLine,
 } from './extractionCharts.js';
@@ -46,7 +47,8 @@ ul.warnings li { margin-bottom: 2px; }
 .drawing svg { display: block; }
 figure { margin: 16px 0; }
 .charts { display: grid; grid-template-columns: repeat(auto-fill, minmax(540px, 1fr)); gap: 8px 24px; }
-figure.chart svg { max-width: 100%; height: auto; display: block; }
+figure.chart svg, figure.overview svg { max-width: 100%; height: auto; display: block; }
+figure.overview a rect:hover { stroke: #000000; stroke-width: 1; }
 figcaption { font-style: italic; margin-top: 4px; }
 table { border-collapse: collapse; font-size: 12px; margin: 8px 0; }
 th, td { border: 1px solid #cccccc; padding: 2px 6px; text-align: right; white-space: nowrap; }
@@ -193,6 +195,11 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   else out.push(`<ul class="warnings">${warnings.slice(0, SHOWN_WARNINGS).map(item).join('\n')}</ul>`);
   if (warnings.length > SHOWN_WARNINGS) {
     out.push(`<details><summary>${warnings.length - SHOWN_WARNINGS} more warnings</summary><ul class="warnings">${warnings.slice(SHOWN_WARNINGS).map(item).join('\n')}</ul></details>`);
+  }
+
+  if (result.contactors.length > 0) {
+    out.push('<h2>Every contactor</h2>');
+    out.push(`<figure class="overview">${overviewStrip(solved)}</figure>`);
   }
 
   out.push('<h2>Chip drawing</h2>');
