@@ -89,11 +89,11 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   }
   const contactorIds = new Set(contactorSegments.map((s) => s.id));
   const plainSegments = chip.segments.filter((s) => !contactorIds.has(s.id));
-  // Widths by the node positions, then once more by the routes those widths give (routing moves ends across).
+  // Widths by the routes the wanted widths give (routing moves the ends at merges and splits
+  // across), then the routes of those widths.
   const nodeEnds = (s: ChipSegment): [Point, Point] => [place.at.get(s.from)!, place.at.get(s.to)!];
-  const first = clearWidths(chip.segments, nodeEnds, wanted, floor, look);
-  const firstRoutes = sideBySide(chip, plainSegments, place.at, (s) => first.width.get(s.id)!, contactorEnds);
-  const cleared = clearWidths(chip.segments, (s) => firstRoutes.get(s.id) ?? nodeEnds(s), (s) => first.width.get(s.id)!, floor, look);
+  const firstRoutes = sideBySide(chip, plainSegments, place.at, wanted, contactorEnds);
+  const cleared = clearWidths(chip.segments, (s) => firstRoutes.get(s.id) ?? nodeEnds(s), wanted, floor, look);
   const narrowed = chip.segments.filter((s) => cleared.width.get(s.id)! < wanted(s) - 1e-9).length;
   const drawnWidth = (s: ChipSegment) => cleared.width.get(s.id)!;
   const routes = sideBySide(chip, plainSegments, place.at, drawnWidth, contactorEnds);

@@ -5,10 +5,14 @@
  * the contactors of the drawing coloured by approach to equilibrium), and the inputs as read.
  * Exports `chipReport` and its option type. Pure: solved chip and results (its manifold profiles, an extraction) in, HTML text out.
  *
- * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no script,
- * font, image or link that a browser would fetch. The page is also well-formed XML (every element
- * closed, attributes quoted), so tests can check it with an XML parser. Every user string goes
- * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
+ * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no font,
+ * image or link that a browser would fetch. A plain report has no script; a live one (`live`)
+ * carries its operating-point controls (./liveReport.ts), its data as JSON and the page script
+ * inline (base64 in a text block, started by a one-line loader, so no text of the bundle can end
+ * its element or upset an XML parser). The page is well-formed XML (every element closed,
+ * attributes quoted), so tests can check it with an XML parser. Every user string goes through
+ * `escapeXml` (./svg.ts), the one escaping function of the render stage. `reportResults` is the
+ * part a live page redraws after each solve.
  */
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ExtractionResult } from '../analyses/extraction.js';
@@ -22,6 +26,7 @@ import {
   EXTRACTION_COLUMNS, EXTRACTION_MODEL_NOTES, contactorExtractionChart, extractionAlongChart, extractionColouring, extractionSummaryItems, soluteLine,
 } from './extractionCharts.js';
 import { escapeXml } from './svg.js';
+import { LIVE_IDS, liveControls, liveData } from './liveReport.js';
 import { CONTACTOR_COLUMNS, SAFETY_NOTES } from './text.js';
 import { min as minOf } from 'd3-array';
 
@@ -29,6 +34,11 @@ export interface ReportOptions {
   drawing?: ChipDrawingOptions;
   /** The extraction of a solute on this solved chip: adds its section, warnings and drawing colours. */
   extraction?: ExtractionResult;
+  /**
+   * Makes the report live: the page script (dist/page/live.js) as base64, the layout file as read
+   * and the solution as `solve --json` writes it.
+   */
+  live?: { scriptBase64: string; layout: unknown; solution: unknown };
 }
 
 const STYLE = `
@@ -58,8 +68,20 @@ tr.leaking td { background: #fdf6c3; font-weight: bold; }
 .table-wrap { overflow: auto; max-height: 80vh; }
 details { margin: 8px 0; }
 summary { cursor: pointer; font-weight: bold; }
+section.live { border: 1px solid #cccccc; padding: 4px 16px 8px; margin-top: 16px; }
+table.settings input[type=number] { width: 9em; }
+table.settings input.set { background: #fdf6c3; }
+.live-status { font-style: italic; }
 @media print { .drawing, .table-wrap { overflow: visible; max-height: none; } }
 `;
+
+/**
+ * Starts the page script kept as base64 in the element LIVE_IDS.script: decodes it as UTF-8 and
+ * runs it. Written without < or & so that the page stays well-formed XML.
+ */
+const PAGE_LOADER =
+  `(function(){var t=document.getElementById("${LIVE_IDS.script}").textContent.trim();` +
+  'new Function(new TextDecoder().decode(Uint8Array.from(atob(t),function(c){return c.charCodeAt(0)})))()})();';
 
 /** Warnings listed in full before the rest are folded away. */
 const SHOWN_WARNINGS = 12;
@@ -142,8 +164,12 @@ function extractionSection(extraction: ExtractionResult): string[] {
   return out;
 }
 
-/** `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`), drawn among the charts. */
-export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
+/**
+ * The part of the report that follows the operating point: status, summary, warnings, the
+ * overview, the drawing, the charts, the per-contactor and split tables and the extraction.
+ * `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`).
+ */
+export function reportResults(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
   const { chip, result } = solved;
   const { extraction } = options;
   const warnings = [...result.warnings, ...(extraction?.warnings ?? []).map((w) => `extraction: ${w}`)];
@@ -151,22 +177,10 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   const { summary } = result;
   const sp = summary.spread;
   const out: string[] = [];
-  out.push('<!DOCTYPE html>');
-  out.push('<html lang="en"><head><meta charset="utf-8" />');
-  out.push('<meta name="viewport" content="width=device-width, initial-scale=1" />');
-  out.push(`<title>${esc(chip.name)} — stratiflow report</title>`);
-  out.push(`<style>${STYLE}</style></head><body>`);
-
-  out.push(`<h1>${esc(chip.name)}</h1>`);
-  out.push(`<p>Layout: ${esc(chip.source)}${chip.note ? ` — ${esc(chip.note)}` : ''}</p>`);
   const status = result.converged
     ? `Solved in ${result.iterations} Newton steps (mass residual ${result.residual.toExponential(1)} of throughput).`
     : `NOT CONVERGED after ${result.iterations} steps: ${result.message ?? ''}. The figures below are from the last iterate.`;
   out.push(`<p class="status${result.converged ? '' : ' bad'}">${esc(status)}</p>`);
-
-  out.push('<section class="cautions"><h2>Cautions</h2><ul>');
-  for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
-  out.push('</ul></section>');
 
   out.push('<h2>Summary</h2>');
   const pinned = result.splits.filter((s) => s.state === 'pinned').length;
@@ -237,6 +251,28 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
 
   if (extraction) out.push(...extractionSection(extraction));
 
+  return out.join('\n');
+}
+
+/** `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`), drawn among the charts. */
+export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
+  const { chip } = solved;
+  const { live } = options;
+  const out: string[] = [];
+  out.push('<!DOCTYPE html>');
+  out.push('<html lang="en"><head><meta charset="utf-8" />');
+  out.push('<meta name="viewport" content="width=device-width, initial-scale=1" />');
+  out.push(`<title>${esc(chip.name)} — stratiflow report</title>`);
+  out.push(`<style>${STYLE}</style></head><body>`);
+
+  out.push(`<h1>${esc(chip.name)}</h1>`);
+  out.push(`<p>Layout: ${esc(chip.source)}${chip.note ? ` — ${esc(chip.note)}` : ''}</p>`);
+  out.push('<section class="cautions"><h2>Cautions</h2><ul>');
+  for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
+  out.push('</ul></section>');
+  if (live) out.push(liveControls(solved));
+  out.push(`<div id="${LIVE_IDS.results}">${reportResults(solved, manifolds, options)}</div>`);
+
   out.push('<h2>Inputs as read</h2>');
   const inputs: Array<[string, string]> = [];
   for (const p of ['A', 'B'] as const) {
@@ -263,6 +299,11 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   );
   out.push('</details>');
   out.push('<p><small>Made by stratiflow. Model predictions for planning; check them against the running chip.</small></p>');
+  if (live) {
+    out.push(liveData(solved, live.layout, live.solution));
+    out.push(`<script type="text/plain" id="${LIVE_IDS.script}">${live.scriptBase64}</script>`);
+    out.push(`<script>${PAGE_LOADER}</script>`);
+  }
   out.push('</body></html>');
   return out.join('\n') + '\n';
 }

@@ -6,7 +6,6 @@
  * run side by side instead of on top of each other. Exports both, `channelGap` and `segmentDistance`.
  * Geometry of the drawing only: positions and widths in px in, positions and widths out.
  */
-import { max as maxOf } from 'd3-array';
 import type { Chip, ChipSegment } from '../../network/model.js';
 import type { Point } from './common.js';
 
@@ -44,66 +43,90 @@ export function segmentDistance(p1: Point, p2: Point, q1: Point, q2: Point): num
  * centre line of one passes through the body of the other (d < max(w_a, w_b)/2) one channel is
  * drawn over the other. Narrowing can turn a crossing into a
  * touch, so the pairs are looked at again until nothing changes. Candidate pairs come from a grid
- * of cells as large as the widest reach, so large chips do not compare every pair.
+ * of cells, so large chips do not compare every pair.
  */
 export function clearWidths(
   segments: readonly ChipSegment[], ends: (s: ChipSegment) => [Point, Point], wanted: (s: ChipSegment) => number, floor: (s: ChipSegment) => number,
   look: (s: ChipSegment) => string,
 ): { width: Map<string, number>; narrowed: number } {
-  const width = new Map(segments.map((s) => [s.id, wanted(s)]));
-  const reach = Math.max(1, maxOf(segments, wanted) ?? 0) + channelGap;
-  const cells = new Map<string, number[]>();
-  segments.forEach((s, i) => {
-    const [a, b] = ends(s);
-    const x0 = Math.floor((Math.min(a.x, b.x) - reach / 2) / reach);
-    const x1 = Math.floor((Math.max(a.x, b.x) + reach / 2) / reach);
-    const y0 = Math.floor((Math.min(a.y, b.y) - reach / 2) / reach);
-    const y1 = Math.floor((Math.max(a.y, b.y) + reach / 2) / reach);
-    for (let x = x0; x <= x1; x++) {
-      for (let y = y0; y <= y1; y++) {
-        const key = `${x},${y}`;
-        const list = cells.get(key);
+  const want = segments.map(wanted);
+  const looks = segments.map(look);
+  const endPoints = segments.map(ends);
+  // Each segment's reach: its ends, widened by half its width and the gap. Two segments can touch
+  // only where their reaches overlap; the grid holds each segment in the cells its reach covers,
+  // and each pair is looked at only in the first cell both reaches cover.
+  const extent = endPoints.map(([a, b], i) => {
+    const r = want[i]! / 2 + channelGap;
+    return { x0: Math.min(a.x, b.x) - r, x1: Math.max(a.x, b.x) + r, y0: Math.min(a.y, b.y) - r, y1: Math.max(a.y, b.y) + r };
+  });
+  const size = 32;
+  const boxes = extent.map((e) => ({ x0: Math.floor(e.x0 / size), x1: Math.floor(e.x1 / size), y0: Math.floor(e.y0 / size), y1: Math.floor(e.y1 / size) }));
+  // Per cell, the segments of each look: channels of one phase are never paired, so only pairs
+  // across looks (and between two-phase channels) are looked at.
+  const cells = new Map<number, Map<string, number[]>>();
+  // Cell keys as numbers: x and y below 2^20 cells of the drawing either way.
+  const cellKey = (x: number, y: number) => (x + 2 ** 20) * 2 ** 21 + (y + 2 ** 20);
+  boxes.forEach((box, i) => {
+    for (let x = box.x0; x <= box.x1; x++) {
+      for (let y = box.y0; y <= box.y1; y++) {
+        const key = cellKey(x, y);
+        let byLook = cells.get(key);
+        if (!byLook) cells.set(key, (byLook = new Map()));
+        const list = byLook.get(looks[i]!);
         if (list) list.push(i);
-        else cells.set(key, [i]);
+        else byLook.set(looks[i]!, [i]);
       }
     }
   });
   const meet = (s: ChipSegment, t: ChipSegment) => s.from === t.from || s.from === t.to || s.to === t.from || s.to === t.to;
-  const seen = new Set<number>();
-  const n = segments.length;
-  const close: Array<[ChipSegment, ChipSegment, number]> = [];
-  for (const list of cells.values()) {
-    for (let p = 0; p < list.length; p++) {
-      for (let q = p + 1; q < list.length; q++) {
-        const i = Math.min(list[p]!, list[q]!);
-        const j = Math.max(list[p]!, list[q]!);
-        if (seen.has(i * n + j)) continue;
-        seen.add(i * n + j);
-        const s = segments[i]!;
-        const t = segments[j]!;
-        if (meet(s, t) || (look(s) === look(t) && look(s) !== 'two-phase')) continue;
-        const [a, b] = ends(s);
-        const [c, d] = ends(t);
-        const distance = segmentDistance(a, b, c, d);
-        if (distance > 0 && (wanted(s) + wanted(t)) / 2 + channelGap > distance) close.push([s, t, distance]);
-      }
+  /** Pairs that would touch: index, index, distance of centre lines, flat. */
+  const close: number[] = [];
+  const consider = (i: number, j: number, cx: number, cy: number) => {
+    const bi = boxes[i]!;
+    const bj = boxes[j]!;
+    if (cx !== Math.max(bi.x0, bj.x0) || cy !== Math.max(bi.y0, bj.y0)) return;
+    const ei = extent[i]!;
+    const ej = extent[j]!;
+    if (ei.x1 < ej.x0 || ej.x1 < ei.x0 || ei.y1 < ej.y0 || ej.y1 < ei.y0) return;
+    const s = segments[i]!;
+    const t = segments[j]!;
+    if (meet(s, t)) return;
+    const [a, b] = endPoints[i]!;
+    const [c, d] = endPoints[j]!;
+    const distance = segmentDistance(a, b, c, d);
+    if (distance > 0 && (want[i]! + want[j]!) / 2 + channelGap > distance) close.push(i, j, distance);
+  };
+  for (const [key, byLook] of cells) {
+    const cx = Math.floor(key / 2 ** 21) - 2 ** 20;
+    const cy = (key % 2 ** 21) - 2 ** 20;
+    const groups = [...byLook.entries()];
+    for (let g = 0; g < groups.length; g++) {
+      const [name, list] = groups[g]!;
+      if (name === 'two-phase') for (let p = 0; p < list.length; p++) for (let q = p + 1; q < list.length; q++) consider(list[p]!, list[q]!, cx, cy);
+      for (let h = g + 1; h < groups.length; h++) for (const i of list) for (const j of groups[h]![1]) consider(i, j, cx, cy);
     }
   }
+  const drawn = Float64Array.from(want);
+  const floors = segments.map(floor);
   for (let changed = true, round = 0; changed && round < 8; round++) {
     changed = false;
-    for (const [s, t, distance] of close) {
-      const ws = width.get(s.id)!;
-      const wt = width.get(t.id)!;
+    for (let k = 0; k < close.length; k += 3) {
+      const i = close[k]!;
+      const j = close[k + 1]!;
+      const distance = close[k + 2]!;
+      const ws = drawn[i]!;
+      const wt = drawn[j]!;
       if (distance < Math.max(ws, wt) / 2 || (ws + wt) / 2 + channelGap <= distance) continue;
       const room = 2 * Math.max(0, distance - channelGap);
-      const narrowS = Math.max(floor(s), (room * ws) / (ws + wt));
-      const narrowT = Math.max(floor(t), (room * wt) / (ws + wt));
+      const narrowS = Math.max(floors[i]!, (room * ws) / (ws + wt));
+      const narrowT = Math.max(floors[j]!, (room * wt) / (ws + wt));
       if (narrowS < ws - 1e-9 || narrowT < wt - 1e-9) changed = true;
-      width.set(s.id, Math.min(ws, narrowS));
-      width.set(t.id, Math.min(wt, narrowT));
+      drawn[i] = Math.min(ws, narrowS);
+      drawn[j] = Math.min(wt, narrowT);
     }
   }
-  const narrowed = segments.filter((s) => width.get(s.id)! < wanted(s) - 1e-9).length;
+  const width = new Map(segments.map((s, i) => [s.id, drawn[i]!]));
+  const narrowed = segments.filter((_, i) => drawn[i]! < want[i]! - 1e-9).length;
   return { width, narrowed };
 }
 
