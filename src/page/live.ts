@@ -129,6 +129,12 @@ function start(): void {
     document.body.dataset.solveMs = (solvedAt - started).toFixed(1);
     document.body.dataset.redrawMs = (done - solvedAt).toFixed(1);
     document.body.dataset.renderMs = (renderedAt - solvedAt).toFixed(1);
+    // When the browser has laid out and painted the new results: the next frame, once it is drawn.
+    const count = solves;
+    requestAnimationFrame(() => setTimeout(() => {
+      document.body.dataset.paintedMs = (performance.now() - started).toFixed(1);
+      document.body.dataset.painted = String(count);
+    }, 0));
     setStatus(solved.result.converged
       ? `Solved again in ${(done - started).toFixed(0)} ms (${solved.result.iterations} Newton steps from the previous point).`
       : `NOT CONVERGED: ${solved.result.message ?? ''}; the figures are from the last iterate.`, !solved.result.converged);

@@ -39,7 +39,7 @@ import { drawChannels, drawUnderlays } from './chipDrawing/channels.js';
 import { drawContactors } from './chipDrawing/contactors.js';
 import { defs, legendEntries } from './chipDrawing/legend.js';
 import { drawArrows, drawPorts, drawSplits } from './chipDrawing/marks.js';
-import { placeAutomatically, placeToScale, planWidth } from './chipDrawing/placement.js';
+import { placeAutomatically, placeToScale, planWidth, type Placement } from './chipDrawing/placement.js';
 import { clearWidths, sideBySide } from './chipDrawing/routes.js';
 import type { Point } from './chipDrawing/common.js';
 
@@ -66,20 +66,38 @@ const PAD = 16;
 const LINE = 15;
 const MIN_CANVAS_WIDTH = 760;
 
-export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}): string {
+interface Geometry {
+  place: Placement;
+  /** Drawn width of every segment, px. */
+  width: Map<string, number>;
+  narrowed: number;
+  /** Ends of every plain segment as drawn, relative to the chip's top left. */
+  routes: Map<string, [Point, Point]>;
+}
+
+/**
+ * The last geometries, by the chip's segment list: a live report redraws the same chip after
+ * every change of a setting, and its placement, widths and routes change only with the node
+ * coordinates, the width scale and which segments carry which phase (the key).
+ */
+const GEOMETRIES = new WeakMap<readonly ChipSegment[], { key: string; geometry: Geometry }>();
+
+/** Where every node and channel goes and how wide each is drawn (./chipDrawing/placement.ts, ./chipDrawing/routes.ts). */
+function chipGeometry(solved: SolvedChip, widthScale: number | undefined): Geometry {
   const { chip, network, result } = solved;
-  const byPressure = options.colourBy === 'pressure';
-  const { extraction } = options;
-  const contactorSegments = network.contactors.map((c) => c.segment);
-  const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
-  const place = toScale ? placeToScale(solved, contactorSegments, options.widthScale) : placeAutomatically(solved, contactorSegments, options.widthScale);
-  const wanted = (s: ChipSegment) => planWidth(s) * place.widthPx;
-  const floor = (s: ChipSegment) => (place.pxPerMetre !== null ? Math.min(wanted(s), planWidth(s) * place.pxPerMetre) : Math.min(wanted(s), 2));
   const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
   const look = (s: ChipSegment) => {
     const r = segmentResult.get(s.id)!;
     return r.kind === 'single' ? r.phase! : 'two-phase';
   };
+  const key = `${widthScale}|${chip.segments.map(look).join(',')}|${chip.nodes.map((n) => `${n.x},${n.y}`).join(';')}`;
+  const cached = GEOMETRIES.get(chip.segments);
+  if (cached && cached.key === key) return cached.geometry;
+  const contactorSegments = network.contactors.map((c) => c.segment);
+  const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
+  const place = toScale ? placeToScale(solved, contactorSegments, widthScale) : placeAutomatically(solved, contactorSegments, widthScale);
+  const wanted = (s: ChipSegment) => planWidth(s) * place.widthPx;
+  const floor = (s: ChipSegment) => (place.pxPerMetre !== null ? Math.min(wanted(s), planWidth(s) * place.pxPerMetre) : Math.min(wanted(s), 2));
   // Each merge and split knows its contactor's direction, for the near side of its channels.
   const contactorEnds = new Map<string, [Point, Point]>();
   for (const c of network.contactors) {
@@ -94,9 +112,19 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const nodeEnds = (s: ChipSegment): [Point, Point] => [place.at.get(s.from)!, place.at.get(s.to)!];
   const firstRoutes = sideBySide(chip, plainSegments, place.at, wanted, contactorEnds);
   const cleared = clearWidths(chip.segments, (s) => firstRoutes.get(s.id) ?? nodeEnds(s), wanted, floor, look);
-  const narrowed = chip.segments.filter((s) => cleared.width.get(s.id)! < wanted(s) - 1e-9).length;
-  const drawnWidth = (s: ChipSegment) => cleared.width.get(s.id)!;
-  const routes = sideBySide(chip, plainSegments, place.at, drawnWidth, contactorEnds);
+  const routes = sideBySide(chip, plainSegments, place.at, (s) => cleared.width.get(s.id)!, contactorEnds);
+  const geometry = { place, width: cleared.width, narrowed: cleared.narrowed, routes };
+  GEOMETRIES.set(chip.segments, { key, geometry });
+  return geometry;
+}
+
+export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}): string {
+  const { chip, network, result } = solved;
+  const byPressure = options.colourBy === 'pressure';
+  const { extraction } = options;
+  const contactorSegments = network.contactors.map((c) => c.segment);
+  const { place, width: clearedWidth, narrowed, routes } = chipGeometry(solved, options.widthScale);
+  const drawnWidth = (s: ChipSegment) => clearedWidth.get(s.id)!;
   const widest = maxOf(chip.segments.map(drawnWidth)) ?? -Infinity;
   const margin = Math.max(48, widest / 2 + 28);
 
@@ -153,6 +181,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
     const b = at.get(s.to)!;
     return Math.hypot(b.x - a.x, b.y - a.y) > 0.5;
   });
+  const contactorIds = new Set(contactorSegments.map((s) => s.id));
   const plain = drawable.filter((s) => !contactorIds.has(s.id));
   const moved = (p: Point): Point => ({ x: p.x + chipLeft, y: p.y + chipTop });
   const ends = (s: ChipSegment): [Point, Point] => {

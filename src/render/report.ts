@@ -66,13 +66,14 @@ th { background: #eeeeee; }
 td.text, th.text { text-align: left; }
 tr.leaking td { background: #fdf6c3; font-weight: bold; }
 .table-wrap { overflow: auto; max-height: 80vh; }
+.table-wrap.long { content-visibility: auto; contain-intrinsic-size: auto 80vh; }
 details { margin: 8px 0; }
 summary { cursor: pointer; font-weight: bold; }
 section.live { border: 1px solid #cccccc; padding: 4px 16px 8px; margin-top: 16px; }
 table.settings input[type=number] { width: 9em; }
 table.settings input.set { background: #fdf6c3; }
 .live-status { font-style: italic; }
-@media print { .drawing, .table-wrap { overflow: visible; max-height: none; } }
+@media print { .drawing, .table-wrap { overflow: visible; max-height: none; } .table-wrap.long { content-visibility: visible; } }
 `;
 
 /**
@@ -82,6 +83,9 @@ table.settings input.set { background: #fdf6c3; }
 const PAGE_LOADER =
   `(function(){var t=document.getElementById("${LIVE_IDS.script}").textContent.trim();` +
   'new Function(new TextDecoder().decode(Uint8Array.from(atob(t),function(c){return c.charCodeAt(0)})))()})();';
+
+/** Tables of more rows than this are laid out by the browser only when seen. */
+const LONG_TABLE = 256;
 
 /** Warnings listed in full before the rest are folded away. */
 const SHOWN_WARNINGS = 12;
@@ -101,7 +105,10 @@ function table(header: string[], rows: string[][], options: { textColumns?: numb
     const cls = options.rowClass?.(i);
     return `<tr${cls ? ` class="${esc(cls)}"` : ''}>${r.map((c, j) => cell('td', c, j)).join('')}</tr>`;
   });
-  return `<div class="table-wrap"><table><thead>${head}</thead><tbody>${body.join('\n')}</tbody></table></div>`;
+  // A long table is laid out only when it comes into view, so a live page redrawn after a change
+  // does not wait for rows nobody sees (a full-page screenshot leaves it blank where unseen).
+  const long = rows.length > LONG_TABLE ? ' long' : '';
+  return `<div class="table-wrap${long}"><table><thead>${head}</thead><tbody>${body.join('\n')}</tbody></table></div>`;
 }
 
 function definitionList(items: Array<[string, string]>): string {

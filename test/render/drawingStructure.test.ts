@@ -198,3 +198,18 @@ describe('the chip drawing, read as a person would', () => {
     }
   });
 });
+
+describe('the geometry a drawing keeps for the next drawing of the same chip', () => {
+  it('gives the same drawing as a fresh one when the same segments carry other phases after a change of settings', () => {
+    // Pinned splits, then outlet B raised so that the drains carry mixtures: other looks, other widths.
+    const first = solveChip(layoutToChip(ladderLayout({ contactors: 16, drive }), 'ladder.yaml'));
+    const raised = { ...first.chip, nodes: first.chip.nodes.map((n) => (n.id === 'outB' && n.kind === 'outlet' ? { ...n, pressure: 600 } : n)) };
+    const second = solveChip(raised);
+    expect(second.chip.segments).toBe(first.chip.segments);
+    expect(second.result.segments.map((s) => s.kind)).not.toEqual(first.result.segments.map((s) => s.kind));
+    chipDrawing(first);
+    const kept = chipDrawing(second);
+    const fresh = chipDrawing(solveChip({ ...raised, segments: raised.segments.map((s) => ({ ...s })) }));
+    expect(kept).toBe(fresh);
+  });
+});
