@@ -18,6 +18,7 @@ import { benchWindow } from './window.js';
 import { benchSparseLu } from './sparseLu.js';
 import { benchMaldistribution } from './maldistribution.js';
 import { benchScale } from './scale.js';
+import { benchLiveReport } from './liveReport.js';
 
 interface Benchmark {
   name: string;
@@ -29,6 +30,7 @@ const BENCHMARKS: Benchmark[] = [
   { name: 'shaped-section', run: benchShapedSection },
   { name: 'etched-contactors', run: benchEtchedContactors },
   { name: 'render', run: benchRender },
+  { name: 'live-report', run: benchLiveReport },
   { name: 'network', run: benchNetwork },
   { name: 'maldistribution', run: benchMaldistribution },
   { name: 'sparse-lu', run: benchSparseLu },

@@ -5,7 +5,10 @@
  * A manifold is a connected set of channels that touch neither a merge nor a split: the lines
  * from an inlet to the feeds and from the drains to an outlet, whatever their group is called.
  * Its profile is the pressure of each node against the distance along the channels from the
- * manifold's inlet or outlet (Dijkstra's shortest paths, graphlib).
+ * manifold's entry (Dijkstra's shortest paths, graphlib). Tubing (tube-shaped segments) is not
+ * part of a manifold: the entry is then the chip port the tubing joins, and the tubing's pressure
+ * drop is given apart (`tubing`), so that 300 mm of tube does not squeeze the manifold's few
+ * millimetres to a sliver of the chart.
  */
 import { Graph, alg } from '@dagrejs/graphlib';
 import type { SolvedChip } from './chip.js';
@@ -16,19 +19,23 @@ export interface Manifold {
   role: 'distribution' | 'collection';
   /** The phase its nodes nominally carry. */
   phase: PhaseName;
-  /** The inlet or outlet it starts from; the node at the pressure extreme when it has none. */
+  /** The chip port its tubing joins, else the inlet or outlet it starts from, else the node at the pressure extreme. */
   entry: string;
   /** Every node with its distance from the entry along the channels (m) and its pressure (Pa), by distance. */
   profile: Array<{ node: string; distance: number; pressure: number }>;
   /** True when the manifold branches (a tree), false for a single chain. */
   branched: boolean;
+  /** The tubing that joins the manifold: segment, length (m) and the size of its pressure drop (Pa). */
+  tubing: Array<{ segment: string; length: number; pressureDrop: number }>;
 }
 
 export function findManifolds(solved: SolvedChip): Manifold[] {
   const { chip, network, result } = solved;
   const kind = new Map(chip.nodes.map((n) => [n.id, n.kind]));
   const twoPhaseEnd = (id: string) => kind.get(id) === 'merge' || kind.get(id) === 'split';
-  const links = chip.segments.filter((s) => !twoPhaseEnd(s.from) && !twoPhaseEnd(s.to));
+  const onChip = chip.segments.filter((s) => !twoPhaseEnd(s.from) && !twoPhaseEnd(s.to));
+  const links = onChip.filter((s) => s.section.shape !== 'tube');
+  const tubes = onChip.filter((s) => s.section.shape === 'tube');
   const degree = new Map<string, number>();
   for (const s of links) for (const end of [s.from, s.to]) degree.set(end, (degree.get(end) ?? 0) + 1);
   const linksOf = new Map<string, typeof links>();
@@ -55,7 +62,12 @@ export function findManifolds(solved: SolvedChip): Manifold[] {
     const role = inlet !== undefined || (outlet === undefined && nodes.some((id) => feedsMerge.has(id))) ? 'distribution' : 'collection';
     if (role === 'collection' && outlet === undefined && !nodes.some((id) => drainsSplit.has(id))) return;
     const byPressure = [...nodes].sort((a, b) => pressure.get(b)! - pressure.get(a)!);
-    const entry = (role === 'distribution' ? inlet : outlet) ?? (role === 'distribution' ? byPressure[0]! : byPressure[byPressure.length - 1]!);
+    const members = new Set(nodes);
+    const joining = tubes.filter((t) => members.has(t.from) !== members.has(t.to));
+    const port = joining.map((t) => (members.has(t.from) ? t.from : t.to)).find(Boolean);
+    const entry = port ?? (role === 'distribution' ? inlet : outlet) ?? (role === 'distribution' ? byPressure[0]! : byPressure[byPressure.length - 1]!);
+    const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
+    const tubing = joining.map((t) => ({ segment: t.id, length: t.length, pressureDrop: Math.abs(segmentResult.get(t.id)!.pressureDrop) }));
     // Channels are undirected here; parallel channels between two nodes are separate edges.
     const g = new Graph({ directed: false, multigraph: true });
     for (const id of nodes) g.setNode(id);
@@ -65,7 +77,7 @@ export function findManifolds(solved: SolvedChip): Manifold[] {
       .map((node) => ({ node, distance: paths[node]!.distance, pressure: pressure.get(node)! }))
       .sort((a, b) => a.distance - b.distance || a.node.localeCompare(b.node));
     const phase: PhaseName = nominal(entry) >= 0.5 ? 'A' : 'B';
-    manifolds.push({ role, phase, entry, profile, branched: nodes.some((id) => degree.get(id)! > 2) });
+    manifolds.push({ role, phase, entry, profile, branched: nodes.some((id) => degree.get(id)! > 2), tubing });
   });
   return manifolds;
 }

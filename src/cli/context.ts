@@ -1,6 +1,7 @@
 /**
  * What every command module shares: where it writes (`CommandContext`, replaceable in tests),
- * how it registers itself (`Registrar`), and how numbers go into JSON (`jsonNumbers`). Kept apart
+ * how it registers itself (`Registrar`), and how numbers go into JSON (`jsonNumbers`, from
+ * ../units/format.ts, which the live report shares). Kept apart
  * from main.ts so that command modules do not import the module that imports them.
  */
 import type { Command } from 'commander';
@@ -13,7 +14,4 @@ export interface CommandContext {
 
 export type Registrar = (program: Command, context: CommandContext) => void;
 
-/** JSON has no Infinity or NaN: such values become null. */
-export function jsonNumbers(_key: string, value: unknown): unknown {
-  return typeof value === 'number' && !Number.isFinite(value) ? null : value;
-}
+export { jsonNumbers } from '../units/format.js';

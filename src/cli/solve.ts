@@ -2,13 +2,14 @@
  * `stratiflow solve FILE`: load a layout, solve the whole chip, print the per-contactor table
  * and summary with the hold tolerances of every setting (src/analyses/hold.ts) and the operating
  * verdict (or JSON), optionally write the CSV table, or with `--out DIR` the JSON, the CSV,
- * the drawing and the HTML report. When the layout names a solute, the JSON (printed or written)
+ * the drawing and the HTML report (live: it solves again in the browser when a setting
+ * changes). When the layout names a solute, the JSON (printed or written)
  * and the files of `--out` also carry its extraction (src/analyses/extraction.ts, default
  * accuracy); the printed table stays as it is. A solve that does not converge writes no files:
  * its table is printed under a NOT CONVERGED banner and the command ends with exit status 4.
  */
 import type { Command } from 'commander';
-import { loadLayout } from '../layout/load.js';
+import { loadLayout, readLayoutText } from '../layout/load.js';
 import { solveChip, type SolvedChip } from '../analyses/chip.js';
 import { operatingVerdict } from '../analyses/verdict.js';
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
@@ -17,7 +18,9 @@ import { join } from 'node:path';
 import { chipText, contactorCsv } from '../render/text.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { extractionColouring } from '../render/extractionCharts.js';
-import { chipReport } from '../render/report.js';
+import { chipReport, type ReportOptions } from '../render/report.js';
+import { pageScript } from './pageScript.js';
+import { parseDataText } from '../files.js';
 import { findManifolds } from '../analyses/manifolds.js';
 import { linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
@@ -59,13 +62,23 @@ export function registerSolve(program: Command, context: CommandContext): void {
           into('result.json', json);
           into('contactors.csv', contactorCsv(result));
           into('chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {}));
-          into('report.html', chipReport(solved, findManifolds(solved), { extraction }));
+          into('report.html', chipReport(solved, findManifolds(solved), { extraction, live: liveOf(file, json) }));
         }
         writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }
       context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined, hold));
       if (!result.converged) throw unconverged(result.message, file, Boolean(csv || out));
     });
+}
+
+/**
+ * What makes the report live: the page script, the layout as read and the solution as printed.
+ * Without a built page script (`npm run build`) the report is written without its live part.
+ */
+function liveOf(file: string, json: string): ReportOptions['live'] {
+  const scriptBase64 = pageScript();
+  if (scriptBase64 === undefined) return undefined;
+  return { scriptBase64, layout: parseDataText(readLayoutText(file), file, 'layout file'), solution: JSON.parse(json) };
 }
 
 /**

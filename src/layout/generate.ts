@@ -177,10 +177,12 @@ export function ladderLayout(options: Partial<LadderOptions> = {}): LayoutFile {
     }
     const offset = phase === 'A' ? -0.5 : -1;
     const entryX = o.inletAt === 'middle' ? x(entryIndex) : x(entryIndex) + offset * o.pitch;
-    const inlet = addInlet(b, o, phase, entryX, yFeed[phase] + (o.inletAt === 'middle' ? o.feed.length * 0.4 : 0), N);
+    // A middle port of phase A stands between the two manifolds, not on phase B's (the drawing would lay one over the other).
+    const portRise = { A: 0.2, B: 0.4 }[phase] * o.feed.length;
+    const inlet = addInlet(b, o, phase, entryX, yFeed[phase] + (o.inletAt === 'middle' ? portRise : 0), N);
     b.rect(`entry${phase}`, inlet, `d${phase}${entryIndex + 1}`, o.manifold, o.inletAt === 'middle' ? o.feed.length * 0.4 : o.pitch * Math.abs(offset), 'manifold');
     const exitX = o.outletAt === 'middle' ? x(exitIndex) : exitIndex === 0 ? x(0) + offset * o.pitch : x(exitIndex) - offset * o.pitch;
-    const outlet = addOutlet(b, o, phase, exitX, yDrain[phase] - (o.outletAt === 'middle' ? o.drain.length * 0.4 : 0));
+    const outlet = addOutlet(b, o, phase, exitX, yDrain[phase] - (o.outletAt === 'middle' ? { A: 0.2, B: 0.4 }[phase] * o.drain.length : 0));
     b.rect(`exit${phase}`, `c${phase}${exitIndex + 1}`, outlet, o.manifold, o.outletAt === 'middle' ? o.drain.length * 0.4 : o.pitch * Math.abs(offset), 'manifold');
   }
   return { ...header(o), nodes: b.nodes, segments: b.segments };

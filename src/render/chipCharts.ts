@@ -8,7 +8,7 @@
 import type { SolvedChip } from '../analyses/chip.js';
 import type { Manifold } from '../analyses/manifolds.js';
 import type { PhaseName } from '../network/model.js';
-import { DISPLAY } from '../units/format.js';
+import { DISPLAY, show } from '../units/format.js';
 import { barChart, dotChart, lineChart, type LineSeries } from './chart.js';
 import { max as maxOf, min as minOf } from 'd3-array';
 
@@ -115,6 +115,7 @@ export function chipCharts(solved: SolvedChip, manifoldProfiles: Manifold[]): Ch
       show: m.branched ? 'points' : 'line',
     }));
     const title = `Pressure along the ${role} manifolds`;
+    const tubing = list.flatMap((m) => m.tubing.map((t) => `Tubing ${t.segment} (${show(t.length, DISPLAY.lengthMm, 3)}, not drawn): pressure drop ${show(t.pressureDrop, DISPLAY.pressure, 4)}.`));
     charts.push({
       id: `pressure-${role}`,
       title,
@@ -122,9 +123,10 @@ export function chipCharts(solved: SolvedChip, manifoldProfiles: Manifold[]): Ch
         title,
         width: WIDTH,
         height: HEIGHT,
-        x: { label: `distance from the ${role === 'distribution' ? 'inlet' : 'outlet'} along the channels`, unit: DISPLAY.lengthMm.symbol },
+        x: { label: `distance along the manifold from its ${role === 'distribution' ? 'inlet' : 'outlet'} port`, unit: DISPLAY.lengthMm.symbol },
         y: { label: 'pressure', unit: DISPLAY.pressure.symbol },
         series,
+        notes: tubing,
       }),
     });
   }

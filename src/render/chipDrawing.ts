@@ -19,8 +19,12 @@
  *   0.01 px) so that hatches and stripes keep their size.
  * - Contactors with stacked layers cannot show their interface in plan view; their bands give
  *   the share of the depth instead, as if the section were turned on its side.
- * - Without coordinates for every node the graph is laid out by dagre (layered drawing), and the
- *   drawing says that it is not to scale.
+ * - Without coordinates for every node the chip is drawn as a schematic (./chipDrawing/placement.ts:
+ *   contactors side by side in the order of the layout, the other nodes beside the contactors they
+ *   serve), and the drawing says that it is not to scale.
+ * - Channels never hide each other: widths are narrowed where channels of different phases would
+ *   touch, and channels that leave a node in the same direction run side by side
+ *   (./chipDrawing/routes.ts).
  */
 import { extent, max as maxOf } from 'd3-array';
 import type { SolvedChip } from '../analyses/chip.js';
@@ -35,7 +39,9 @@ import { drawChannels, drawUnderlays } from './chipDrawing/channels.js';
 import { drawContactors } from './chipDrawing/contactors.js';
 import { defs, legendEntries } from './chipDrawing/legend.js';
 import { drawArrows, drawPorts, drawSplits } from './chipDrawing/marks.js';
-import { placeAutomatically, placeToScale, planWidth } from './chipDrawing/placement.js';
+import { placeAutomatically, placeToScale, planWidth, type Placement } from './chipDrawing/placement.js';
+import { clearWidths, sideBySide } from './chipDrawing/routes.js';
+import type { Point } from './chipDrawing/common.js';
 
 export { FRACTION_DIGITS, PHASE_COLOURS } from './chipDrawing/common.js';
 
@@ -60,14 +66,65 @@ const PAD = 16;
 const LINE = 15;
 const MIN_CANVAS_WIDTH = 760;
 
+interface Geometry {
+  place: Placement;
+  /** Drawn width of every segment, px. */
+  width: Map<string, number>;
+  narrowed: number;
+  /** Ends of every plain segment as drawn, relative to the chip's top left. */
+  routes: Map<string, [Point, Point]>;
+}
+
+/**
+ * The last geometries, by the chip's segment list: a live report redraws the same chip after
+ * every change of a setting, and its placement, widths and routes change only with the node
+ * coordinates, the width scale and which segments carry which phase (the key).
+ */
+const GEOMETRIES = new WeakMap<readonly ChipSegment[], { key: string; geometry: Geometry }>();
+
+/** Where every node and channel goes and how wide each is drawn (./chipDrawing/placement.ts, ./chipDrawing/routes.ts). */
+function chipGeometry(solved: SolvedChip, widthScale: number | undefined): Geometry {
+  const { chip, network, result } = solved;
+  const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
+  const look = (s: ChipSegment) => {
+    const r = segmentResult.get(s.id)!;
+    return r.kind === 'single' ? r.phase! : 'two-phase';
+  };
+  const key = `${widthScale}|${chip.segments.map(look).join(',')}|${chip.nodes.map((n) => `${n.x},${n.y}`).join(';')}`;
+  const cached = GEOMETRIES.get(chip.segments);
+  if (cached && cached.key === key) return cached.geometry;
+  const contactorSegments = network.contactors.map((c) => c.segment);
+  const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
+  const place = toScale ? placeToScale(solved, contactorSegments, widthScale) : placeAutomatically(solved, contactorSegments, widthScale);
+  const wanted = (s: ChipSegment) => planWidth(s) * place.widthPx;
+  const floor = (s: ChipSegment) => (place.pxPerMetre !== null ? Math.min(wanted(s), planWidth(s) * place.pxPerMetre) : Math.min(wanted(s), 2));
+  // Each merge and split knows its contactor's direction, for the near side of its channels.
+  const contactorEnds = new Map<string, [Point, Point]>();
+  for (const c of network.contactors) {
+    const pair: [Point, Point] = [place.at.get(c.segment.from)!, place.at.get(c.segment.to)!];
+    contactorEnds.set(c.segment.from, pair);
+    contactorEnds.set(c.segment.to, pair);
+  }
+  const contactorIds = new Set(contactorSegments.map((s) => s.id));
+  const plainSegments = chip.segments.filter((s) => !contactorIds.has(s.id));
+  // Widths by the routes the wanted widths give (routing moves the ends at merges and splits
+  // across), then the routes of those widths.
+  const nodeEnds = (s: ChipSegment): [Point, Point] => [place.at.get(s.from)!, place.at.get(s.to)!];
+  const firstRoutes = sideBySide(chip, plainSegments, place.at, wanted, contactorEnds);
+  const cleared = clearWidths(chip.segments, (s) => firstRoutes.get(s.id) ?? nodeEnds(s), wanted, floor, look);
+  const routes = sideBySide(chip, plainSegments, place.at, (s) => cleared.width.get(s.id)!, contactorEnds);
+  const geometry = { place, width: cleared.width, narrowed: cleared.narrowed, routes };
+  GEOMETRIES.set(chip.segments, { key, geometry });
+  return geometry;
+}
+
 export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}): string {
   const { chip, network, result } = solved;
   const byPressure = options.colourBy === 'pressure';
   const { extraction } = options;
   const contactorSegments = network.contactors.map((c) => c.segment);
-  const toScale = chip.nodes.every((n) => Number.isFinite(n.x) && Number.isFinite(n.y));
-  const place = toScale ? placeToScale(solved, contactorSegments, options.widthScale) : placeAutomatically(solved, contactorSegments, options.widthScale);
-  const drawnWidth = (s: ChipSegment) => planWidth(s) * place.widthPx;
+  const { place, width: clearedWidth, narrowed, routes } = chipGeometry(solved, options.widthScale);
+  const drawnWidth = (s: ChipSegment) => clearedWidth.get(s.id)!;
   const widest = maxOf(chip.segments.map(drawnWidth)) ?? -Infinity;
   const margin = Math.max(48, widest / 2 + 28);
 
@@ -82,10 +139,13 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   const chipTop = PAD + TITLE_SIZE + 6 + heads.length * LINE + 8 + legendBox.height + margin;
   const chipLeft = margin;
   const captions = [
-    place.note,
+    place.note + (narrowed > 0 ? ` ${narrowed} channel${narrowed === 1 ? ' is' : 's are'} drawn narrower than that (never below their true width) where they would touch a neighbour.` : ''),
     'Contactors: phase A and B as two bands, the interface as a black line at the solved holdup; the near side (first merge inlet) lies on the left looking downstream.',
     ...(network.contactors.some((c) => (c.section.shape === 'rect' && c.section.orientation === 'stacked'))
       ? ['Contactors with stacked layers are drawn as if turned on their side: their bands show the shares of the depth.']
+      : []),
+    ...(result.splits.some((sp) => sp.state !== 'pinned')
+      ? ['A leaking split is labelled with the purity of the outlet it leaks into, beside its mark where there is room; the split table and each mark\'s tooltip give them all.']
       : []),
     ...(extraction ? [extractionCaption(extraction, contactorSegments)] : []),
     'A model prediction for planning: stay below the pressure rating of the chip, fittings and tubing, and follow your lab safety rules.',
@@ -123,14 +183,19 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
   });
   const contactorIds = new Set(contactorSegments.map((s) => s.id));
   const plain = drawable.filter((s) => !contactorIds.has(s.id));
+  const moved = (p: Point): Point => ({ x: p.x + chipLeft, y: p.y + chipTop });
+  const ends = (s: ChipSegment): [Point, Point] => {
+    const route = routes.get(s.id);
+    return route ? [moved(route[0]), moved(route[1])] : [at.get(s.from)!, at.get(s.to)!];
+  };
 
-  drawUnderlays(root, solved, drawable, at, drawnWidth, nodePeak);
-  drawChannels(root, solved, plain, at, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
+  drawUnderlays(root, solved, drawable, ends, drawnWidth, nodePeak);
+  drawChannels(root, solved, plain, ends, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
 
   drawContactors(root, solved, at, drawnWidth, extraction);
   drawPorts(root, solved, at, drawnWidth, byPressure ? pressureColour : undefined, nodePressure);
-  drawArrows(root, solved, drawable, at, drawnWidth);
-  drawSplits(root, solved, at, drawnWidth);
+  drawArrows(root, solved, drawable, ends, drawnWidth);
+  drawSplits(root, solved, at, drawnWidth, width);
 
   const foot = el(root, 'g', { class: 'caption' });
   let y = footTop;

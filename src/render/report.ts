@@ -1,14 +1,18 @@
 /**
  * The report of a solved chip as one self-contained HTML page: status, cautions, summary,
- * warnings, the chip drawing, the charts, the per-contactor and split tables, optionally the
+ * warnings, the overview strip of every contactor (linked to the drawing), the chip drawing, the charts, the per-contactor and split tables, optionally the
  * extraction of a solute (src/analyses/extraction.ts: its figures, model, table and charts, with
  * the contactors of the drawing coloured by approach to equilibrium), and the inputs as read.
  * Exports `chipReport` and its option type. Pure: solved chip and results (its manifold profiles, an extraction) in, HTML text out.
  *
- * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no script,
- * font, image or link that a browser would fetch. The page is also well-formed XML (every element
- * closed, attributes quoted), so tests can check it with an XML parser. Every user string goes
- * through `escapeXml` (./svg.ts), the one escaping function of the render stage.
+ * Self-contained: the drawings are inline SVG, the style is inline CSS, and there is no font,
+ * image or link that a browser would fetch. A plain report has no script; a live one (`live`)
+ * carries its operating-point controls (./liveReport.ts), its data as JSON and the page script
+ * inline (base64 in a text block, started by a one-line loader, so no text of the bundle can end
+ * its element or upset an XML parser). The page is well-formed XML (every element closed,
+ * attributes quoted), so tests can check it with an XML parser. Every user string goes through
+ * `escapeXml` (./svg.ts), the one escaping function of the render stage. `reportResults` is the
+ * part a live page redraws after each solve.
  */
 import type { SolvedChip } from '../analyses/chip.js';
 import type { ExtractionResult } from '../analyses/extraction.js';
@@ -17,10 +21,12 @@ import type { ChipNode, ChipSegment } from '../network/model.js';
 import { DISPLAY, fmt, fmtResolved, show } from '../units/format.js';
 import { chipCharts } from './chipCharts.js';
 import { chipDrawing, type ChipDrawingOptions } from './chipDrawing.js';
+import { overviewStrip } from './overviewStrip.js';
 import {
   EXTRACTION_COLUMNS, EXTRACTION_MODEL_NOTES, contactorExtractionChart, extractionAlongChart, extractionColouring, extractionSummaryItems, soluteLine,
 } from './extractionCharts.js';
 import { escapeXml } from './svg.js';
+import { LIVE_IDS, liveControls, liveData } from './liveReport.js';
 import { CONTACTOR_COLUMNS, SAFETY_NOTES } from './text.js';
 import { min as minOf } from 'd3-array';
 
@@ -28,6 +34,11 @@ export interface ReportOptions {
   drawing?: ChipDrawingOptions;
   /** The extraction of a solute on this solved chip: adds its section, warnings and drawing colours. */
   extraction?: ExtractionResult;
+  /**
+   * Makes the report live: the page script (dist/page/live.js) as base64, the layout file as read
+   * and the solution as `solve --json` writes it.
+   */
+  live?: { scriptBase64: string; layout: unknown; solution: unknown };
 }
 
 const STYLE = `
@@ -46,7 +57,8 @@ ul.warnings li { margin-bottom: 2px; }
 .drawing svg { display: block; }
 figure { margin: 16px 0; }
 .charts { display: grid; grid-template-columns: repeat(auto-fill, minmax(540px, 1fr)); gap: 8px 24px; }
-figure.chart svg { max-width: 100%; height: auto; display: block; }
+figure.chart svg, figure.overview svg { max-width: 100%; height: auto; display: block; }
+figure.overview a rect:hover { stroke: #000000; stroke-width: 1; }
 figcaption { font-style: italic; margin-top: 4px; }
 table { border-collapse: collapse; font-size: 12px; margin: 8px 0; }
 th, td { border: 1px solid #cccccc; padding: 2px 6px; text-align: right; white-space: nowrap; }
@@ -54,10 +66,26 @@ th { background: #eeeeee; }
 td.text, th.text { text-align: left; }
 tr.leaking td { background: #fdf6c3; font-weight: bold; }
 .table-wrap { overflow: auto; max-height: 80vh; }
+.table-wrap.long { content-visibility: auto; contain-intrinsic-size: auto 80vh; }
 details { margin: 8px 0; }
 summary { cursor: pointer; font-weight: bold; }
-@media print { .drawing, .table-wrap { overflow: visible; max-height: none; } }
+section.live { border: 1px solid #cccccc; padding: 4px 16px 8px; margin-top: 16px; }
+table.settings input[type=number] { width: 9em; }
+table.settings input.set { background: #fdf6c3; }
+.live-status { font-style: italic; }
+@media print { .drawing, .table-wrap { overflow: visible; max-height: none; } .table-wrap.long { content-visibility: visible; } }
 `;
+
+/**
+ * Starts the page script kept as base64 in the element LIVE_IDS.script: decodes it as UTF-8 and
+ * runs it. Written without < or & so that the page stays well-formed XML.
+ */
+const PAGE_LOADER =
+  `(function(){var t=document.getElementById("${LIVE_IDS.script}").textContent.trim();` +
+  'new Function(new TextDecoder().decode(Uint8Array.from(atob(t),function(c){return c.charCodeAt(0)})))()})();';
+
+/** Tables of more rows than this are laid out by the browser only when seen. */
+const LONG_TABLE = 256;
 
 /** Warnings listed in full before the rest are folded away. */
 const SHOWN_WARNINGS = 12;
@@ -77,7 +105,10 @@ function table(header: string[], rows: string[][], options: { textColumns?: numb
     const cls = options.rowClass?.(i);
     return `<tr${cls ? ` class="${esc(cls)}"` : ''}>${r.map((c, j) => cell('td', c, j)).join('')}</tr>`;
   });
-  return `<div class="table-wrap"><table><thead>${head}</thead><tbody>${body.join('\n')}</tbody></table></div>`;
+  // A long table is laid out only when it comes into view, so a live page redrawn after a change
+  // does not wait for rows nobody sees (a full-page screenshot leaves it blank where unseen).
+  const long = rows.length > LONG_TABLE ? ' long' : '';
+  return `<div class="table-wrap${long}"><table><thead>${head}</thead><tbody>${body.join('\n')}</tbody></table></div>`;
 }
 
 function definitionList(items: Array<[string, string]>): string {
@@ -140,8 +171,12 @@ function extractionSection(extraction: ExtractionResult): string[] {
   return out;
 }
 
-/** `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`), drawn among the charts. */
-export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
+/**
+ * The part of the report that follows the operating point: status, summary, warnings, the
+ * overview, the drawing, the charts, the per-contactor and split tables and the extraction.
+ * `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`).
+ */
+export function reportResults(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
   const { chip, result } = solved;
   const { extraction } = options;
   const warnings = [...result.warnings, ...(extraction?.warnings ?? []).map((w) => `extraction: ${w}`)];
@@ -149,22 +184,10 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   const { summary } = result;
   const sp = summary.spread;
   const out: string[] = [];
-  out.push('<!DOCTYPE html>');
-  out.push('<html lang="en"><head><meta charset="utf-8" />');
-  out.push('<meta name="viewport" content="width=device-width, initial-scale=1" />');
-  out.push(`<title>${esc(chip.name)} — stratiflow report</title>`);
-  out.push(`<style>${STYLE}</style></head><body>`);
-
-  out.push(`<h1>${esc(chip.name)}</h1>`);
-  out.push(`<p>Layout: ${esc(chip.source)}${chip.note ? ` — ${esc(chip.note)}` : ''}</p>`);
   const status = result.converged
     ? `Solved in ${result.iterations} Newton steps (mass residual ${result.residual.toExponential(1)} of throughput).`
     : `NOT CONVERGED after ${result.iterations} steps: ${result.message ?? ''}. The figures below are from the last iterate.`;
   out.push(`<p class="status${result.converged ? '' : ' bad'}">${esc(status)}</p>`);
-
-  out.push('<section class="cautions"><h2>Cautions</h2><ul>');
-  for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
-  out.push('</ul></section>');
 
   out.push('<h2>Summary</h2>');
   const pinned = result.splits.filter((s) => s.state === 'pinned').length;
@@ -193,6 +216,11 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   else out.push(`<ul class="warnings">${warnings.slice(0, SHOWN_WARNINGS).map(item).join('\n')}</ul>`);
   if (warnings.length > SHOWN_WARNINGS) {
     out.push(`<details><summary>${warnings.length - SHOWN_WARNINGS} more warnings</summary><ul class="warnings">${warnings.slice(SHOWN_WARNINGS).map(item).join('\n')}</ul></details>`);
+  }
+
+  if (result.contactors.length > 0) {
+    out.push('<h2>Every contactor</h2>');
+    out.push(`<figure class="overview">${overviewStrip(solved)}</figure>`);
   }
 
   out.push('<h2>Chip drawing</h2>');
@@ -230,6 +258,28 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
 
   if (extraction) out.push(...extractionSection(extraction));
 
+  return out.join('\n');
+}
+
+/** `manifolds`: the manifold pressure profiles of the solved chip (analyses/manifolds.ts `findManifolds`), drawn among the charts. */
+export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: ReportOptions = {}): string {
+  const { chip } = solved;
+  const { live } = options;
+  const out: string[] = [];
+  out.push('<!DOCTYPE html>');
+  out.push('<html lang="en"><head><meta charset="utf-8" />');
+  out.push('<meta name="viewport" content="width=device-width, initial-scale=1" />');
+  out.push(`<title>${esc(chip.name)} — stratiflow report</title>`);
+  out.push(`<style>${STYLE}</style></head><body>`);
+
+  out.push(`<h1>${esc(chip.name)}</h1>`);
+  out.push(`<p>Layout: ${esc(chip.source)}${chip.note ? ` — ${esc(chip.note)}` : ''}</p>`);
+  out.push('<section class="cautions"><h2>Cautions</h2><ul>');
+  for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
+  out.push('</ul></section>');
+  if (live) out.push(liveControls(solved));
+  out.push(`<div id="${LIVE_IDS.results}">${reportResults(solved, manifolds, options)}</div>`);
+
   out.push('<h2>Inputs as read</h2>');
   const inputs: Array<[string, string]> = [];
   for (const p of ['A', 'B'] as const) {
@@ -256,6 +306,11 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   );
   out.push('</details>');
   out.push('<p><small>Made by stratiflow. Model predictions for planning; check them against the running chip.</small></p>');
+  if (live) {
+    out.push(liveData(solved, live.layout, live.solution));
+    out.push(`<script type="text/plain" id="${LIVE_IDS.script}">${live.scriptBase64}</script>`);
+    out.push(`<script>${PAGE_LOADER}</script>`);
+  }
   out.push('</body></html>');
   return out.join('\n') + '\n';
 }

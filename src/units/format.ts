@@ -1,6 +1,7 @@
 /**
- * Formatting of SI values for reports and tables. Exports `fmt`, `fmtResolved`, `show` and the
- * display units used in tables. Reports convert here and nowhere else.
+ * Formatting of SI values for reports and tables. Exports `fmt`, `fmtResolved`, `show`, the
+ * display units used in tables, and `jsonNumbers` (how numbers go into JSON, for `--json` and the
+ * live report alike). Reports convert here and nowhere else.
  */
 
 export interface DisplayUnit {
@@ -42,4 +43,9 @@ export function fmtResolved(value: number | null | undefined, resolution: number
 
 export function show(value: number, unit: DisplayUnit, digits = 4): string {
   return `${fmt(value * unit.factor, digits)} ${unit.symbol}`;
+}
+
+/** JSON has no Infinity or NaN: such values become null (a JSON.stringify replacer). */
+export function jsonNumbers(_key: string, value: unknown): unknown {
+  return typeof value === 'number' && !Number.isFinite(value) ? null : value;
 }

@@ -234,6 +234,35 @@ describe('barChart and dotChart', () => {
   });
 });
 
+describe('axes of data uniform up to rounding', () => {
+  // Equal contactors of a symmetric tree, as a network solve returns them: 2 µL/min to within a few
+  // ulps (1e-15 relative, about the rounding of double precision on sums of ~10 terms).
+  const values = Array.from({ length: 1024 }, (_, k) => 2 * (1 + ((k % 7) - 3) * 1e-15));
+  const spec = (v: number[]): DotChartSpec => ({
+    index: v.map((_, k) => k + 1), x: { label: 'contactor number' }, y: { label: 'flow', unit: 'µL/min' }, groups: [{ name: 'phase A', values: v }],
+  });
+  const yLabels = (svg: string) => [...group(svg, 'axis y').matchAll(/<text[^>]*>([^<]*)<\/text>/g)].map((m) => m[1]!).filter((t) => /^[-\d.]+$/.test(t));
+
+  it('spans at least 1e-3 of the data\'s size, so tick labels need no more than five significant digits', () => {
+    const labels = yLabels(dotChart(spec(values)));
+    expect(labels.length).toBeGreaterThanOrEqual(2);
+    for (const l of labels) expect(l.replace(/^-|\./g, '').replace(/^0+/, '').length).toBeLessThanOrEqual(5);
+    const ticks = labels.map(Number);
+    expect(Math.max(...ticks) - Math.min(...ticks)).toBeGreaterThanOrEqual(0.5e-3 * 2);
+  });
+
+  it('says in words that the data are uniform to 1e-12, naming the value', () => {
+    expect(texts(dotChart(spec(values)))).toContain('phase A: every value 2 µL/min, uniform to 1e-12 of its size.');
+    const line = lineChart({ x: { label: 'x' }, y: { label: 'pressure', unit: 'kPa' }, series: [{ name: 's', points: values.map((v, k) => [k, v] as const) }] });
+    expect(texts(line)).toContain('pressure: every value 2 kPa, uniform to 1e-12 of its size.');
+  });
+
+  it('says nothing of uniform data where the values spread wider than 1e-12', () => {
+    const spread = values.map((v, k) => v * (1 + k * 1e-9));
+    expect(texts(dotChart(spec(spread))).some((t) => t.includes('uniform'))).toBe(false);
+  });
+});
+
 describe('histogramBins', () => {
   it('counts samples in [x0, x1) with the last bin closed', () => {
     expect(histogramBins([0.1, 0.2, 0.25, 0.5, 0.9, 1.0], { thresholds: [0, 0.5, 1] })).toEqual([

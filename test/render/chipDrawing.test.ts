@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { XMLParser, XMLValidator } from 'fast-xml-parser';
+import { XMLValidator } from 'fast-xml-parser';
 import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
@@ -8,6 +8,7 @@ import { analyseExtraction, type SoluteSetup } from '../../src/analyses/extracti
 import { chipDrawing, PHASE_COLOURS } from '../../src/render/chipDrawing.js';
 import { approachColour, extractionColouring, type ExtractionColouring } from '../../src/render/extractionCharts.js';
 import { textWidth } from '../../src/render/svg.js';
+import { all, distance, firstPoint, hasClass, matrixOf, parse, textOf, type Element } from '../support/svgTree.js';
 
 /** Invented demo values throughout: a ladder driven so that its splits leak both ways. */
 function ladder(change: (layout: LayoutFile) => void = () => {}, contactors = 16): SolvedChip {
@@ -67,67 +68,6 @@ const HAND_SWAPPED: LayoutFile = {
   ...HAND,
   nodes: HAND.nodes.map((n) => (n.id === 'm2' ? { ...n, inlets: ['b2', 'a2'] } : n.id === 's2' ? { ...n, outlets: ['ob2', 'oa2'] } : n)) as LayoutFile['nodes'],
 };
-
-// ---------------------------------------------------------------------------------------------
-// A small reader of the drawing: elements with their attributes, found by class.
-
-interface Element {
-  name: string;
-  attrs: Record<string, string>;
-  children: Element[];
-  text: string;
-}
-
-const parser = new XMLParser({ ignoreAttributes: false, attributeNamePrefix: '', preserveOrder: true, trimValues: false, parseAttributeValue: false, parseTagValue: false });
-
-function toElements(nodes: Array<Record<string, unknown>>): Element[] {
-  const out: Element[] = [];
-  for (const node of nodes) {
-    const name = Object.keys(node).find((k) => k !== ':@');
-    if (name === undefined || name === '#text') continue;
-    const children = toElements(node[name] as Array<Record<string, unknown>>);
-    const text = (node[name] as Array<Record<string, unknown>>).filter((c) => '#text' in c).map((c) => String(c['#text'])).join('');
-    out.push({ name, attrs: (node[':@'] as Record<string, string>) ?? {}, children, text });
-  }
-  return out;
-}
-
-function parse(svg: string): Element {
-  expect(XMLValidator.validate(svg)).toBe(true);
-  return toElements(parser.parse(svg))[0]!;
-}
-
-function all(root: Element, test: (e: Element) => boolean): Element[] {
-  const found: Element[] = [];
-  const visit = (e: Element) => {
-    if (test(e)) found.push(e);
-    e.children.forEach(visit);
-  };
-  visit(root);
-  return found;
-}
-
-const hasClass = (cls: string) => (e: Element) => (e.attrs.class ?? '').split(' ').includes(cls);
-const textOf = (e: Element): string => e.text + e.children.map(textOf).join('');
-
-/**
- * The affine map of an SVG `matrix(a,b,c,d,e,f)` transform: (x, y) → (a·x + c·y + e, b·x + d·y + f)
- * (W3C, Scalable Vector Graphics (SVG) 1.1, 2011, section 7.4 "The 'transform' attribute").
- */
-function matrixOf(transform: string): (x: number, y: number) => [number, number] {
-  const m = transform.match(/^matrix\(([^)]*)\)$/);
-  expect(m, transform).not.toBeNull();
-  const [a, b, c, d, e, f] = m![1]!.split(/[ ,]+/).map(Number) as [number, number, number, number, number, number];
-  return (x, y) => [a * x + c * y + e, b * x + d * y + f];
-}
-
-const distance = (p: [number, number], q: [number, number]) => Math.hypot(p[0] - q[0], p[1] - q[1]);
-
-/** The first point of a path's d: for the drawing's triangles, the tip. */
-function firstPoint(d: string): [number, number] {
-  const m = d.match(/^M([-\d.]+),([-\d.]+)/);
-  return [Number(m![1]), Number(m![2])];
-}
 
 describe('chipDrawing', () => {
   const leaky = ladder((l) => setPressure(l, 'outB', 600));
@@ -197,7 +137,8 @@ describe('chipDrawing', () => {
         expect(marks).toHaveLength(1);
         expect(marks[0]!.attrs.class).toBe(`split ${split.state}`);
         if (split.state === 'pinned') {
-          expect(all(marks[0]!, (e) => e.name === 'circle')).toHaveLength(1);
+          // A diamond: inlets are the circles of the drawing.
+          expect(all(marks[0]!, (e) => e.name === 'path' && /^M[-\d.]+,[-\d.]+(L[-\d.]+,[-\d.]+){3}Z$/.test(e.attrs.d ?? ''))).toHaveLength(1);
           continue;
         }
         const contactor = all(root, (e) => hasClass('contactor')(e) && e.attrs['data-segment'] === split.contactor)[0]!;
@@ -258,7 +199,10 @@ describe('chipDrawing', () => {
 
   it('lays out a graph without coordinates automatically and says so instead of drawing a scale bar', () => {
     const root = parse(chipDrawing(hand));
-    expect(textOf(all(root, hasClass('caption'))[0]!)).toMatch(/laid out automatically by the dagre graph-layout library/);
+    const caption = textOf(all(root, hasClass('caption'))[0]!);
+    expect(caption).toMatch(/laid out automatically/);
+    expect(caption).toMatch(/contactors side by side/);
+    expect(caption).toMatch(/not to scale/);
     expect(all(root, hasClass('scale-bar'))).toHaveLength(0);
   });
 

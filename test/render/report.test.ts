@@ -63,6 +63,27 @@ describe('findManifolds', () => {
   });
 });
 
+describe('findManifolds with tubing', () => {
+  // The ladder generator with 300 mm of tubing at each port (invented demo values).
+  const tubed = solveChip(layoutToChip(ladderLayout({ contactors: 8, pitch: PITCH, tubing: { diameter: 250e-6, length: 0.3 }, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } }), 'tubed.yaml'));
+
+  it('starts each manifold at the chip port its tubing joins and gives the tubing apart, with its pressure drop', () => {
+    const manifolds = findManifolds(tubed);
+    const pressure = new Map(tubed.result.nodes.map((n) => [n.id, n.pressure]));
+    expect(manifolds.map((m) => m.entry).sort()).toEqual(['portA', 'portB', 'portOutA', 'portOutB']);
+    const a = manifolds.find((m) => m.entry === 'portA')!;
+    expect(a.tubing).toEqual([{ segment: 'tubeInA', length: 0.3, pressureDrop: pressure.get('inA')! - pressure.get('portA')! }]);
+    // Along the chip only: no node lies farther than the manifold's own channels reach (a few pitches, not the tubing's 300 mm).
+    for (const m of manifolds) expect(Math.max(...m.profile.map((p) => p.distance))).toBeLessThan(10 * PITCH);
+    expect(manifolds.flatMap((m) => m.profile.map((p) => p.node))).not.toContain('inA');
+  });
+
+  it('charts the pressure along the chip and states the tubing drop in words', () => {
+    const svg = chipCharts(tubed, findManifolds(tubed)).find((c) => c.id === 'pressure-distribution')!.svg;
+    expect(svg).toMatch(/Tubing tubeInA \(300 mm, not drawn\): pressure drop [\d.]+ kPa\./);
+  });
+});
+
 describe('chipCharts', () => {
   it('draws per-contactor flows, holdup and deviation, and the pressure along both kinds of manifold, with labelled axes', () => {
     const charts = chipCharts(ladder, findManifolds(ladder));
@@ -74,8 +95,8 @@ describe('chipCharts', () => {
     expect(svg.holdup).toContain('holdup of A (–)');
     expect(svg.deviation).toContain('deviation from the mean (%)');
     expect(svg['pressure-distribution']).toContain('pressure (kPa)');
-    expect(svg['pressure-distribution']).toContain('distance from the inlet along the channels (mm)');
-    expect(svg['pressure-collection']).toContain('distance from the outlet along the channels (mm)');
+    expect(svg['pressure-distribution']).toContain('distance along the manifold from its inlet port (mm)');
+    expect(svg['pressure-collection']).toContain('distance along the manifold from its outlet port (mm)');
   });
 
   it('gives equal contactors a readable axis instead of one spanning rounding noise', () => {

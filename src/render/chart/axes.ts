@@ -24,6 +24,31 @@ export interface NumericAxis {
   /** Ticks in data values; an empty label marks a minor tick of a log axis. */
   ticks: { value: number; label: string }[];
   usable: (v: number) => boolean;
+  /**
+   * Set when an automatic linear domain found its data uniform to UNIFORM_TO (relative to their
+   * largest magnitude): the value they share. Charts say so in words under the plot, since the
+   * axis alone (widened to MIN_RELATIVE_SPAN) cannot tell "equal" from "close".
+   */
+  uniform?: number;
+}
+
+/**
+ * Smallest span of an automatic linear axis, relative to the largest magnitude of its data: below
+ * it the tick labels would need more than five significant digits and show the rounding of the
+ * data (a symmetric 1024-contactor tree gave ticks 1.9999999999995 … 2.0000000000025).
+ */
+export const MIN_RELATIVE_SPAN = 1e-3;
+/** Data within this share of their largest magnitude are called uniform: a few ulps of double precision times the size of a network solve. */
+export const UNIFORM_TO = 1e-12;
+
+/** `[lo, hi]` widened to at least MIN_RELATIVE_SPAN of its largest magnitude, about its middle; `uniform` when it spans at most UNIFORM_TO of it. */
+export function relativeSpan([lo, hi]: readonly [number, number]): { domain: [number, number]; uniform?: number } {
+  const size = Math.max(Math.abs(lo), Math.abs(hi));
+  const span = hi - lo;
+  if (size === 0 || span >= MIN_RELATIVE_SPAN * size) return { domain: [lo, hi] };
+  const mid = (lo + hi) / 2;
+  const half = (MIN_RELATIVE_SPAN * size) / 2;
+  return { domain: [mid - half, mid + half], ...(span <= UNIFORM_TO * size ? { uniform: mid } : {}) };
 }
 
 export function axisTitle(axis: { label: string; unit?: string }): string {
@@ -54,13 +79,21 @@ export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTic
   const usable = (v: number) => Number.isFinite(v) && (!log || v > 0);
   const count = spec.ticks ?? defaultTicks;
   let scale: NumericScale;
+  let uniform: number | undefined;
   if (spec.domain) {
     if (!spec.domain.every(Number.isFinite)) throw new RangeError(`axis "${spec.label}" needs a finite domain`);
     if (log && !(spec.domain[0] > 0 && spec.domain[1] > 0)) throw new RangeError(`log axis "${spec.label}" needs a positive domain`);
     const domain = widen(spec.domain, log);
     scale = log ? scaleLog().domain(domain) : scaleLinear().domain(domain);
   } else {
-    const domain = widen(extentOf([...values, ...include], usable) ?? (log ? [1, 10] : [0, 1]), log);
+    const data = extentOf([...values, ...include], usable);
+    let domain = widen(data ?? (log ? [1, 10] : [0, 1]), log);
+    // Data of zero width keep the defined widening of `widen`; a sliver of rounding noise gets the minimum relative span.
+    if (!log && data) {
+      const relative = relativeSpan(data);
+      if (data[0] !== data[1]) domain = relative.domain;
+      if (data[0] !== 0 || data[1] !== 0) uniform = data[0] === data[1] ? data[0] : relative.uniform;
+    }
     scale = log ? scaleLog().domain(domain).nice() : scaleLinear().domain(domain).nice(count);
   }
   // '~g' keeps log labels short (1e-9, 0.01, 100) where the default SI prefixes would clash with units.
@@ -69,7 +102,18 @@ export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTic
     const auto = format(value);
     return { value, label: auto !== '' && spec.format ? spec.format(value) : auto };
   });
-  return { scale, ticks, usable };
+  return { scale, ticks, usable, ...(uniform !== undefined ? { uniform } : {}) };
+}
+
+/** The value finite `values` share when they are uniform to UNIFORM_TO of their largest magnitude (not all zero), else undefined. */
+export function uniformValue(values: Iterable<number>): number | undefined {
+  const range = extentOf(values, Number.isFinite);
+  return range ? relativeSpan(range).uniform : undefined;
+}
+
+/** The sentence a chart writes under its plot about data that are uniform (`uniformValue`). */
+export function uniformNote(name: string, value: number, unit: string | undefined): string {
+  return `${name}: every value ${Number(value.toPrecision(6))}${unit ? ` ${unit}` : ''}, uniform to ${UNIFORM_TO.toExponential(0)} of its size.`;
 }
 
 export function pixelTicks(axis: NumericAxis): PixelTick[] {
@@ -110,6 +154,16 @@ export function beginChart(spec: ChartSpec, legend: readonly LegendEntry[], yLab
     y1: Math.max(y0 + 40, height - PAD - BOTTOM_ROOM - (room.bottom ?? 0)),
   };
   return { root, width, height, frame, yTitleX: PAD + FONT_SIZE, headRight };
+}
+
+/** Room under the plot for the notes of a chart (one line each). */
+export function notesRoom(notes: readonly string[]): number {
+  return notes.length * (FONT_SIZE + 4);
+}
+
+/** Notes in italics under the axis title, one line each (the room `notesRoom` left). */
+export function drawNotes(root: SvgNode, frame: Frame, notes: readonly string[]): void {
+  notes.forEach((note, i) => label(root, note, { class: 'note', x: PAD, y: frame.y1 + BOTTOM_ROOM + (i + 1) * (FONT_SIZE + 4) - 2, 'font-style': 'italic' }));
 }
 
 export function inside(frame: Frame, x: number, y: number): boolean {

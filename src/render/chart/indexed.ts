@@ -10,7 +10,7 @@ import {
   TEXT_HALO, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, label, marker, markerRun, serialise, textWidth,
   type LegendEntry,
 } from '../svg.js';
-import { axisTitle, beginChart, inside, markerSwatch, numericAxis, pixelTicks } from './axes.js';
+import { axisTitle, beginChart, drawNotes, inside, markerSwatch, notesRoom, numericAxis, pixelTicks, uniformNote, uniformValue } from './axes.js';
 import type { AxisSpec, ChartSpec, LinearAxisSpec, ReferenceLine } from './spec.js';
 
 export interface IndexedGroup {
@@ -56,7 +56,15 @@ function indexedChart(spec: IndexedChartSpec & { y: AxisSpec }, kind: 'bar' | 'd
     const style = seriesStyle(k);
     return { text: g.name, swatch: kind === 'bar' ? fillSwatch(categoryColour(k), k) : markerSwatch(style.marker, style.colour) };
   });
-  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label));
+  // Each group says in words when it is uniform: the axis is widened to its minimum relative span, so the dots alone cannot tell.
+  const notes: string[] = [];
+  for (const g of spec.groups) {
+    const value = uniformValue(g.values);
+    if (value !== undefined) notes.push(uniformNote(g.name, value, spec.y.unit));
+  }
+  notes.push(...(spec.notes ?? []));
+  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label), { bottom: notesRoom(notes) });
+  drawNotes(root, frame, notes);
   if (kind === 'bar') hatchDefs(root, spec.groups.length);
   y.scale.range([frame.y1, frame.y0]);
   const keys = spec.index.map(String);

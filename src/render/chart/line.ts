@@ -5,7 +5,7 @@
 import { line } from 'd3-shape';
 import { DASH, seriesStyle } from '../palette.js';
 import { DIGITS, clipTo, drawAxisBottom, drawAxisLeft, el, lineSwatch, marker, serialise, type LegendEntry } from '../svg.js';
-import { axisTitle, beginChart, inside, markerSwatch, numericAxis, pixelTicks } from './axes.js';
+import { axisTitle, beginChart, drawNotes, inside, markerSwatch, notesRoom, numericAxis, pixelTicks, uniformNote } from './axes.js';
 import type { AxisSpec, ChartSpec, Point } from './spec.js';
 
 export interface LineSeries {
@@ -42,7 +42,9 @@ export function lineChart(spec: LineChartSpec): string {
     const { colour, marker: shape } = seriesStyle(i);
     return { text: s.name, swatch: s.show === 'points' ? markerSwatch(shape, colour) : lineSwatch(colour, s.dashed === true, shape) };
   });
-  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label));
+  const notes = [...(y.uniform !== undefined ? [uniformNote(spec.y.label, y.uniform, spec.y.unit)] : []), ...(spec.notes ?? [])];
+  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label), { bottom: notesRoom(notes) });
+  drawNotes(root, frame, notes);
   x.scale.range([frame.x0, frame.x1]);
   y.scale.range([frame.y1, frame.y0]);
   drawAxisBottom(root, frame, pixelTicks(x), axisTitle(spec.x), true);

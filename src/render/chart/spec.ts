@@ -33,6 +33,8 @@ export interface ChartSpec {
   /** Size in px; defaults 640 × 400, at least 240 × 180. */
   width?: number;
   height?: number;
+  /** Lines written under the plot (e.g. what the data leave out). */
+  notes?: readonly string[];
 }
 
 export interface MarkedPoint {

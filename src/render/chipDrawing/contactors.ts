@@ -38,6 +38,8 @@ export function drawContactors(
       'data-index': String(row.index),
       'data-near-phase': nearIsA ? 'A' : 'B',
       'data-holdup-a': frac(row.holdupA),
+      // The overview strip of the report links here (../overviewStrip.ts).
+      id: `contactor-${row.index}`,
     });
     const approachTitle = extraction && approachText !== undefined ? `, ${extraction.title} ${approachText}` : '';
     appendTitle(g, `${c.segment.id}: A ${flowText(row.flowA)}, B ${flowText(row.flowB)}, holdup of A ${row.holdupA.toFixed(4)}, outlet ${row.state}${approachTitle}`);

@@ -1,7 +1,7 @@
 /**
  * Path geometry of the chip drawing: the affine frame of a channel (u along, v across), the
  * bands of a contactor in it, arrowheads and leak triangles, as path text rounded by ../svg.ts
- * `num`. Exports `channelFrame`, `lanePath`, `arrowhead`, `leakTriangle` and `ChannelFrame`.
+ * `num`. Exports `channelFrame`, `lanePath`, `arrowhead`, `leakTriangle`, `pinnedDiamond` and `ChannelFrame`.
  */
 import { num } from '../svg.js';
 import type { Point } from './common.js';
@@ -48,4 +48,9 @@ export function leakTriangle(p: Point, theta: number, r: number): string {
   const s = Math.sin(theta);
   const at = (u: number, v: number) => `${num(p.x + u * c - v * s)},${num(p.y + u * s + v * c)}`;
   return `M${at(r, 0)}L${at(-r * 0.6, r)}L${at(-r * 0.6, -r)}Z`;
+}
+
+/** The mark of a pinned split: a solid square of half-diagonal r standing on a corner at p (inlets are circles, outlets squares, flow arrows hollow chevrons). */
+export function pinnedDiamond(p: Point, r: number): string {
+  return `M${num(p.x)},${num(p.y - r)}L${num(p.x + r)},${num(p.y)}L${num(p.x)},${num(p.y + r)}L${num(p.x - r)},${num(p.y)}Z`;
 }

@@ -5,7 +5,7 @@
 import { INK } from '../palette.js';
 import { el, hatchDefs, type LegendEntry, type SvgNode } from '../svg.js';
 import { approachColour } from '../extractionCharts.js';
-import { arrowhead, leakTriangle } from './geometry.js';
+import { arrowhead, leakTriangle, pinnedDiamond } from './geometry.js';
 import { ARROW, BACKFLOW_COLOUR, MIXED, PHASE_B_HATCH, PHASE_COLOURS } from './common.js';
 
 /** Fixed-content definitions: the hatch of phase B (shared with the charts) and the stripes of a mixed channel. */
@@ -53,11 +53,11 @@ export function legendEntries(labelA: string, labelB: string, byPressure: boolea
         el(g, 'path', { d: arrowhead({ x: cx, y: cy }, 0, ARROW + 1, -3) + arrowhead({ x: cx, y: cy }, 0, ARROW + 1, 4), fill: BACKFLOW_COLOUR, stroke: INK.text, 'stroke-width': 1 });
       },
     },
-    { text: 'outlet split pinned', swatch: (g, cx, cy) => void el(g, 'circle', { cx, cy, r: 4.5, fill: INK.halo, stroke: INK.text, 'stroke-width': 1.6 }) },
+    { text: 'outlet split pinned', swatch: (g, cx, cy) => void el(g, 'path', { d: pinnedDiamond({ x: cx, y: cy }, 6), fill: INK.text, stroke: INK.halo, 'stroke-width': 1.2 }) },
     { text: 'split leaking A into the B outlet (purity of that outlet)', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, 0, 6), fill: PHASE_COLOURS.A, stroke: INK.text, 'stroke-width': 1.4 }) },
     { text: 'split leaking B into the A outlet', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, Math.PI, 6), fill: PHASE_COLOURS.B, stroke: INK.text, 'stroke-width': 1.4 }) },
     { text: 'above the pressure rating', swatch: (g, cx, cy) => void el(g, 'line', { x1: cx - 11, y1: cy, x2: cx + 11, y2: cy, stroke: INK.text, 'stroke-width': 9, 'stroke-dasharray': '5 3' }) },
-    { text: 'inlet', swatch: (g, cx, cy) => void el(g, 'circle', { cx, cy, r: 5, fill: INK.halo, stroke: INK.text, 'stroke-width': 1.6 }) },
-    { text: 'outlet', swatch: (g, cx, cy) => void el(g, 'rect', { x: cx - 5, y: cy - 5, width: 10, height: 10, fill: INK.halo, stroke: INK.text, 'stroke-width': 1.6 }) },
+    { text: 'inlet (in its phase\'s colour)', swatch: (g, cx, cy) => void el(g, 'circle', { cx, cy, r: 5, fill: PHASE_COLOURS.A, stroke: INK.text, 'stroke-width': 1.6 }) },
+    { text: 'outlet (in its phase\'s colour)', swatch: (g, cx, cy) => void el(g, 'rect', { x: cx - 5, y: cy - 5, width: 10, height: 10, fill: PHASE_COLOURS.B, stroke: INK.text, 'stroke-width': 1.6 }) },
   ];
 }

@@ -9,11 +9,10 @@ import { RELATIVE_FLOW_RESOLUTION } from '../../analyses/resolution.js';
 import type { ChipSegment, PhaseName } from '../../network/model.js';
 import { fmt } from '../../units/format.js';
 import { INK } from '../palette.js';
-import { FONT_SIZE, TEXT_HALO, el, label, num, type SvgNode } from '../svg.js';
+import { FONT_SIZE, TEXT_HALO, el, label, textWidth, type SvgNode } from '../svg.js';
 import { percent } from './captions.js';
-import { ARROW, BACKFLOW_COLOUR, MIN_LABEL_PITCH, PHASE_COLOURS, appendTitle, type Point } from './common.js';
-import { arrowhead, leakTriangle } from './geometry.js';
-import { closestPair } from './placement.js';
+import { ARROW, BACKFLOW_COLOUR, PHASE_COLOURS, appendTitle, type Point } from './common.js';
+import { arrowhead, leakTriangle, pinnedDiamond } from './geometry.js';
 
 export function drawPorts(
   root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number,
@@ -45,7 +44,7 @@ export function drawPorts(
   }
 }
 
-export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegment[], at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number): void {
+export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegment[], ends: (s: ChipSegment) => [Point, Point], drawnWidth: (s: ChipSegment) => number): void {
   const { result } = solved;
   const byId = new Map(result.segments.map((s) => [s.id, s]));
   const peak = maxOf(result.segments, (s) => Math.abs(s.flowA + s.flowB)) ?? 0;
@@ -58,8 +57,7 @@ export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegm
     // Backflow is marked wherever the solution flags it; other arrows only where the flow is above
     // the solution's flow resolution (a share of the largest flow).
     if (!r.reversed && !(Math.abs(q) > RELATIVE_FLOW_RESOLUTION * peak)) continue;
-    const a = at.get(s.from)!;
-    const b = at.get(s.to)!;
+    const [a, b] = ends(s);
     const length = Math.hypot(b.x - a.x, b.y - a.y);
     const size = Math.max(ARROW, Math.min(drawnWidth(s) * 0.35, 7));
     const theta = Math.atan2(b.y - a.y, b.x - a.x) + (q < 0 ? Math.PI : 0);
@@ -74,23 +72,26 @@ export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegm
   if (normal.length > 0) el(g, 'path', { d: normal.join(''), fill: INK.halo, stroke: INK.text, 'stroke-width': 1 });
 }
 
-export function drawSplits(root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number): void {
+/** Marks every outlet split; returns how many leak labels found no room. */
+export function drawSplits(root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number, canvasWidth: number): number {
   const { network, result } = solved;
   const byId = new Map(result.splits.map((s) => [s.id, s]));
   const g = el(root, 'g', { class: 'splits' });
-  const texts: Array<{ p: Point; theta: number; text: string }> = [];
+  const texts: Array<{ p: Point; room: number; text: string }> = [];
+  const splitPoints: Point[] = [];
   for (const c of network.contactors) {
     if (!c.split) continue;
     const s = byId.get(c.split.node.id)!;
     const a = at.get(c.segment.from)!;
     const p = at.get(c.segment.to)!;
+    splitPoints.push(p);
     const along = Math.atan2(p.y - a.y, p.x - a.x);
     const w = drawnWidth(c.segment);
     const title = `split ${s.id} (${s.contactor}): ${s.state}; p_B − p_A ${fmt(s.pressureDifference)} Pa, window ${fmt(s.window[0])} … ${fmt(s.window[1])} Pa; outlet purities ${percent(s.nearPhase === 'A' ? s.purityNear : s.purityFar)} A, ${percent(s.nearPhase === 'A' ? s.purityFar : s.purityNear)} B`;
     const mark = el(g, 'g', { class: `split ${s.state}`, 'data-split': s.id });
     appendTitle(mark, title);
     if (s.state === 'pinned') {
-      el(mark, 'circle', { cx: p.x, cy: p.y, r: Math.max(4.5, Math.min(w * 0.4, 8)), fill: INK.halo, stroke: INK.text, 'stroke-width': 1.6 });
+      el(mark, 'path', { d: pinnedDiamond(p, Math.max(5.5, Math.min(w * 0.5, 9))), fill: INK.text, stroke: INK.halo, 'stroke-width': 1.2 });
       continue;
     }
     // The triangle points across the channel end from the invading phase's side to the other one.
@@ -99,17 +100,29 @@ export function drawSplits(root: SvgNode, solved: SolvedChip, at: Map<string, Po
     const theta = along + (towardFar ? Math.PI / 2 : -Math.PI / 2);
     el(mark, 'path', { d: leakTriangle(p, theta, Math.max(7, Math.min(w * 0.8, 14))), fill: PHASE_COLOURS[invader], stroke: INK.text, 'stroke-width': 1.4 });
     const purity = invader === 'A' ? (s.nearPhase === 'B' ? s.purityNear : s.purityFar) : s.nearPhase === 'A' ? s.purityNear : s.purityFar;
-    texts.push({ p, theta: along, text: `${invader}→${invader === 'A' ? 'B' : 'A'} ${(100 * purity).toFixed(1)} %` });
+    texts.push({ p, room: Math.max(7, Math.min(w * 0.8, 14)) + 3, text: `${invader}→${invader === 'A' ? 'B' : 'A'} ${(100 * purity).toFixed(1)} %` });
   }
-  if (texts.length === 0) return;
-  // Labels run downstream from the split; shown only where neighbours leave room for a line of text.
-  const spacing = closestPair(texts.map((t) => t.p));
-  if (spacing < MIN_LABEL_PITCH) return;
+  if (texts.length === 0) return 0;
+  // Labels stay horizontal beside their split, clear of the other splits' marks and of each other;
+  // a label that finds no room is left out (the split table and the tooltip keep its purity).
+  const height = FONT_SIZE + 2;
+  const boxes: Array<{ x0: number; x1: number; y0: number; y1: number }> = splitPoints.map((q) => ({ x0: q.x - 7, x1: q.x + 7, y0: q.y - 7, y1: q.y + 7 }));
+  const overlaps = (b: { x0: number; x1: number; y0: number; y1: number }) => boxes.some((o) => b.x0 < o.x1 && o.x0 < b.x1 && b.y0 < o.y1 && o.y0 < b.y1);
   const labels = el(g, 'g', { class: 'split-labels', 'font-size': FONT_SIZE - 1 });
+  let hidden = 0;
   for (const t of texts) {
-    const deg = (t.theta * 180) / Math.PI;
-    const upright = Math.abs(deg) > 90 ? deg - 180 : deg;
-    const anchor = Math.abs(deg) > 90 ? 'end' : 'start';
-    label(labels, t.text, { ...TEXT_HALO, 'stroke-width': 2.5, transform: `translate(${num(t.p.x)},${num(t.p.y)}) rotate(${num(upright)})`, x: Math.abs(deg) > 90 ? -14 : 14, y: 0, dy: '0.32em', 'text-anchor': anchor });
+    const w = textWidth(t.text, FONT_SIZE - 1);
+    const tries = [
+      { x0: t.p.x + t.room, y0: t.p.y - height / 2 },
+      { x0: t.p.x - t.room - w, y0: t.p.y - height / 2 },
+    ];
+    const box = tries.map((b) => ({ x0: b.x0, x1: b.x0 + w, y0: b.y0, y1: b.y0 + height })).find((b) => b.x0 >= 2 && b.x1 <= canvasWidth - 2 && !overlaps(b));
+    if (!box) {
+      hidden++;
+      continue;
+    }
+    boxes.push(box);
+    label(labels, t.text, { ...TEXT_HALO, 'stroke-width': 2.5, x: box.x0, y: box.y0 + height / 2, dy: '0.32em' });
   }
+  return hidden;
 }

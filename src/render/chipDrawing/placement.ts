@@ -1,7 +1,8 @@
 /**
  * Where the chip goes on the page: node positions in px, to scale from the layout's coordinates
  * (enlarged where contactors crowd, widths exaggerated to a round factor where they would be too
- * thin), or laid out by dagre where coordinates are missing. Exports `placeToScale`,
+ * thin), or as a schematic where coordinates are missing (contactors side by side in the order of
+ * the layout; dagre's layered drawing for a chip without contactors). Exports `placeToScale`,
  * `placeAutomatically`, `planWidth`, `closestPair`, `niceFloor` and the `Placement` type.
  */
 import dagre from '@dagrejs/dagre';
@@ -110,6 +111,17 @@ export function placeToScale(solved: SolvedChip, contactors: ChipSegment[], widt
   return { at, width: dx * s, height: dy * s, pxPerMetre: s, widthPx: s * factor, note };
 }
 
+/** Automatic placement: the gap between rows of nodes, px (wide channels get more), and the contactors' length in rows. */
+const AUTO_ROW = { gap: 40, contactorRows: 5 };
+
+/**
+ * The schematic of a chip without coordinates. With contactors: the contactors stand side by
+ * side in the order of the layout, merges above and splits below; every other node sits over
+ * the middle of the contactors it is fewest channels away from (so the junctions of a manifold
+ * follow the contactors they feed, in order), in a row by that number of channels, phase A's
+ * row nearer the contactors than phase B's. A chip without contactors is laid out by dagre
+ * (a layered drawing).
+ */
 export function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[], widthScale: number | undefined): Placement {
   const { chip } = solved;
   const widths = chip.segments.map(planWidth);
@@ -119,6 +131,111 @@ export function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[]
   if (widestPlan * k > AUTO_WIDTH.widest) k = niceFloor(AUTO_WIDTH.widest / widestPlan);
   k *= widthScale ?? 1;
   const widest = widestPlan * k;
+  const widestContactor = (maxOf(contactors.map(planWidth)) ?? 0) * k;
+  const raw = contactors.length > 0 ? besideContactors(solved, contactors, widest, widestContactor) : layered(solved, widest);
+  const points = [...raw.values()];
+  const minX = minOf(points.map((p) => p.x)) ?? 0;
+  const minY = minOf(points.map((p) => p.y)) ?? 0;
+  const at = new Map(chip.nodes.map((n) => [n.id, { x: raw.get(n.id)!.x - minX, y: raw.get(n.id)!.y - minY }]));
+  const width = (maxOf(points.map((p) => p.x)) ?? 0) - minX;
+  const height = (maxOf(points.map((p) => p.y)) ?? 0) - minY;
+  const missing = chip.nodes.filter((n) => n.x === undefined || n.y === undefined).length;
+  const how = contactors.length > 0 ? 'the contactors side by side in the order of the layout, every other node beside the contactors it serves' : 'by the dagre graph-layout library';
+  const per = 1 / k; // m per px
+  const note =
+    `Positions laid out automatically (${missing} of ${chip.nodes.length} nodes have no coordinates), ${how}: ` +
+    `a schematic, lengths not to scale; channel widths drawn at 1 px per ${show(per, DISPLAY.length, 3)}.`;
+  return { at, width, height, pxPerMetre: null, widthPx: k, note };
+}
+
+/**
+ * Node positions of the schematic with contactors (see placeAutomatically). Two breadth-first
+ * searches over the channels outside contactors, one from the merges and one from the splits
+ * (neither passes through a merge or split), give each node its number of channels to the
+ * nearest contactors and the range of their indices; a node takes the side it is nearer to.
+ */
+function besideContactors(solved: SolvedChip, contactors: ChipSegment[], widest: number, widestContactor: number): Map<string, Point> {
+  const { chip, network } = solved;
+  const pitch = Math.max(36, widestContactor * 2.5, widest * 0.8);
+  const row = AUTO_ROW.gap + widest;
+  const length = AUTO_ROW.contactorRows * row;
+  const kind = new Map(chip.nodes.map((n) => [n.id, n.kind]));
+  const contactorIds = new Set(contactors.map((c) => c.id));
+  const neighbours = new Map<string, string[]>();
+  for (const s of chip.segments) {
+    if (contactorIds.has(s.id)) continue;
+    neighbours.set(s.from, [...(neighbours.get(s.from) ?? []), s.to]);
+    neighbours.set(s.to, [...(neighbours.get(s.to) ?? []), s.from]);
+  }
+  const search = (ends: Map<string, number>) => {
+    const found = new Map<string, { hops: number; lo: number; hi: number }>();
+    let frontier = [...ends.keys()];
+    for (const [id, c] of ends) found.set(id, { hops: 0, lo: c, hi: c });
+    for (let hops = 1; frontier.length > 0; hops++) {
+      const next: string[] = [];
+      for (const id of frontier) {
+        const here = found.get(id)!;
+        for (const other of neighbours.get(id) ?? []) {
+          if (kind.get(other) === 'merge' || kind.get(other) === 'split') continue;
+          const seen = found.get(other);
+          if (!seen) {
+            found.set(other, { hops, lo: here.lo, hi: here.hi });
+            next.push(other);
+          } else if (seen.hops === hops) {
+            seen.lo = Math.min(seen.lo, here.lo);
+            seen.hi = Math.max(seen.hi, here.hi);
+          }
+        }
+      }
+      frontier = next;
+    }
+    return found;
+  };
+  const merges = new Map<string, number>();
+  const splits = new Map<string, number>();
+  contactors.forEach((c, i) => {
+    if (!merges.has(c.from)) merges.set(c.from, i);
+    if (!splits.has(c.to)) splits.set(c.to, i);
+  });
+  const fromMerges = search(merges);
+  const fromSplits = search(splits);
+  const phaseRank = (id: string) => (network.ports[network.portsOf.get(id)![0]!]!.nominal >= 0.5 ? 0 : 1);
+  const at = new Map<string, Point>();
+  const unplaced: string[] = [];
+  for (const n of chip.nodes) {
+    const up = fromMerges.get(n.id);
+    const down = fromSplits.get(n.id);
+    const x = (r: { lo: number; hi: number }) => ((r.lo + r.hi) / 2) * pitch;
+    if (up && up.hops === 0) at.set(n.id, { x: x(up), y: 0 });
+    else if (down && down.hops === 0) at.set(n.id, { x: x(down), y: length });
+    // Phase B's nodes stand a third of a pitch toward the contactors' far side (their left, facing
+    // up the page), so that its channels do not run through phase A's nodes.
+    else if (up && (!down || up.hops <= down.hops)) at.set(n.id, { x: x(up) - (phaseRank(n.id) * pitch) / 3, y: -(2 * (up.hops - 1) + phaseRank(n.id) + 1) * row });
+    else if (down) at.set(n.id, { x: x(down) - (phaseRank(n.id) * pitch) / 3, y: length + (2 * (down.hops - 1) + phaseRank(n.id) + 1) * row });
+    else unplaced.push(n.id);
+  }
+  // Nodes that reach no contactor (not in a working chip, but drawn all the same) go in a row of their own.
+  const bottom = (maxOf([...at.values()].map((p) => p.y)) ?? 0) + row;
+  unplaced.forEach((id, i) => at.set(id, { x: i * pitch, y: bottom }));
+  // Nodes that would fall on one point are spread along their row.
+  const byPoint = new Map<string, string[]>();
+  for (const n of chip.nodes) {
+    const p = at.get(n.id)!;
+    const key = `${Math.round(p.x)},${Math.round(p.y)}`;
+    byPoint.set(key, [...(byPoint.get(key) ?? []), n.id]);
+  }
+  for (const ids of byPoint.values()) {
+    ids.forEach((id, i) => {
+      const p = at.get(id)!;
+      at.set(id, { x: p.x + (i - (ids.length - 1) / 2) * (pitch / Math.max(2, ids.length)), y: p.y });
+    });
+  }
+  return at;
+}
+
+/** dagre's layered drawing of a chip without contactors. */
+function layered(solved: SolvedChip, widest: number): Map<string, Point> {
+  const { chip } = solved;
   const g = new dagre.graphlib.Graph({ multigraph: true });
   g.setGraph({ rankdir: 'TB', nodesep: widest + 28, ranksep: 70 + widest, edgesep: widest + 12, marginx: 0, marginy: 0 });
   g.setDefaultEdgeLabel(() => ({}));
@@ -126,20 +243,10 @@ export function placeAutomatically(solved: SolvedChip, contactors: ChipSegment[]
   // of the layout (`__proto__`, `hasOwnProperty`) stays data.
   const name = new Map(chip.nodes.map((n, i) => [n.id, `n${i}`]));
   for (const n of chip.nodes) g.setNode(name.get(n.id)!, { width: 12, height: 12 });
-  // Contactors span two ranks and pull straight, so that they stand out as the longest channels.
-  const isContactor = new Set(contactors.map((c) => c.id));
-  chip.segments.forEach((s, e) => g.setEdge(name.get(s.from)!, name.get(s.to)!, isContactor.has(s.id) ? { minlen: 2, weight: 4 } : {}, `e${e}`));
+  chip.segments.forEach((s, e) => g.setEdge(name.get(s.from)!, name.get(s.to)!, {}, `e${e}`));
   dagre.layout(g);
-  const raw = chip.nodes.map((n) => g.node(name.get(n.id)!) as { x: number; y: number });
-  const minX = minOf(raw.map((p) => p.x)) ?? Infinity;
-  const minY = minOf(raw.map((p) => p.y)) ?? Infinity;
-  const at = new Map(chip.nodes.map((n, i) => [n.id, { x: raw[i]!.x - minX, y: raw[i]!.y - minY }]));
-  const width = (maxOf(raw.map((p) => p.x)) ?? -Infinity) - minX;
-  const height = (maxOf(raw.map((p) => p.y)) ?? -Infinity) - minY;
-  const missing = chip.nodes.filter((n) => n.x === undefined || n.y === undefined).length;
-  const per = 1 / k; // m per px
-  const note =
-    `Positions laid out automatically by the dagre graph-layout library (${missing} of ${chip.nodes.length} nodes have no coordinates): ` +
-    `a schematic, lengths not to scale; channel widths drawn at 1 px per ${show(per, DISPLAY.length, 3)}.`;
-  return { at, width, height, pxPerMetre: null, widthPx: k, note };
+  return new Map(chip.nodes.map((n) => {
+    const p = g.node(name.get(n.id)!) as { x: number; y: number };
+    return [n.id, { x: p.x, y: p.y }];
+  }));
 }

@@ -1,0 +1,55 @@
+import { describe, expect, it } from 'vitest';
+import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
+import { layoutToChip } from '../../src/layout/load.js';
+import { solveChip } from '../../src/analyses/chip.js';
+import { chipDrawing } from '../../src/render/chipDrawing.js';
+import { overviewStrip } from '../../src/render/overviewStrip.js';
+import { viridis } from '../../src/render/palette.js';
+import { all, hasClass, parse, textOf } from '../support/svgTree.js';
+
+/** Invented demo values: generated ladders and trees. */
+const drive = { A: { pressure: 10e3 }, B: { pressure: 8e3 } };
+
+describe('overviewStrip', () => {
+  const ladder = solveChip(layoutToChip(ladderLayout({ contactors: 64, drive }), 'ladder.yaml'));
+
+  it('draws one cell per contactor in each of the four strips, in contactor order, each linked to that contactor in the drawing', () => {
+    const root = parse(overviewStrip(ladder));
+    const strips = all(root, hasClass('strip'));
+    expect(strips.map((g) => g.attrs['data-quantity'])).toEqual(['flow of A', 'flow of B', 'holdup of A', 'split margin']);
+    const drawn = new Set(all(parse(chipDrawing(ladder)), hasClass('contactor')).map((g) => g.attrs.id));
+    for (const strip of strips) {
+      const links = all(strip, (e) => e.name === 'a');
+      expect(links.map((a) => a.attrs.href)).toEqual(ladder.result.contactors.map((r) => `#contactor-${r.index}`));
+      for (const a of links) expect(drawn.has(a.attrs.href!.slice(1))).toBe(true);
+      const xs = links.map((a) => Number(a.children[0]!.attrs.x));
+      for (let i = 1; i < xs.length; i++) expect(xs[i]!).toBeGreaterThan(xs[i - 1]!);
+    }
+  });
+
+  it('colours the smallest and largest flow of A at the two ends of viridis and writes both values', () => {
+    const root = parse(overviewStrip(ladder));
+    const strip = all(root, hasClass('strip'))[0]!;
+    const cells = all(strip, (e) => e.name === 'rect' && e.attrs['data-index'] !== undefined);
+    const flows = ladder.result.contactors.map((r) => r.flowA);
+    const low = flows.indexOf(Math.min(...flows));
+    const high = flows.indexOf(Math.max(...flows));
+    expect(cells[low]!.attrs.fill).toBe(viridis(0));
+    expect(cells[high]!.attrs.fill).toBe(viridis(1));
+  });
+
+  it('says so when a strip is uniform, as the contactors of a symmetric tree are', () => {
+    const tree = solveChip(layoutToChip(treeLayout({ levels: 4, drive }), 'tree.yaml'));
+    const strip = all(parse(overviewStrip(tree)), hasClass('strip'))[0]!;
+    expect(textOf(strip)).toMatch(/uniform to 1e-12/);
+  });
+
+  it('fits 4096 contactors in its fixed width', () => {
+    // Only the renderer is exercised: the rows of a 64-contactor ladder repeated (not a solved chip of that size).
+    const rows = Array.from({ length: 4096 }, (_, i) => ({ ...ladder.result.contactors[i % 64]!, index: i + 1, id: `k${i + 1}` }));
+    const big = { ...ladder, result: { ...ladder.result, contactors: rows, splits: [] } };
+    const root = parse(overviewStrip(big));
+    expect(Number(root.attrs.width)).toBe(1100);
+    expect(all(all(root, hasClass('strip'))[0]!, (e) => e.name === 'a')).toHaveLength(4096);
+  });
+});
