@@ -14,7 +14,7 @@
  * so the first-order excursion is close to the exact one wherever the holdups move little
  * across it (checked against full re-solves in test/hold.test.ts).
  */
-import { NetworkTangents, type PortSetting } from '../solver/sensitivity.js';
+import { NetworkTangents, plainOutflow, type PortSetting } from '../solver/sensitivity.js';
 import { GRAVITY } from '../physics/constants.js';
 import type { SolvedChip } from './chip.js';
 import type { Setting } from './settings.js';
@@ -86,6 +86,7 @@ export function holdTolerances(solved: SolvedChip, options: HoldOptions = {}): H
   const pressureResolution = options.resolution?.pressure ?? chip.controlResolution?.pressure ?? CONTROL_RESOLUTION.pressure;
   const flowFraction = options.resolution?.flowFraction ?? chip.controlResolution?.flowFraction ?? CONTROL_RESOLUTION.flowFraction;
   const tangents = new NetworkTangents(net, raw);
+  const outflow = plainOutflow(net, raw.plainFlow);
   const splits = result.splits;
   const allPinned = splits.every((s) => s.state === 'pinned');
   const { throughputA: qA, throughputB: qB } = result.summary;
@@ -96,24 +97,14 @@ export function holdTolerances(solved: SolvedChip, options: HoldOptions = {}): H
     if (node.kind !== 'inlet' && node.kind !== 'outlet') continue;
     const portSetting: PortSetting = { port, quantity: fixed !== undefined ? 'pressure' : 'flow' };
     const t = tangents.tangent(portSetting);
-    const splitDelta = net.splits.map((sp) => (sp.nearPhase === 'A' ? 1 : -1) * (t.pressure[sp.far]! - t.pressure[sp.near]!));
+    const splitDelta = Array.from(t.splitDelta);
 
     // What the inlets deliver and its change (a pressure-set inlet delivers its port's net outflow).
     const delivered = { A: 0, B: 0 };
     for (const [i, p] of net.ports.entries()) {
       if (p.node.kind !== 'inlet') continue;
-      let flow = 0;
-      let slope = 0;
-      if (p.fixed === undefined) {
-        flow = p.injection;
-        slope = i === port ? 1 : 0;
-      } else {
-        net.plains.forEach((el, e) => {
-          const sign = el.from === i ? 1 : el.to === i ? -1 : 0;
-          flow += sign * raw.plainFlow[e]!;
-          slope += sign * t.plainFlow[e]!;
-        });
-      }
+      const flow = p.fixed === undefined ? p.injection : outflow[i]!;
+      const slope = p.fixed === undefined ? (i === port ? 1 : 0) : t.outflow[i]!;
       if (flow > 0) delivered[p.node.phase] += slope;
     }
     const dRatio = (delivered.A - ratio * delivered.B) / qB;

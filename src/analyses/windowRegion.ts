@@ -28,7 +28,7 @@
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
 import { operatingVerdict } from './verdict.js';
 import { settingName, withSettings, type Setting } from './settings.js';
-import { NetworkTangents, type Tangent } from '../solver/sensitivity.js';
+import { NetworkTangents, plainOutflow, type Tangent } from '../solver/sensitivity.js';
 import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip } from '../network/model.js';
@@ -513,10 +513,8 @@ function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, nu
   net.splits.forEach((sp, s) => {
     const [low, high] = sp.window;
     const width = Math.max(high - low, 1e-300);
-    const sign = sp.nearPhase === 'A' ? 1 : -1;
     const delta = result.splits[s]!.pressureDifference;
-    const dDelta = (t: Tangent) => sign * (t.pressure[sp.far]! - t.pressure[sp.near]!);
-    const g = grad(dDelta);
+    const g = grad((t) => t.splitDelta[s]!);
     out.push({ limit: { kind: 'split-low', id: sp.node.id }, value: (delta - low) / width, gradient: [g[0] / width, g[1] / width], scale: 1 });
     out.push({ limit: { kind: 'split-high', id: sp.node.id }, value: (high - delta) / width, gradient: [-g[0] / width, -g[1] / width], scale: 1 });
   });
@@ -534,16 +532,14 @@ function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, nu
   });
 
   // Pressure-set inlets deliver; every inlet stays below the rating.
+  const outflow = plainOutflow(net, raw.plainFlow);
   for (const [i, p] of net.ports.entries()) {
     if (p.node.kind !== 'inlet') continue;
     const phase = p.node.phase;
     if (p.fixed !== undefined) {
-      let flow = 0;
-      const slope = (t: Tangent) => net.plains.reduce((sum, el, e) => sum + (el.from === i ? t.plainFlow[e]! : el.to === i ? -t.plainFlow[e]! : 0), 0);
-      net.plains.forEach((el, e) => (flow += el.from === i ? raw.plainFlow[e]! : el.to === i ? -raw.plainFlow[e]! : 0));
       const mean = Math.max(throughput[phase], 1e-300);
-      const g = grad(slope);
-      out.push({ limit: { kind: 'backflow', id: p.node.id }, value: flow / mean, gradient: [g[0] / mean, g[1] / mean], scale: 1 });
+      const g = grad((t) => t.outflow[i]!);
+      out.push({ limit: { kind: 'backflow', id: p.node.id }, value: outflow[i]! / mean, gradient: [g[0] / mean, g[1] / mean], scale: 1 });
     }
     if (chip.maxPressure !== undefined) {
       const rating = chip.maxPressure;

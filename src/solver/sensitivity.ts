@@ -1,7 +1,7 @@
 /**
  * Sensitivities of a settled network to its settings: how every port pressure, holdup, leak and
  * flow moves per unit change of one fixed pressure or one injected flow. Exports
- * `NetworkTangents` and the types. Knows the equations (assembly.ts) and the numbering; nothing
+ * `NetworkTangents`, `plainOutflow` and the types. Knows the equations (assembly.ts) and the numbering; nothing
  * of chips, splits' windows or units.
  *
  * At a solution F(v; θ) = 0 the implicit function theorem gives dv/dθ = −J⁻¹·∂F/∂θ, one solve
@@ -32,6 +32,20 @@ export interface Tangent {
   /** As NetworkSolution.plainFlow and laneFlow. */
   plainFlow: Float64Array;
   laneFlow: Float64Array;
+  /** Each port's net outflow through plain elements (a pressure-set inlet's delivery). */
+  outflow: Float64Array;
+  /** Each split's p_B − p_A. */
+  splitDelta: Float64Array;
+}
+
+/** The net flow out of every port through the plain elements, from their flows (or flow tangents). */
+export function plainOutflow(net: Network, plainFlow: ArrayLike<number>): Float64Array {
+  const out = new Float64Array(net.ports.length);
+  net.plains.forEach((el, e) => {
+    out[el.from] += plainFlow[e]!;
+    out[el.to] -= plainFlow[e]!;
+  });
+  return out;
 }
 
 /**
@@ -88,12 +102,16 @@ export class NetworkTangents {
     eq.evaluate(x, { ...this.options, direction: { dv: dx, fixedPort: setting.quantity === 'pressure' ? setting.port : undefined } });
     const { alphaAt, leakAt, unknownOf } = eq.map;
     const own = setting.quantity === 'pressure' ? 1 : 0;
+    const pressure = Float64Array.from(unknownOf, (u, i) => (u >= 0 ? dx[u]! : i === setting.port ? own : 0));
+    const plainFlow = eq.flowTangent.plain.slice();
     return {
-      pressure: Float64Array.from(unknownOf, (u, i) => (u >= 0 ? dx[u]! : i === setting.port ? own : 0)),
+      pressure,
       holdup: Float64Array.from(eq.net.contactors, (_, c) => (eq.feedStates[c] === 'open' ? dx[alphaAt + c]! : 0)),
       leak: dx.slice(leakAt, leakAt + eq.net.splits.length),
-      plainFlow: eq.flowTangent.plain.slice(),
+      plainFlow,
       laneFlow: eq.flowTangent.lane.slice(),
+      outflow: plainOutflow(eq.net, plainFlow),
+      splitDelta: Float64Array.from(eq.net.splits, (sp) => (sp.nearPhase === 'A' ? 1 : -1) * (pressure[sp.far]! - pressure[sp.near]!)),
     };
   }
 
