@@ -1,7 +1,8 @@
 /**
  * `stratiflow extract FILE`: solve the chip, then the solute transport in every contactor; print
  * the per-contactor table and the chip's yield (or JSON: the chip solution with an `extraction`
- * member), optionally write the CSV table and, into a folder, the charts, the HTML report and the
+ * member), optionally write the CSV table, the HTML report (`--report`, live: the flows are solved
+ * again in the page when a setting changes) and, into a folder, the charts, the report and the
  * chip drawing with the contactors coloured by approach to equilibrium.
  * Options → solute overrides → solveChip → analyseExtraction → output.
  */
@@ -14,6 +15,7 @@ import { TRANSPORT_DEFAULTS } from '../physics/transport.js';
 import { contactorExtractionChart, extractionAlongChart, extractionColouring, extractionCsv, extractionText } from '../render/extractionCharts.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { chipReport } from '../render/report.js';
+import { liveReport } from './pageScript.js';
 import { findManifolds } from '../analyses/manifolds.js';
 import { numberOption, quantityOption, linearOption, type LinearSolver, choice } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
@@ -33,6 +35,7 @@ interface ExtractOptions {
   json?: boolean;
   csv?: string;
   out?: string;
+  report?: string;
 }
 
 /** Files written by --out. */
@@ -58,6 +61,7 @@ export function registerExtract(program: Command, context: CommandContext): void
     .addOption(linearOption())
     .option('--json', 'print one JSON object (SI units): the chip solution with an `extraction` member')
     .option('--csv <file>', 'write the per-contactor extraction table as CSV')
+    .option('--report <file>', 'write the HTML report (the extraction, and the live operating point of the flows) to this file')
     .option('--out <dir>', `write the charts ${OUT_FILES.along} and ${OUT_FILES.perContactor}, the drawing ${OUT_FILES.drawing} (contactors coloured by approach to equilibrium) and ${OUT_FILES.report} into this folder`)
     .action((file: string, options: ExtractOptions) => {
       const overrides: SoluteOverrides = {
@@ -74,6 +78,7 @@ export function registerExtract(program: Command, context: CommandContext): void
 
       const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
       const out = options.out === undefined ? undefined : outputFolder(options.out, '--out');
+      const reportFile = options.report === undefined ? undefined : outputFile(options.report, '--report');
 
       const chip = loadLayout(file);
       const solute = withOptionHint(() => soluteSetup(chip, overrides));
@@ -84,12 +89,15 @@ export function registerExtract(program: Command, context: CommandContext): void
       // Everything is rendered before the first file is written.
       const files: Output[] = [];
       if (csv) files.push({ path: csv, option: '--csv', content: extractionCsv(extraction) });
+      // The live page solves the flows again; it redoes the extraction only where the layout names the solute.
+      const report = () => chipReport(solved, findManifolds(solved), { extraction, live: liveReport({ file }, { ...solved.result, extraction }) });
+      if (reportFile) files.push({ path: reportFile, option: '--report', content: report() });
       if (out) {
         const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
         into(OUT_FILES.along, extractionAlongChart(extraction));
         into(OUT_FILES.perContactor, contactorExtractionChart(extraction));
         into(OUT_FILES.drawing, chipDrawing(solved, { extraction: extractionColouring(extraction) }));
-        into(OUT_FILES.report, chipReport(solved, findManifolds(solved), { extraction }));
+        into(OUT_FILES.report, report());
       }
       writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));

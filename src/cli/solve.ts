@@ -9,7 +9,7 @@
  * its table is printed under a NOT CONVERGED banner and the command ends with exit status 4.
  */
 import type { Command } from 'commander';
-import { loadLayout, readLayoutText } from '../layout/load.js';
+import { loadLayout } from '../layout/load.js';
 import { solveChip, type SolvedChip } from '../analyses/chip.js';
 import { operatingVerdict } from '../analyses/verdict.js';
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
@@ -18,9 +18,8 @@ import { join } from 'node:path';
 import { chipText, contactorCsv } from '../render/text.js';
 import { chipDrawing } from '../render/chipDrawing.js';
 import { extractionColouring } from '../render/extractionCharts.js';
-import { chipReport, type ReportOptions } from '../render/report.js';
-import { pageScript } from './pageScript.js';
-import { parseDataText } from '../files.js';
+import { chipReport } from '../render/report.js';
+import { liveReport } from './pageScript.js';
 import { findManifolds } from '../analyses/manifolds.js';
 import { linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
@@ -62,23 +61,13 @@ export function registerSolve(program: Command, context: CommandContext): void {
           into('result.json', json);
           into('contactors.csv', contactorCsv(result));
           into('chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {}));
-          into('report.html', chipReport(solved, findManifolds(solved), { extraction, live: liveOf(file, json) }));
+          into('report.html', chipReport(solved, findManifolds(solved), { extraction, live: liveReport({ file }, JSON.parse(json)) }));
         }
         writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }
       context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined, hold));
       if (!result.converged) throw unconverged(result.message, file, Boolean(csv || out));
     });
-}
-
-/**
- * What makes the report live: the page script, the layout as read and the solution as printed.
- * Without a built page script (`npm run build`) the report is written without its live part.
- */
-function liveOf(file: string, json: string): ReportOptions['live'] {
-  const scriptBase64 = pageScript();
-  if (scriptBase64 === undefined) return undefined;
-  return { scriptBase64, layout: parseDataText(readLayoutText(file), file, 'layout file'), solution: JSON.parse(json) };
 }
 
 /**

@@ -3,7 +3,8 @@
  * flow between contactors and make splits leak. Tolerances come from options and/or a tolerance
  * file (YAML or JSON, checked here); a value is one standard deviation ("2%", "0.5um") or, with
  * ±, the half-width of a uniform range ("±2%", "±1deg"). Prints the summary (or JSON), writes
- * the sample CSV and the SVG charts. A progress bar goes to stderr when it is a terminal.
+ * the sample CSV, the SVG charts and (`--report`) an HTML report of the study beside the nominal
+ * chip's live operating point. A progress bar goes to stderr when it is a terminal.
  * Exports `registerTolerance`. Reading tolerances is src/layout/toleranceFile.ts.
  */
 import { availableParallelism } from 'node:os';
@@ -20,6 +21,10 @@ import { numberOption, wholeNumberOption, MAX_WORKERS, linearOption, type Linear
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 import { progressBar } from './progress.js';
+import { liveReport } from './pageScript.js';
+import { chipReport } from '../render/report.js';
+import { findManifolds } from '../analyses/manifolds.js';
+import { solveChip } from '../analyses/chip.js';
 
 import { StratiflowError, optionError } from '../errors.js';
 
@@ -30,6 +35,7 @@ const MAX_MULTIPLE = 100;
 
 interface ToleranceOptions {
   spec?: string;
+  report?: string;
   depth?: string;
   depthOffset?: string;
   width?: string;
@@ -111,6 +117,7 @@ export function registerTolerance(program: Command, context: CommandContext): vo
     .option('--json', 'print one JSON object (SI units) instead of the summary')
     .option('--csv <file>', 'write one row per realisation')
     .option('--svg <dir>', 'write histograms of the spreads, the failure chart and the per-contactor leak chart')
+    .option('--report <file>', 'write an HTML report: the study with its charts, and the chip at the layout\'s settings with its live operating point')
     .addOption(linearOption())
     .addHelpText('after', FILE_HELP)
     .action(async (file: string, o: ToleranceOptions) => {
@@ -129,6 +136,7 @@ export function registerTolerance(program: Command, context: CommandContext): vo
       const linear = o.linear as LinearSolver;
       const csv = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
       const svg = o.svg === undefined ? undefined : outputFolder(o.svg, '--svg');
+      const report = o.report === undefined ? undefined : outputFile(o.report, '--report');
 
       const progress = progressBar('solving', 'solves');
       const start = performance.now();
@@ -155,6 +163,16 @@ export function registerTolerance(program: Command, context: CommandContext): vo
       const outputs: Output[] = [];
       if (csv) outputs.push({ path: csv, option: '--csv', content: toleranceCsv(result, result.contactors.map((c) => c.id)) });
       if (svg) for (const chart of toleranceCharts(result)) outputs.push({ path: join(svg, chart.name), option: '--svg', content: chart.svg });
+      if (report) {
+        const nominal = solveChip(chip, { linear });
+        const analysis = {
+          title: 'Tolerance study',
+          text: toleranceText(result, { workers, seconds }),
+          charts: toleranceCharts(result).map((c) => ({ id: c.name.replace(/\.svg$/, ''), svg: c.svg })),
+          note: 'The study is of the layout\'s settings; the live operating point below solves the nominal chip again, not the study.',
+        };
+        outputs.push({ path: report, option: '--report', content: chipReport(nominal, findManifolds(nominal), { analysis, live: nominal.result.converged ? liveReport({ file }, nominal.result) : undefined }) });
+      }
       writeOutputs(outputs, svg ? [{ path: svg, option: '--svg' }] : []);
       context.out(o.json ? JSON.stringify(result, jsonNumbers, 2) + '\n' : toleranceText(result, { workers, seconds }));
     });

@@ -2,7 +2,8 @@
  * `stratiflow tune FILE`: find the settings that meet flow targets with every split pinned and,
  * where settings are to spare, centred in its window; print the settings, targets, sensitivities,
  * split margins and the per-contactor table (or JSON), and write the tuned layout: a copy of the
- * file with the settings filled in, its comments kept. An unreachable target ends with one line
+ * file with the settings filled in, its comments kept, and with `--report` an HTML report of the
+ * tuned chip with its live operating point. An unreachable target ends with one line
  * that says why, and exit status 3.
  * Exports `registerTune`; the text is render/tuneText.ts, the tuned file layout/tunedLayout.ts.
  */
@@ -15,7 +16,10 @@ import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
 import { numberOption, settingOption, linearOption, type LinearSolver } from './options.js';
-import { outputFile, writeOutputs } from './io.js';
+import { outputFile, writeOutputs, type Output } from './io.js';
+import { liveReport } from './pageScript.js';
+import { chipReport } from '../render/report.js';
+import { findManifolds } from '../analyses/manifolds.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 
 import { StratiflowError, optionError } from '../errors.js';
@@ -29,6 +33,7 @@ interface TuneOptions {
   holdup?: string;
   vary: string[];
   out?: string;
+  report?: string;
   json?: boolean;
   linear: string;
 }
@@ -71,6 +76,7 @@ export function registerTune(program: Command, context: CommandContext): void {
     .option('--holdup <fraction>', 'target: mean holdup of A in the contactors (0 to 1)')
     .option('--vary <setting>', 'a setting that may change, node.pressure or node.flow, optionally with bounds: outB.pressure=0:20kPa (repeat; default: the pressures of all inlets)', collect, [])
     .option('--out <file>', 'tuned layout to write (default: beside the layout, with -tuned in its name)')
+    .option('--report <file>', 'also write an HTML report of the tuned chip: the tuning, and the live operating point at the tuned settings')
     .option('--json', 'print one JSON object (SI units) instead of the tables')
     .addOption(linearOption())
     .action((file: string, o: TuneOptions) => {
@@ -80,6 +86,7 @@ export function registerTune(program: Command, context: CommandContext): void {
       const vary = o.vary.length > 0 ? o.vary.map((v) => freedomOption(v, chip)) : defaultFreedoms(chip);
       const ext = extname(file);
       const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`), '--out');
+      const report = o.report === undefined ? undefined : outputFile(o.report, '--report');
       let result: TuneResult;
       try {
         result = tuneChip(chip, { targets, vary, solver: { linear } });
@@ -88,9 +95,16 @@ export function registerTune(program: Command, context: CommandContext): void {
         throw error;
       }
       const original = readLayoutText(file);
-      writeOutputs([{ path: out, option: '--out', content: tunedLayoutText(original, out.endsWith('.json'), result, tuneHeader(result)) }]);
+      const tuned = tunedLayoutText(original, out.endsWith('.json'), result, tuneHeader(result));
       // How tightly each tuned setting must be held (src/analyses/hold.ts).
       const hold = holdTolerances(result.solved);
+      const files: Output[] = [{ path: out, option: '--out', content: tuned }];
+      if (report) {
+        const analysis = { title: 'Tuning', text: tuneText(chip, result, out, hold), note: `The chip below is the tuned layout ${out}; its live operating point starts at the tuned settings.` };
+        const live = liveReport({ text: tuned, source: out }, result.solved.result);
+        files.push({ path: report, option: '--report', content: chipReport(result.solved, findManifolds(result.solved), { analysis, live }) });
+      }
+      writeOutputs(files);
       if (o.json) {
         const { chip: _tuned, solved, ...rest } = result;
         context.out(JSON.stringify({ layout: file, written: out, ...rest, result: solved.result, hold }, jsonNumbers, 2) + '\n');

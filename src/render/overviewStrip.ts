@@ -27,7 +27,9 @@ interface Strip {
 /** The strips of a solved chip, in display units. */
 function strips(solved: SolvedChip): Strip[] {
   const { result } = solved;
-  const margin = new Map(result.splits.map((s) => [s.contactor, s.margin]));
+  // Margins below the pressure the solution resolves are 0, as the split table prints them (fmtResolved).
+  const resolution = result.summary.pressureResolution;
+  const margin = new Map(result.splits.map((s) => [s.contactor, Math.abs(s.margin) < resolution ? 0 : s.margin]));
   const flow = DISPLAY.flow;
   return [
     { title: 'flow of A', unit: flow.symbol, values: result.contactors.map((r) => r.flowA * flow.factor) },
@@ -56,7 +58,7 @@ export function overviewStrip(solved: SolvedChip): string {
     const g = el(root, 'g', { class: 'strip', 'data-quantity': strip.title });
     label(g, `${strip.title} (${strip.unit})`, { x: PAD, y: y + ROW.height / 2, dy: '0.32em' });
     const finite = strip.values.filter(Number.isFinite);
-    const uniform = uniformValue(finite);
+    const uniform = finite.length > 0 && (minOf(finite) ?? 0) === (maxOf(finite) ?? 0) ? finite[0] : uniformValue(finite);
     const smallest = minOf(finite) ?? 0;
     const largest = maxOf(finite) ?? 1;
     const [lo, hi] = relativeSpan([smallest, largest]).domain;

@@ -39,6 +39,12 @@ export interface ReportOptions {
    * and the solution as `solve --json` writes it.
    */
   live?: { scriptBase64: string; layout: unknown; solution: unknown };
+  /**
+   * The analysis the report belongs to (`tune`, `tolerance`, `extract --report`): its heading,
+   * its text as the command prints it, its charts, and a sentence on how it relates to the live
+   * part. Shown before the operating point.
+   */
+  analysis?: { title: string; text: string; charts?: Array<{ id: string; svg: string }>; note?: string };
 }
 
 const STYLE = `
@@ -69,6 +75,7 @@ tr.leaking td { background: #fdf6c3; font-weight: bold; }
 .table-wrap.long { content-visibility: auto; contain-intrinsic-size: auto 80vh; }
 details { margin: 8px 0; }
 summary { cursor: pointer; font-weight: bold; }
+pre.analysis { font-size: 12px; background: #f7f7f7; padding: 8px; overflow: auto; max-height: 60vh; }
 section.live { border: 1px solid #cccccc; padding: 4px 16px 8px; margin-top: 16px; }
 table.settings input[type=number] { width: 9em; }
 table.settings input.set { background: #fdf6c3; }
@@ -142,6 +149,19 @@ function sectionText(s: ChipSegment): string[] {
     case 'trapezoid':
       return ['trapezoid', `${um(sec.bottomWidth)} bottom`, um(sec.depth), 'side'];
   }
+}
+
+/** The section of the analysis a report belongs to: its text as printed, its charts and its note. */
+function analysisSection(analysis: NonNullable<ReportOptions['analysis']>): string[] {
+  const out = [`<h2>${esc(analysis.title)}</h2>`];
+  if (analysis.note) out.push(`<p>${esc(analysis.note)}</p>`);
+  out.push(`<pre class="analysis">${esc(analysis.text)}</pre>`);
+  if (analysis.charts && analysis.charts.length > 0) {
+    out.push('<div class="charts">');
+    for (const chart of analysis.charts) out.push(`<figure class="chart" id="analysis-${esc(chart.id)}">${chart.svg}</figure>`);
+    out.push('</div>');
+  }
+  return out;
 }
 
 /** The extraction section: solute, chip figures, model, per-contactor table and the two charts. */
@@ -277,6 +297,7 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   out.push('<section class="cautions"><h2>Cautions</h2><ul>');
   for (const note of SAFETY_NOTES) out.push(`<li>${esc(note)}</li>`);
   out.push('</ul></section>');
+  if (options.analysis) out.push(...analysisSection(options.analysis));
   if (live) out.push(liveControls(solved));
   out.push(`<div id="${LIVE_IDS.results}">${reportResults(solved, manifolds, options)}</div>`);
 

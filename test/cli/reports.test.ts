@@ -1,0 +1,71 @@
+/**
+ * `--report FILE` of tune, tolerance and extract, as a user runs them: each writes one
+ * self-contained, well-formed HTML page with the analysis as the command prints it, the chip
+ * report, and (where the page script is built, `npm run build`) the live operating point; a
+ * report path in a missing folder is refused before the work starts. Layouts: generated ladders
+ * and the bundled dye demo (invented demo values).
+ */
+import { describe, expect, it } from 'vitest';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { stringify } from 'yaml';
+import { XMLValidator } from 'fast-xml-parser';
+import { ladderLayout } from '../../src/layout/generate.js';
+import { pageScript } from '../../src/cli/pageScript.js';
+import { runCli } from '../support/cli.js';
+
+const live = pageScript() !== undefined;
+if (!live) console.warn('report tests: dist/page/live.js is not built (npm run build); the live part is not checked');
+
+function expectReport(path: string, heading: string): string {
+  const html = readFileSync(path, 'utf8');
+  expect(html.startsWith('<!DOCTYPE html>')).toBe(true);
+  expect(XMLValidator.validate(html)).toBe(true);
+  expect(html).toContain(`<h2>${heading}</h2>`);
+  expect(html).toContain('<h2>Chip drawing</h2>');
+  if (live) expect(html).toMatch(/<input id="field-[^"]+" type="number" step="any" data-setting="inA\.(pressure|flow)"/);
+  expect(html).not.toMatch(/<link|<img|<iframe|@import|src=/i);
+  return html;
+}
+
+describe('--report', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-reports-'));
+  const ladder = join(dir, 'ladder.yaml');
+  writeFileSync(ladder, stringify(ladderLayout({ contactors: 4 })));
+
+  it('tune writes the tuning beside the tuned chip, live from the tuned settings', async () => {
+    const report = join(dir, 'tune.html');
+    const { code, err } = await runCli(['tune', ladder, '--throughput', '16uL/min', '--ratio', '0.18', '--vary', 'inA.pressure', '--vary', 'inB.pressure', '--vary', 'outA.pressure=0:5kPa', '--report', report]);
+    expect(err).toBe('');
+    expect(code).toBe(0);
+    const html = expectReport(report, 'Tuning');
+    expect(html).toContain('ladder-tuned.yaml');
+  });
+
+  it('tolerance writes the study and its charts beside the nominal chip', async () => {
+    const report = join(dir, 'tolerance.html');
+    const { code } = await runCli(['tolerance', ladder, '--depth', '1%', '--samples', '12', '--workers', '1', '--report', report]);
+    expect(code).toBe(0);
+    const html = expectReport(report, 'Tolerance study');
+    expect(html).toMatch(/<figure class="chart" id="analysis-[^"]+"><svg/);
+  });
+
+  it('extract writes the extraction into the chip report', async () => {
+    const report = join(dir, 'extract.html');
+    const { code } = await runCli(['extract', 'layouts/dye-octanol-8.yaml', '--report', report]);
+    expect(code).toBe(0);
+    expectReport(report, 'Extraction');
+  });
+
+  it('refuses a report in a missing folder before the work starts, with one line and exit status 5', async () => {
+    const missing = join(dir, 'no-such-folder', 'r.html');
+    for (const args of [['tune', ladder, '--throughput', '16uL/min', '--report', missing], ['tolerance', ladder, '--depth', '1%', '--report', missing], ['extract', 'layouts/dye-octanol-8.yaml', '--report', missing]]) {
+      const { code, err } = await runCli(args);
+      expect(code).toBe(5);
+      expect(err.trim().split('\n')).toHaveLength(1);
+      expect(err).toMatch(/--report/);
+      expect(existsSync(missing)).toBe(false);
+    }
+  });
+});
