@@ -8,7 +8,7 @@ import type { ChipSolution } from './chip.js';
 import type { Chip } from '../network/model.js';
 import { firstOrderTerms, spreadsOfContactors, windowOf, type FirstOrderModel } from './toleranceFirstOrder.js';
 import {
-  SPREAD_KEYS, STATE_CODES, contactorAt, realiseChip, splitAt, standardDeviates, type ObservableLayout, type Outcome, type SpreadKey, type TolerancePlan,
+  SPREAD_KEYS, STATE_CODES, contactorAt, realiseChip, realisedProperties, splitAt, standardDeviates, type ObservableLayout, type Outcome, type SpreadKey, type TolerancePlan,
 } from './toleranceModel.js';
 import type { SampleRow, SummaryInput } from './toleranceSummary.js';
 
@@ -72,13 +72,14 @@ export function spreadRecord(values: ArrayLike<number>): Record<SpreadKey, numbe
 }
 
 function sampleRow(chip: Chip, plan: TolerancePlan, z: Float64Array, index: number, outcome: Outcome, offsetSources: number[], nominal: ChipSolution, layout: ObservableLayout): SampleRow {
-  const realised = realiseChip(chip, plan, z).chip;
+  const solved = outcome.values !== undefined;
+  // A solved draw was realised; only an unsolved one may have been unrealisable (its properties NaN).
+  const realised = solved || realiseChip(chip, plan, z).chip ? realisedProperties(chip, plan, z) : undefined;
   const offsets: Record<string, number> = {};
   for (const k of offsetSources) {
     const slot = plan.slots.findIndex((s) => s.source === k);
     offsets[plan.sources[k]!.label] = plan.sources[k]!.variation.size * z[slot]!;
   }
-  const solved = outcome.values !== undefined;
   return {
     index,
     solved,
@@ -88,8 +89,8 @@ function sampleRow(chip: Chip, plan: TolerancePlan, z: Float64Array, index: numb
     leaking: solved ? nominal.splits.flatMap((s, i) => (outcome.states[i] !== 0 ? [`${s.id} (${STATE_CODES[outcome.states[i]!]})`] : [])) : [],
     spreads: solved ? spreadRecord(outcome.values) : null,
     flows: solved ? Array.from({ length: layout.contactors }, (_, c) => outcome.values[contactorAt(c)]!) : [],
-    viscosityA: realised?.phases.A.viscosity ?? NaN,
-    viscosityB: realised?.phases.B.viscosity ?? NaN,
+    viscosityA: realised?.viscosityA ?? NaN,
+    viscosityB: realised?.viscosityB ?? NaN,
     interfacialTension: realised?.interfacialTension ?? null,
     contactAngle: realised?.contactAngle ?? null,
     offsets,

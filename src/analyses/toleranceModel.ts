@@ -7,8 +7,9 @@
  * of standard deviates, one per slot, drawn from a stream that depends only on (seed, sample
  * index); a quantity becomes nominal + Σ size·z·(nominal if relative, else 1).
  *
- * Exports the spec types, `planTolerance`, `standardDeviates`, `realiseChip`, the recorded
- * layout (`observableLayout`, `observe`) and `runJob`, one solve as a worker thread runs it.
+ * Exports the spec types, `planTolerance`, `standardDeviates`, `realiseChip` (and
+ * `realisedProperties`, its quantities before any section is built), the recorded layout
+ * (`observableLayout`, `observe`) and `runJob`, one solve as a worker thread runs it.
  * No I/O, no threads; ./tolerance.ts runs the study.
  */
 import { summariseContactors, type ContactorSummary } from './chip.js';
@@ -193,8 +194,18 @@ function shift(v: Variation, nominal: number, z: number): number {
   return v.size * z * (v.relative ? nominal : 1);
 }
 
-/** The chip with every quantity moved by its slots' deviates times `scale`; a non-physical draw is a problem, not an error. */
-export function realiseChip(chip: Chip, plan: TolerancePlan, z: ArrayLike<number>, scale = 1): Realisation {
+/** The fluid and interface properties of a realisation, and the size changes of every segment (SI). */
+export interface RealisedProperties {
+  viscosityA: number;
+  viscosityB: number;
+  interfacialTension: number | undefined;
+  contactAngle: Chip['contactAngle'];
+  depth: Float64Array;
+  width: Float64Array;
+}
+
+/** Every quantity moved by its slots' deviates times `scale`, before any check or any section is built. */
+export function realisedProperties(chip: Chip, plan: TolerancePlan, z: ArrayLike<number>, scale = 1): RealisedProperties {
   const depth = new Float64Array(chip.segments.length);
   const width = new Float64Array(chip.segments.length);
   let { viscosity: muA } = chip.phases.A;
@@ -220,6 +231,12 @@ export function realiseChip(chip: Chip, plan: TolerancePlan, z: ArrayLike<number
       }
     }
   });
+  return { viscosityA: muA, viscosityB: muB, interfacialTension: tension, contactAngle: angle, depth, width };
+}
+
+/** The chip with every quantity moved by its slots' deviates times `scale`; a non-physical draw is a problem, not an error. */
+export function realiseChip(chip: Chip, plan: TolerancePlan, z: ArrayLike<number>, scale = 1): Realisation {
+  const { viscosityA: muA, viscosityB: muB, interfacialTension: tension, contactAngle: angle, depth, width } = realisedProperties(chip, plan, z, scale);
   if (!(muA > 0)) return { problem: `viscosity of A drawn ≤ 0` };
   if (!(muB > 0)) return { problem: `viscosity of B drawn ≤ 0` };
   if (tension !== undefined && !(tension > 0)) return { problem: 'interfacial tension drawn ≤ 0' };

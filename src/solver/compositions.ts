@@ -17,15 +17,32 @@ export interface CarriedFlows {
   crossover: Float64Array;
 }
 
-/** Sweeps ports from high to low pressure until nothing changes (at most once per port). */
+/**
+ * Sweeps ports from high to low pressure until nothing changes (at most once per port). The
+ * inflows of each port are kept in compressed rows, in the order the links are met, so that a
+ * port sums them in that order.
+ */
 export function propagatedCompositions(net: Network, flows: CarriedFlows): Float64Array {
   const { ports, plains, contactors, splits } = net;
   const composition = Float64Array.from(ports, (p) => p.nominal);
-  const order = ports.map((_, i) => i).sort((a, b) => flows.pressure(b) - flows.pressure(a));
-  const inflow: Array<Array<[number, number]>> = ports.map(() => []); // [upstream port, flow]
+  const pressure = Float64Array.from(ports, (_, i) => flows.pressure(i));
+  const order = ports.map((_, i) => i).sort((a, b) => pressure[b]! - pressure[a]!);
+  // Links as (upstream port, downstream port, flow), then grouped by downstream port.
+  const links = plains.length + 3 * contactors.length + splits.length;
+  const up = new Int32Array(links);
+  const down = new Int32Array(links);
+  const flow = new Float64Array(links);
+  let count = 0;
   const link = (from: number, to: number, q: number) => {
-    if (q > 0) inflow[to]!.push([from, q]);
-    else if (q < 0) inflow[from]!.push([to, -q]);
+    if (q > 0) {
+      up[count] = from;
+      down[count] = to;
+      flow[count++] = q;
+    } else if (q < 0) {
+      up[count] = to;
+      down[count] = from;
+      flow[count++] = -q;
+    }
   };
   plains.forEach((el, e) => link(el.from, el.to, flows.plainFlow[e]!));
   contactors.forEach((el, c) => {
@@ -34,6 +51,17 @@ export function propagatedCompositions(net: Network, flows: CarriedFlows): Float
     link(el.nearIn, el.farIn, flows.crossover[c]!);
   });
   splits.forEach((sp, s) => link(sp.far, sp.near, flows.leak[s]!));
+  const start = new Int32Array(ports.length + 1);
+  for (let l = 0; l < count; l++) start[down[l]! + 1]++;
+  for (let i = 0; i < ports.length; i++) start[i + 1] += start[i]!;
+  const next = start.slice(0, ports.length);
+  const inPort = new Int32Array(count);
+  const inFlow = new Float64Array(count);
+  for (let l = 0; l < count; l++) {
+    const at = next[down[l]!]!++;
+    inPort[at] = up[l]!;
+    inFlow[at] = flow[l]!;
+  }
   for (let sweep = 0; sweep < ports.length + 1; sweep++) {
     let changed = false;
     for (const i of order) {
@@ -47,9 +75,9 @@ export function propagatedCompositions(net: Network, flows: CarriedFlows): Float
           q += port.injection;
           qa += port.injection * (port.supplies ?? 1);
         }
-        for (const [from, f] of inflow[i]!) {
-          q += f;
-          qa += f * composition[from]!;
+        for (let k = start[i]!; k < start[i + 1]!; k++) {
+          q += inFlow[k]!;
+          qa += inFlow[k]! * composition[inPort[k]!]!;
         }
         value = q > 0 ? qa / q : composition[i]!;
       }

@@ -22,6 +22,7 @@ import type { ContactorElement, Network } from '../network/assemble.js';
 import { UnknownMap } from './unknowns.js';
 import { NetworkEquations, type EvaluateOptions } from './assembly.js';
 import { FactorCache, linearStep } from './linearStep.js';
+import { TripletBuilder } from './sparseMatrix.js';
 import { propagatedCompositions } from './compositions.js';
 import type { FeedBranch, SplitBranch } from './elements.js';
 
@@ -105,14 +106,27 @@ export interface NetworkSolution {
 export type WarmStart = Pick<NetworkSolution, 'pressure' | 'holdup' | 'leak' | 'splitStates' | 'crossover' | 'feedStates' | 'composition'>;
 
 /**
- * What a sequence of solves may share: holdup tables by geometry and fluids, and the symbolic
- * analyses of the sparse factors by pattern. Numeric factors are not carried from one solve to
+ * What a sequence of solves may share: holdup tables by geometry and fluids, the symbolic
+ * analyses of the sparse factors by pattern, and the Jacobian's triplet builder by system size
+ * (with the compressions of its patterns). Numeric factors are not carried from one solve to
  * the next, so a solve's result does not depend on what ran before it (a tolerance study gives
  * the same figures on one thread or two). A solve given none makes its own; sweeps pass one.
  */
 export class SolverWorkspace {
   readonly factors = new FactorCache();
   readonly tables = new SectionTables();
+  private readonly builders = new Map<number, TripletBuilder>();
+
+  /** The triplet builder for systems of n unknowns (a sweep's chips share one size; a few sizes are kept). */
+  builderFor(n: number): TripletBuilder {
+    let builder = this.builders.get(n);
+    if (!builder) {
+      if (this.builders.size >= 4) this.builders.clear();
+      builder = new TripletBuilder(n);
+      this.builders.set(n, builder);
+    }
+    return builder;
+  }
 
   holdupTable(c: ContactorElement, muNear: number, muFar: number): HoldupTable {
     return this.tables.holdup(c.section, muNear, muFar);
@@ -185,7 +199,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
 
 function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode): NetworkSolution {
   const map = new UnknownMap(net);
-  const eq = new NetworkEquations(net, map, workspace.tables);
+  const eq = new NetworkEquations(net, map, workspace.tables, workspace.builderFor(map.size));
   const { alphaAt, leakAt, compAt, size: n, freePorts, unknownOf } = map;
   const { ports, contactors, splits } = net;
   const muA = net.chip.phases.A.viscosity;
@@ -231,9 +245,22 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   let iterations = 0;
   let scaled = false;
   const negated = (F: Float64Array) => F.map((v) => -v);
+  /**
+   * The holdup freezing of a Jacobian that eq already holds for x, or undefined. The evaluation
+   * before a step (`evaluateBeforeStep`) assembles the Jacobian too, and the step's first
+   * linearisation at that x then uses it instead of evaluating again: the same F and J, since
+   * without compositions an evaluation does not read the composition pull (which the flow
+   * reference taken in between moves). A cost only: the iterates are the same to the bit.
+   */
+  let heldJacobian: boolean | 'open' | undefined;
+  const evaluateBeforeStep = (freezeHoldup: false | 'open') => {
+    eq.evaluate(x, settings(!withComposition, freezeHoldup));
+    heldJacobian = withComposition ? undefined : freezeHoldup;
+  };
   /** The linear step of (J − D/τ)·δ = −F at x; τ = Infinity is Newton's step. */
   const linearised = (tau: number, freezeHoldup: boolean | 'open'): Float64Array => {
-    eq.evaluate(x, settings(true, freezeHoldup));
+    if (heldJacobian !== freezeHoldup) eq.evaluate(x, settings(true, freezeHoldup));
+    heldJacobian = undefined;
     if (Number.isFinite(tau)) for (let i = 0; i < n; i++) if (eq.dynamic[i]! !== 0) eq.builder.add(i, i, eq.dynamic[i]! / tau);
     const matrix = eq.builder.toCsc();
     if (scaled) return linearStep(matrix, negated(eq.F), opt.linear, workspace.factors);
@@ -307,6 +334,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   };
   /** x = from + t·δ, compositions kept in [0, 1]. */
   const apply = (from: Float64Array, delta: Float64Array, t: number) => {
+    heldJacobian = undefined;
     for (let i = 0; i < n; i++) x[i] = from[i]! + t * delta[i]!;
     for (let i = compAt; i < n; i++) x[i] = Math.min(1, Math.max(0, x[i]!));
   };
@@ -400,7 +428,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     const wasOpen = contactors.map((_, c) => x[alphaAt + c]! > 0 && x[alphaAt + c]! < 1);
     for (let sweep = 0; sweep < PICARD_SWEEPS; sweep++) {
       for (let inner = 0; inner < PICARD_INNER_STEPS; inner++) {
-        eq.evaluate(x, settings(false, 'open'));
+        evaluateBeforeStep('open');
         reference = eq.flowReference();
         if (settled(PICARD_INNER_SETTLED * reference)) break;
         apply(x.slice(), step(Infinity, 'open'), 1);
@@ -499,7 +527,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     let improvedAt = 0;
     while (iterations < opt.maxIterations) {
       anchor.set(x);
-      eq.evaluate(x, settings(false));
+      evaluateBeforeStep(false);
       reference = eq.flowReference();
       // In the Picard attempts the last stage (coupling 1) may fall back too; the plain attempt
       // keeps its last stage to the end, which settles the default 16-contactor ladder in 86 steps

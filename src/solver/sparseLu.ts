@@ -50,6 +50,7 @@ export class SparseLuSymbolic {
   private readonly singularTolerance: number;
   /** Storage size for L and U, learnt from the previous factorisation. */
   private capacity: number;
+  private scratch: Scratch | undefined;
 
   constructor(pattern: SparseMatrix, options: SparseLuOptions = {}) {
     const { n } = pattern;
@@ -67,7 +68,7 @@ export class SparseLuSymbolic {
 
   factor(a: SparseMatrix): SparseLuFactor {
     if (!samePattern(a, this.pattern)) throw new Error('matrix pattern differs from the analysed pattern');
-    const factor = leftLookingLu(a, this.columnOrder, this.pivotThreshold, this.singularTolerance, this.capacity);
+    const factor = leftLookingLu(a, this.columnOrder, this.pivotThreshold, this.singularTolerance, this.capacity, (this.scratch ??= scratchOf(a.n)));
     this.capacity = Math.max(factor.nnzL, factor.nnzU) + a.n;
     return factor;
   }
@@ -97,11 +98,6 @@ class ColumnStore {
     this.index = index;
     this.value = value;
   }
-
-  trim(): void {
-    this.index = this.index.slice(0, this.size);
-    this.value = this.value.slice(0, this.size);
-  }
 }
 
 function leftLookingLu(
@@ -110,13 +106,28 @@ function leftLookingLu(
   pivotThreshold: number,
   singularTolerance: number,
   capacity: number,
+  scratch: Scratch,
 ): SparseLuFactor {
-  const work = new LeftLookingColumns(a, q, capacity);
+  const work = new LeftLookingColumns(a, q, capacity, scratch);
   const failedColumn = work.factorColumns(pivotThreshold, singularTolerance);
   // A column without a usable pivot does not stop the factorisation: the rows still unpivoted
   // at the end tell which equation is redundant.
   if (failedColumn >= 0) throw SingularMatrixError.blame(a, failedColumn, work.pinv.indexOf(-1));
   return new TriangularFactors(a.n, q, work.pinv, work.L, work.U, work.uDiag);
+}
+
+/** Work arrays of one column at a time, kept by the symbolic analysis from one factorisation to the next. */
+interface Scratch {
+  x: Float64Array;
+  magnitude: Float64Array;
+  reach: Int32Array;
+  stack: Int32Array;
+  resume: Int32Array;
+  visited: Int32Array;
+}
+
+function scratchOf(n: number): Scratch {
+  return { x: new Float64Array(n), magnitude: new Float64Array(n), reach: new Int32Array(n), stack: new Int32Array(n), resume: new Int32Array(n), visited: new Int32Array(n) };
 }
 
 /** The state of a left-looking LU between columns. */
@@ -141,18 +152,17 @@ class LeftLookingColumns {
     private readonly a: SparseMatrix,
     private readonly q: Int32Array,
     capacity: number,
+    scratch: Scratch,
   ) {
     const { n } = a;
     this.L = new ColumnStore(n, capacity);
     this.U = new ColumnStore(n, capacity);
     this.uDiag = new Float64Array(n);
     this.pinv = new Int32Array(n).fill(-1);
-    this.x = new Float64Array(n);
-    this.magnitude = new Float64Array(n);
-    this.reach = new Int32Array(n);
-    this.stack = new Int32Array(n);
-    this.resume = new Int32Array(n);
-    this.visited = new Int32Array(n).fill(-1);
+    // Every entry of x and magnitude that a column reads is set first (reach), and stack and
+    // resume are written before they are read; visited must start unmarked.
+    ({ x: this.x, magnitude: this.magnitude, reach: this.reach, stack: this.stack, resume: this.resume, visited: this.visited } = scratch);
+    this.visited.fill(-1);
   }
 
   /** Computes all columns; returns the first column without a usable pivot, or −1. */
@@ -286,9 +296,9 @@ class TriangularFactors implements SparseLuFactor {
     private readonly U: ColumnStore,
     private readonly uDiag: Float64Array,
   ) {
+    // Not trimmed to size: the copy cost more than the spare room, which the factor holds only
+    // until the next factorisation replaces it.
     renumberRows(L, pinv);
-    L.trim();
-    U.trim();
     this.n = n;
     this.nnzL = L.size;
     this.nnzU = U.size + n;

@@ -32,10 +32,12 @@ interface Compression {
  * An entry added with value 0 stays in the pattern: an assembler that adds the same entries at
  * every Newton iteration gets the same pattern every time, whatever the values.
  *
- * `toCsc` remembers the last sequence of positions it compressed. When the next one is the same
- * (a Newton loop stamps the same entries in the same order), it only adds each value into its
- * remembered slot, in the order added, which sums the duplicates exactly as a fresh compression
- * does; the matrices then share their `colPtr` and `rowIdx` arrays, which no one may change.
+ * `toCsc` remembers the last few sequences of positions it compressed (a solve alternates
+ * between a few: with and without compositions, with holdups frozen or not). When the next one
+ * is one of them (a Newton loop stamps the same entries in the same order), it only adds each
+ * value into its remembered slot, in the order added, which sums the duplicates exactly as a
+ * fresh compression does; the matrices then share their `colPtr` and `rowIdx` arrays, which no
+ * one may change.
  */
 export class TripletBuilder {
   readonly n: number;
@@ -43,7 +45,9 @@ export class TripletBuilder {
   private cols: Int32Array;
   private vals: Float64Array;
   private count = 0;
-  private last: Compression | undefined;
+  /** The compressions remembered, the last used first. */
+  private readonly compressions: Compression[] = [];
+  private static readonly REMEMBERED = 4;
 
   constructor(n: number) {
     if (!Number.isInteger(n) || n < 0) throw new RangeError(`matrix size must be a whole number ≥ 0, got ${n}`);
@@ -87,17 +91,18 @@ export class TripletBuilder {
   }
 
   toCsc(): SparseMatrix {
-    const { n, count, vals } = this;
-    const last = this.last;
-    if (last && this.samePositions(last)) {
-      // −0 is the identity of addition (−0 + v = v for every v, 0 and −0 included), so the sums
-      // equal the fresh compression's, which starts each entry from its first value.
-      const values = new Float64Array(last.rowIdx.length).fill(-0);
-      const { slot } = last;
-      for (let t = 0; t < count; t++) values[slot[t]] += vals[t];
-      return { n, colPtr: last.colPtr, rowIdx: last.rowIdx, values };
-    }
-    return this.compress();
+    const { n, count, vals, compressions } = this;
+    const at = compressions.findIndex((c) => this.samePositions(c));
+    if (at < 0) return this.compress();
+    const known = compressions[at]!;
+    compressions.splice(at, 1);
+    compressions.unshift(known);
+    // −0 is the identity of addition (−0 + v = v for every v, 0 and −0 included), so the sums
+    // equal the fresh compression's, which starts each entry from its first value.
+    const values = new Float64Array(known.rowIdx.length).fill(-0);
+    const { slot } = known;
+    for (let t = 0; t < count; t++) values[slot[t]] += vals[t];
+    return { n, colPtr: known.colPtr, rowIdx: known.rowIdx, values };
   }
 
   private samePositions(last: Compression): boolean {
@@ -152,7 +157,8 @@ export class TripletBuilder {
         slot[t] = fill[j] - 1;
       }
     }
-    this.last = { rows: rows.slice(0, count), cols: cols.slice(0, count), slot, colPtr, rowIdx };
+    this.compressions.unshift({ rows: rows.slice(0, count), cols: cols.slice(0, count), slot, colPtr, rowIdx });
+    if (this.compressions.length > TripletBuilder.REMEMBERED) this.compressions.pop();
     return { n, colPtr, rowIdx, values };
   }
 
