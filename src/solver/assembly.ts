@@ -42,6 +42,11 @@ export interface EvaluateOptions {
   /** How far compositions change the viscosities the flows see, 0 to 1 (default 1). */
   coupling?: number;
   /**
+   * Width of the smoothed complementarities (elements.ts `smoothMid`), as a share of each
+   * split's window and in z for each merge; 0 or absent: the exact semismooth rows.
+   */
+  smoothing?: number;
+  /**
    * A direction in which to differentiate the element flows (into `flowTangent`): the change
    * dv of the unknowns, and the fixed port whose pressure moves by 1 along it, if any.
    */
@@ -204,6 +209,7 @@ export class NetworkEquations {
     // Homotopy in the viscosity coupling: flows see nominal + s·(x − nominal) of each
     // composition, while the phase balances carry x itself.
     const s = o.coupling ?? 1;
+    const smoothing = o.smoothing ?? 0;
     const seen = (port: number, x: number) => {
       const nominal = this.net.ports[port]!.nominal;
       return nominal + s * (x - nominal);
@@ -303,7 +309,7 @@ export class NetworkEquations {
       const el = contactors[c]!;
       const col = alphaAt + c;
       // One unknown z carries the holdup and the merge crossover (elements.ts `mergeState`).
-      const merge = mergeState(v[col]!, this.mergeKappa(el), this.mergeBranch[c]);
+      const merge = mergeState(v[col]!, this.mergeKappa(el), this.mergeBranch[c], smoothing);
       this.feedStates[c] = merge.branch;
       const alpha = merge.alpha;
       const dn = this.pressureOf(v, el.nearIn) - this.pressureOf(v, el.nearOut);
@@ -340,7 +346,7 @@ export class NetworkEquations {
         J(col, massRow(el.farOut), 0);
         continue;
       }
-      const stagnant = merge.dAlpha === 1 && Math.max(Math.abs(dn), Math.abs(df)) < stagnantDrop;
+      const stagnant = merge.openSlopes && Math.max(Math.abs(dn), Math.abs(df)) < stagnantDrop;
       const ww = stagnant ? 0 : w;
       F[col] = ww * (dn - df) - pull * (v[col]! - o.anchor[col]!);
       noise[col] = w * Number.EPSILON * (Math.abs(this.pressureOf(v, el.nearIn)) + Math.abs(this.pressureOf(v, el.nearOut)) + Math.abs(this.pressureOf(v, el.farIn)) + Math.abs(this.pressureOf(v, el.farOut)));
@@ -359,7 +365,7 @@ export class NetworkEquations {
       const sign = sp.nearPhase === 'A' ? 1 : -1;
       const kappa = sp.contactor.scale;
       const delta = sign * (this.pressureOf(v, sp.far) - this.pressureOf(v, sp.near));
-      const row = splitLaw(delta, sign * leak, kappa, sp.window[0], sp.window[1], this.splitBranch[s]);
+      const row = splitLaw(delta, sign * leak, kappa, sp.window[0], sp.window[1], this.splitBranch[s], smoothing * Math.min(sp.window[1] - sp.window[0], this.pressureScale));
       this.splitStates[s] = row.branch;
       F[col] = row.F;
       dynamic[col] = -sign;

@@ -68,6 +68,24 @@ export function laneLaw(dNear: number, dFar: number, length: number, k: LaneCond
 
 export type SplitBranch = 'pinned' | 'high' | 'low';
 
+/**
+ * The clamp mid(low, y, high) smoothed with width ε > 0, and its slope in y:
+ * low + φ(y − low) − φ(y − high), φ(t) = ½(t + √(t² + 4ε²)), the Chen–Harker–Kanzow–Smale
+ * smoothing of max(0, t) (Kanzow, 1996, SIAM J. Matrix Anal. Appl. 17:851). It lies within ε
+ * of the clamp, is infinitely differentiable for ε > 0 and equals the clamp at ε = 0; a
+ * smoothing Newton method drives ε to 0 along the iteration (Qi, Sun & Zhou, 2000, Math.
+ * Program. 87:1).
+ */
+export function smoothMid(y: number, low: number, high: number, eps: number): { value: number; slope: number } {
+  const a = y - low;
+  const b = y - high;
+  const ra = Math.sqrt(a * a + 4 * eps * eps);
+  const rb = Math.sqrt(b * b + 4 * eps * eps);
+  // φ(t) written as 2ε²/(√(t² + 4ε²) − t) for t < 0, which does not cancel.
+  const phi = (t: number, r: number) => (t >= 0 ? 0.5 * (t + r) : (2 * eps * eps) / (r - t));
+  return { value: low + phi(a, ra) - phi(b, rb), slope: 0.5 * (a / ra - b / rb) };
+}
+
 export interface ComplementarityRow<Branch> {
   branch: Branch;
   /** Residual, m³/s. */
@@ -84,10 +102,16 @@ export interface ComplementarityRow<Branch> {
  * by itself; Qi & Sun, 1993, Math. Program. 58:353):
  *   Δ = clamp(Δ + ℓ_A/κ, low, high),  ℓ_A the leak toward A's outlet, κ a conductance scale.
  * Written in flow units: inside, F = −ℓ_A; at a limit, F = κ·(Δ − limit). `branch` imposes
- * one (an active-set prediction).
+ * one (an active-set prediction). With `eps` > 0 the clamp is smoothed (`smoothMid`, width eps
+ * in Pa): F = κ·(Δ − mid_ε(Δ + ℓ_A/κ)), smooth in both unknowns; `branch` is then ignored and
+ * the one returned is the clamp's.
  */
-export function splitLaw(delta: number, leakA: number, kappa: number, low: number, high: number, branch?: SplitBranch): ComplementarityRow<SplitBranch> {
+export function splitLaw(delta: number, leakA: number, kappa: number, low: number, high: number, branch?: SplitBranch, eps = 0): ComplementarityRow<SplitBranch> {
   const trial = delta + leakA / kappa;
+  if (eps > 0) {
+    const mid = smoothMid(trial, low, high, eps);
+    return { branch: trial >= high ? 'high' : trial <= low ? 'low' : 'pinned', F: kappa * (delta - mid.value), dBounded: kappa * (1 - mid.slope), dFlow: -mid.slope };
+  }
   if (branch === 'high' || branch === 'low') return { branch, F: kappa * (delta - (branch === 'high' ? high : low)), dBounded: kappa, dFlow: 0 };
   if (branch === 'pinned' || (trial > low && trial < high)) return { branch: 'pinned', F: -leakA, dBounded: 0, dFlow: -1 };
   const limit = trial >= high ? high : low;
@@ -110,6 +134,8 @@ export interface MergeState {
   /** Crossover χ = κ·(z − α), near → far at the merge, m³/s, and its slope in z. */
   cross: number;
   dCross: number;
+  /** The slopes are those of the open piece (both lanes move with z). */
+  openSlopes: boolean;
 }
 
 /**
@@ -119,12 +145,18 @@ export interface MergeState {
  * map, 1992, Math. Oper. Res. 17:691). A line search along z passes through the change of state
  * continuously, and the Jacobian column of z is the α-column inside and κ times the χ-column
  * outside, never empty. κ is a flow scale. `slopesOf` takes the slopes of another piece while
- * the value stays z's own (an active-set prediction for the next Newton step).
+ * the value stays z's own (an active-set prediction for the next Newton step). With `eps` > 0,
+ * α = mid_ε(0, z, 1) (`smoothMid`) and `slopesOf` is ignored: every piece then has slopes in
+ * both α and χ.
  */
-export function mergeState(z: number, kappa: number, slopesOf?: FeedBranch): MergeState {
-  const alpha = Math.min(1, Math.max(0, z));
+export function mergeState(z: number, kappa: number, slopesOf?: FeedBranch, eps = 0): MergeState {
   const branch: FeedBranch = z >= 1 ? 'nearFills' : z <= 0 ? 'farFills' : 'open';
+  if (eps > 0) {
+    const mid = smoothMid(z, 0, 1, eps);
+    return { branch, alpha: mid.value, dAlpha: mid.slope, cross: kappa * (z - mid.value), dCross: kappa * (1 - mid.slope), openSlopes: branch === 'open' };
+  }
+  const alpha = Math.min(1, Math.max(0, z));
   // The slopes are those of the piece `slopesOf` (an active-set prediction), else of z's own.
   const open = (slopesOf ?? branch) === 'open';
-  return { branch, alpha, dAlpha: open ? 1 : 0, cross: kappa * (z - alpha), dCross: open ? 0 : kappa };
+  return { branch, alpha, dAlpha: open ? 1 : 0, cross: kappa * (z - alpha), dCross: open ? 0 : kappa, openSlopes: open };
 }

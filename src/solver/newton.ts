@@ -70,6 +70,16 @@ const STALL_STEPS = 60;
 const ACTIVE_SET_ROUNDS = 4;
 /** A row counts as settled within this multiple of its rounding floor. */
 const ROUNDING_FLOOR_FACTOR = 16;
+/**
+ * The smoothing attempt: first width of the smoothed complementarities (a share of each split's
+ * window, and in z), the factor each settled width is cut by, the width below which the exact
+ * rows take over, and the relative residual per unit width at which a width counts as settled
+ * (the smoothed solution is itself within about the width of the exact one).
+ */
+const SMOOTHING_START = 0.05;
+const SMOOTHING_CUT = 0.1;
+const SMOOTHING_END = 1e-9;
+const SMOOTHING_SETTLED = 1e-2;
 
 export interface NetworkSolution {
   converged: boolean;
@@ -156,21 +166,33 @@ interface Attempt {
    * starving, steadier where many weak contactors switch).
    */
   picard: PicardMode;
+  /**
+   * A cold start on smoothed complementarities, their width driven to 0 (a smoothing Newton
+   * method), marched by pure pseudo-transient continuation: what settles chips where feeds
+   * starve and splits leak side by side, where the plain start's line searches stall at the
+   * kinks between states.
+   */
+  smooth: boolean;
 }
 
 /**
  * The order of attempts: for each merit weighting of LANE_WEIGHTS, from `warm` when given and
- * then cold; after the first weighting, a Picard start. Chips that settle from the plain start
- * (every well-designed chip of the test families) never pay for the sweeps; the Picard start is
- * what settles chips whose manifolds carry most of the drop, where the plain start stalls with
- * feeds starving and splits leaking all along the ladder.
+ * then cold; after the first weighting, the smoothing start and then the Picard starts. Chips
+ * that settle from the plain start (every well-designed chip of the test families) never pay
+ * for the others. The smoothing start settles chips where feeds starve next to leaking splits
+ * (the corners of a window map, where the plain start's line searches stall at the kinks
+ * between states); the Picard start settles chips whose manifolds carry most of the drop, where
+ * the plain start stalls with feeds starving and splits leaking all along the ladder.
  */
 function attemptPlan(warm: WarmStart | undefined): Attempt[] {
   const plan: Attempt[] = [];
   for (const laneWeight of LANE_WEIGHTS) {
-    if (warm) plan.push({ laneWeight, start: warm, picard: 'off' });
-    plan.push({ laneWeight, start: undefined, picard: 'off' });
-    if (laneWeight === LANE_WEIGHTS[0]) plan.push({ laneWeight, start: undefined, picard: 'keep' }, { laneWeight, start: undefined, picard: 'restart' });
+    if (warm) plan.push({ laneWeight, start: warm, picard: 'off', smooth: false });
+    plan.push({ laneWeight, start: undefined, picard: 'off', smooth: false });
+    if (laneWeight === LANE_WEIGHTS[0]) {
+      plan.push({ laneWeight, start: undefined, picard: 'off', smooth: true });
+      plan.push({ laneWeight, start: undefined, picard: 'keep', smooth: false }, { laneWeight, start: undefined, picard: 'restart', smooth: false });
+    }
   }
   return plan;
 }
@@ -186,9 +208,9 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   let best: NetworkSolution | undefined;
   let steps = 0;
   let attempts = 0;
-  for (const { laneWeight, start, picard } of attemptPlan(warm)) {
+  for (const { laneWeight, start, picard, smooth } of attemptPlan(warm)) {
     if (attempts++ >= opt.maxAttempts) break;
-    const attempt = solveFrom(net, opt, start, workspace, laneWeight, picard);
+    const attempt = solveFrom(net, opt, start, workspace, laneWeight, picard, smooth);
     steps += attempt.iterations;
     if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined };
     if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
@@ -197,7 +219,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   return { ...best!, iterations: steps, restartedCold: warm !== undefined, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
 }
 
-function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode): NetworkSolution {
+function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode, smooth = false): NetworkSolution {
   const map = new UnknownMap(net);
   const eq = new NetworkEquations(net, map, workspace.tables, workspace.builderFor(map.size));
   const { alphaAt, leakAt, compAt, size: n, freePorts, unknownOf } = map;
@@ -217,8 +239,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     for (const [i, u] of unknownOf.entries()) if (u >= 0) x[compAt + u] = ports[i]!.nominal;
   }
   let reference = 1e-300;
-  const settings = (jacobian: boolean, freezeHoldup: boolean | 'open' = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: COMPOSITION_PULL * reference, coupling });
+  const settings = (jacobian: boolean, freezeHoldup: boolean | 'open' = false): EvaluateOptions => ({ jacobian, freezeHoldup, withComposition, anchor, compositionPull: COMPOSITION_PULL * reference, coupling, smoothing });
   let coupling = 1;
+  /** Width of the smoothed complementarities (EvaluateOptions.smoothing); 0: the exact rows. */
+  let smoothing = 0;
 
   /** Largest |J_ij| over the pressure columns of each row: the row's conductance, for the merit. */
   const rowScale = new Float64Array(n).fill(1);
@@ -298,7 +322,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     eq.mergeBranch.fill(undefined);
     let delta = linearised(tau, freeze);
     iterations++;
-    for (let round = 0; round < ACTIVE_SET_ROUNDS; round++) {
+    // Smoothed rows have one piece: their Jacobian is the exact one, nothing to predict.
+    for (let round = 0; round < (smoothing > 0 ? 0 : ACTIVE_SET_ROUNDS); round++) {
       let changed = false;
       const at = (port: number) => eq.pressureOf(x, port) + (unknownOf[port]! >= 0 ? delta[unknownOf[port]!]! : 0);
       for (let s = 0; s < splits.length; s++) {
@@ -515,9 +540,11 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       }
       eq.rescale(x);
       if (picard !== 'off') picardSweeps(picard === 'restart');
+      if (smooth) smoothing = SMOOTHING_START;
     }
 
-    let tau = Infinity;
+    // The smoothing attempt marches in pseudo-time from the start (Kelley & Keyes's τ₀).
+    let tau = smooth ? opt.fallbackPseudoStep : Infinity;
     let rounds = 1;
     let settledAt: Float64Array | undefined;
     let settledCoupling = 1;
@@ -540,6 +567,12 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         coupling = settledCoupling + couplingStep;
         stageStart = iterations;
         tau = Infinity;
+        continue;
+      }
+      if (smoothing > 0 && settled(Math.max(opt.relativeTolerance, SMOOTHING_SETTLED * smoothing) * reference)) {
+        // This width settled: the next, SMOOTHING_CUT narrower, and the exact rows below SMOOTHING_END.
+        smoothing = smoothing * SMOOTHING_CUT < SMOOTHING_END ? 0 : smoothing * SMOOTHING_CUT;
+        stageStart = iterations;
         continue;
       }
       if (settled(opt.relativeTolerance * reference)) {
@@ -594,6 +627,24 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         improvedAt = iterations;
       } else if (iterations - improvedAt > STALL_STEPS) {
         break;
+      }
+      if (smooth) {
+        // Pseudo-transient continuation as Kelley & Keyes (1998) state it: every step is taken
+        // whole, unless it multiplies the merit by more than rejectGrowth (then τ is cut by 4 and
+        // the step taken again), and τ follows the merit by switched evolution relaxation. No
+        // line search: on the smoothed rows a step that first raises the merit is often the way
+        // out of a curved valley where a backtracking search cuts τ to nothing.
+        apply(start, delta, 1);
+        eq.evaluate(x, settings(false));
+        const after = merit();
+        if (!(after <= opt.rejectGrowth * before)) {
+          x.set(start);
+          tau = Math.min(tau, opt.fallbackPseudoStep) / 4;
+          continue;
+        }
+        tau = Math.min(opt.maxPseudoStep, (tau * before) / Math.max(after, 1e-300));
+        if (tau >= opt.maxPseudoStep) tau = Infinity;
+        continue;
       }
       // Backtracking on the row-equilibrated merit (Armijo).
       let t = 1;
