@@ -107,10 +107,11 @@ function checkAxis(axis: SweepAxis, name: string, plain: boolean): void {
  * Solver settings of a sweep, over the solver's own defaults: a map needs the class of each
  * point and its totals to four or five digits, so mass balances to 1e-5 of the throughput do
  * (on the 64-contactor ladder the classes came out the same as at 1e-6, and the totals to 7
- * digits); from a neighbour's solution a point settles in a few steps, and one that has not in
- * 60 is, in practice, one the solver will not settle.
+ * digits). Every point has every attempt of the solver (warm, cold, smoothing, Picard): caps
+ * on steps or attempts failed a point that a cold or smoothing start settles, and one failure
+ * then failed its line (25 of 441 points of the dye chip's map).
  */
-export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5, maxIterations: 60, maxAttempts: 2 };
+export const SWEEP_SOLVER: SolverOptions = { relativeTolerance: 1e-5 };
 
 /** Where a point lies on the grid and in setting values. */
 export interface GridPlace {
@@ -193,9 +194,8 @@ export function predictedStart(last: WarmStart, before: WarmStart | undefined): 
 /**
  * Solves the points in order. Each starts from the prediction of the last two converged
  * solutions of the line (`seed` stands before the first); a point whose warm start fails is
- * tried once more from a cold start (by the solver: SWEEP_SOLVER.maxAttempts), unless the point
- * before it failed too (a region where the solver does not converge costs one attempt per
- * point, not two). The points of a line share one solver workspace (symbolic analyses, factors).
+ * tried by the solver's other attempts (cold, smoothing, Picard). The points of a line share
+ * one solver workspace (symbolic analyses, factors).
  */
 export function sweepLine(
   chip: Chip,
@@ -217,7 +217,7 @@ export function sweepLine(
   for (const { i, j } of line) {
     const [tx, ty] = settingsAt(spec.coordinates ?? 'settings', [xs[i]!, ys[j]!]);
     const variant = withSettings(chip, [[spec.x.setting, tx], [spec.y.setting, ty]]);
-    const solved = solveChip(variant, previousFailed ? { ...solver, maxAttempts: 1 } : solver, last && predictedStart(last, before), workspace);
+    const solved = solveChip(variant, solver, last && predictedStart(last, before), workspace);
     const attempts = solved.raw.restartedCold ? 2 : 1;
     if (solved.result.converged) {
       before = previousFailed || last === seed ? undefined : last;
