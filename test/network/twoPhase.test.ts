@@ -6,7 +6,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import type { LayoutFile } from '../../src/layout/schema.js';
-import { layoutToChip } from '../../src/layout/load.js';
+import { layoutToChip, loadLayout } from '../../src/layout/load.js';
+import { parseSetting, withSettings } from '../../src/analyses/settings.js';
 import { treeLayout, ladderLayout } from '../../src/layout/generate.js';
 import { solveChip, warmStartFrom, type ChipSolution } from '../../src/analyses/chip.js';
 import { twoLayerFlow } from '../../src/physics/twoLayer.js';
@@ -592,6 +593,35 @@ describe('robustness of the solve', () => {
 
   // Regression: the previous solve answered "Newton iteration stalled" on this chip after 100
   // steps. Narrow manifolds carry much of the drop, so far contactors starve and splits leak.
+  // One answer per chip: the bundled dye chip at six operating points (inlet settings as mean and
+  // difference, Pa) in every state the model has: all pinned, leaking either way, one contactor
+  // starved, every contactor starved with every split leaking. Each point solved cold and warm
+  // from each of the other five gives the same lane flows (to 1e-9 of the largest: the solve's
+  // 1e-12 mass tolerance leaves ~1e-11) and the same split and feed states.
+  it('gives the dye chip the same solution cold and warm from any of five other operating points', () => {
+    const dye = loadLayout('layouts/dye-octanol-8.yaml');
+    const [a, b] = [parseSetting('inA.pressure', dye), parseSetting('inB.pressure', dye)];
+    const at = (m: number, d: number) => withSettings(dye, [[a, m + d / 2], [b, m - d / 2]]);
+    const points = [[4546, 1114], [8000, 1100], [4546, 1300], [4546, 950], [1967.7, 1203.3], [3239.5, 1181]] as const;
+    const cold = points.map(([m, d]) => solveChip(at(m, d)));
+    const starved = cold.map((s) => s.raw.feedStates.filter((f) => f !== 'open').length);
+    const leaking = cold.map((s) => s.raw.splitStates.filter((f) => f !== 'pinned').length);
+    expect(starved).toEqual([0, 0, 0, 0, 8, 1]);
+    expect(leaking).toEqual([0, 0, 8, 8, 8, 0]);
+    points.forEach(([m, d], t) => {
+      const ref = cold[t]!.raw;
+      const scale = Math.max(...Array.from(ref.laneFlow, Math.abs));
+      cold.forEach((from, f) => {
+        if (f === t) return;
+        const warm = solveChip(at(m, d), {}, warmStartFrom(from)).raw;
+        expect(warm.converged, `point ${t} from ${f}`).toBe(true);
+        expect([warm.splitStates, warm.feedStates], `point ${t} from ${f}`).toEqual([ref.splitStates, ref.feedStates]);
+        const worst = Math.max(...Array.from(ref.laneFlow, (q, k) => Math.abs(warm.laneFlow[k]! - q) / scale));
+        expect(worst, `point ${t} from ${f}`).toBeLessThan(1e-9);
+      });
+    });
+  });
+
   it('settles a badly distributed 128-contactor ladder, every contactor in a stated state', () => {
     const chip = badlyDistributedLadder(128, 'pressure', 'opposite');
     const { result, raw } = solveChip(chip);
