@@ -57,7 +57,7 @@ export interface WindowPoint {
   x: number;
   y: number;
   class: PointClass;
-  /** Solves made: 1, or 2 when the warm start failed and a cold start was tried. */
+  /** Starts the solver made (1 when the warm start settled; see solver/newton.ts `attemptPlan`). */
   attempts: number;
   iterations: number;
   /** Why the solve failed, for class 'failed'. */
@@ -218,7 +218,6 @@ export function sweepLine(
     const [tx, ty] = settingsAt(spec.coordinates ?? 'settings', [xs[i]!, ys[j]!]);
     const variant = withSettings(chip, [[spec.x.setting, tx], [spec.y.setting, ty]]);
     const solved = solveChip(variant, solver, last && predictedStart(last, before), workspace);
-    const attempts = solved.raw.restartedCold ? 2 : 1;
     if (solved.result.converged) {
       before = previousFailed || last === seed ? undefined : last;
       last = warmStartFrom(solved);
@@ -226,7 +225,7 @@ export function sweepLine(
       before = undefined;
     }
     previousFailed = !solved.result.converged;
-    const point = describePoint(variant, solved, { i, j, x: xs[i]!, y: ys[j]! }, attempts);
+    const point = describePoint(variant, solved, { i, j, x: xs[i]!, y: ys[j]! }, solved.raw.starts);
     points.push(point);
     warm.push(last);
     onPoint?.(point, last);

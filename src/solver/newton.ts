@@ -109,6 +109,8 @@ export interface NetworkSolution {
   unsettled: string[];
   /** A warm start was given and did not settle; this solution comes from a cold start. */
   restartedCold: boolean;
+  /** Attempts made (solveNetwork's attempt plan), this solution's included. */
+  starts: number;
   message?: string;
 }
 
@@ -212,11 +214,11 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
     if (attempts++ >= opt.maxAttempts) break;
     const attempt = solveFrom(net, opt, start, workspace, laneWeight, picard, smooth);
     steps += attempt.iterations;
-    if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined };
+    if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined, starts: attempts };
     if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
   }
   attempts = Math.min(attempts, opt.maxAttempts);
-  return { ...best!, iterations: steps, restartedCold: warm !== undefined, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
+  return { ...best!, iterations: steps, restartedCold: warm !== undefined, starts: attempts, message: `${best!.message ?? 'the solve did not settle'} (${steps} steps from ${attempts} starts)` };
 }
 
 function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart | undefined, workspace: SolverWorkspace, laneWeight: LaneWeight, picard: PicardMode, smooth = false): NetworkSolution {
@@ -395,6 +397,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       unsettled,
       message,
       restartedCold: false,
+      starts: 1,
     };
   };
 
