@@ -247,7 +247,7 @@ function shapedTable(section: ShapedSection, muA: number, muB: number) {
   const alpha = new Float64Array(count);
   const phi = new Float64Array(count);
   const slope = new Float64Array(count);
-  const flows = new Float64Array(4 * count);
+  const flows = new Float64Array(2 * count);
   const kFullA = conductance(section, muA);
   const kFullB = conductance(section, muB);
   for (let s = 0; s + 1 < ends.length; s++) {
@@ -276,7 +276,7 @@ function shapedTable(section: ShapedSection, muA: number, muB: number) {
       const at = s * n + i;
       const dAlpha = map.dAlpha(grid.nodes[i]!);
       const kSum = kA[i]! + kB[i]!;
-      flows.set([kA[i]!, kB[i]!, dA, dB], 4 * at);
+      flows.set([kA[i]!, kB[i]!], 2 * at);
       phi[at] = kA[i]! / kSum;
       slope[at] = dAlpha === 0 ? 0 : (((dA * kB[i]! - kA[i]! * dB) / (kSum * kSum)) / dAlpha);
     }
@@ -303,7 +303,7 @@ export class HoldupTable {
   private readonly alpha: Float64Array;
   private readonly phi: Float64Array;
   private readonly slope: Float64Array;
-  /** Shaped sections only: [k_A, k_B, dk_A/dα, dk_B/dα] per node. */
+  /** Shaped sections only: [k_A, k_B] per node (the slopes come from their interpolant). */
   private readonly flows?: Float64Array;
 
   constructor(section: TwoLayerSection, muA: number, muB: number, intervals = TABLE_INTERVALS) {
@@ -394,7 +394,15 @@ export class HoldupTable {
     return { kA: SCRATCH[0]!, kB: SCRATCH[1]!, dkA: SCRATCH[2]!, dkB: SCRATCH[3]! };
   }
 
-  /** Barycentric interpolation of [k_A, k_B, dk_A/dα, dk_B/dα] on the stretch starting at node `first`, into SCRATCH. */
+  /**
+   * [k_A, k_B, dk_A/dα, dk_B/dα] on the stretch starting at node `first`, into SCRATCH: the
+   * barycentric interpolant of the node values (Berrut & Trefethen, 2004, SIAM Rev. 46:501,
+   * eq. 4.2) and its exact derivative, p′(t) = Σ w_i (p − f_i)/(t − t_i)² / Σ w_i/(t − t_i), or
+   * at a node t_j the differentiation matrix row Σ D_ji f_i (the same derivative). The slopes
+   * are those of the values themselves, so a Newton Jacobian built on them is consistent with
+   * its residual to rounding; stretches share their end nodes, and the one-sided slopes there
+   * differ, so no slope is stored per node.
+   */
   private evaluateStretch(first: number, alpha: number): void {
     const n = SHAPED_TABLE_DEGREE;
     const f = this.flows!;
@@ -402,27 +410,46 @@ export class HoldupTable {
     const map = stretchMap(this.alpha[first]!, this.alpha[first + n]!);
     const t = map.t(alpha);
     const dAlpha = map.dAlpha(t);
-    const toAlpha = () => {
-      v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
-      v[3] = dAlpha === 0 ? 0 : v[3]! / dAlpha;
-    };
-    const nodes = chebyshevGrid(n).nodes;
-    v.fill(0);
-    let weightSum = 0;
-    for (let i = 0; i <= n; i++) {
-      const d = t - nodes[i]!;
-      const base = 4 * (first + i);
-      if (d === 0) {
-        for (let c = 0; c < 4; c++) v[c] = f[base + c]!;
-        toAlpha();
-        return;
+    const grid = chebyshevGrid(n);
+    const nodes = grid.nodes;
+    let near = 0;
+    for (let i = 1; i <= n; i++) if (Math.abs(t - nodes[i]!) < Math.abs(t - nodes[near]!)) near = i;
+    const value = (i: number, c: number) => f[2 * (first + i) + c]!;
+    const weight = (i: number) => (i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1);
+    for (let c = 0; c < 2; c++) {
+      const fj = value(near, c);
+      if (t === nodes[near]) {
+        let slope = 0;
+        for (let i = 0; i <= n; i++) slope += grid.d1[near * (n + 1) + i]! * value(i, c);
+        v[c] = fj;
+        v[2 + c] = slope;
+        continue;
       }
-      const w = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / d;
-      weightSum += w;
-      for (let c = 0; c < 4; c++) v[c]! += w * f[base + c]!;
+      // p − f_j as Σ_{i≠j} w_i (f_i − f_j)/(t − t_i) / Σ w_i/(t − t_i) for the nearest node j:
+      // no cancellation when t is close to t_j, where (p − f_j)/(t − t_j)² would otherwise lose
+      // every digit.
+      let weightSum = 0;
+      let offset = 0;
+      for (let i = 0; i <= n; i++) {
+        const w = weight(i) / (t - nodes[i]!);
+        weightSum += w;
+        if (i !== near) offset += w * (value(i, c) - fj);
+      }
+      offset /= weightSum;
+      const p = fj + offset;
+      const dj = t - nodes[near]!;
+      let slope = (weight(near) * offset) / (dj * dj);
+      for (let i = 0; i <= n; i++) {
+        if (i === near) continue;
+        const d = t - nodes[i]!;
+        slope += (weight(i) * (p - value(i, c))) / (d * d);
+      }
+      v[c] = p;
+      v[2 + c] = slope / weightSum;
     }
-    for (let c = 0; c < 4; c++) v[c]! /= weightSum;
-    toAlpha();
+    // d/dα = (d/dt)/(dα/dt); 0 where dα/dt = 0 (an edge, where the thin layer's flow and slope vanish).
+    v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
+    v[3] = dAlpha === 0 ? 0 : v[3]! / dAlpha;
   }
 
   private interval(phi: number): number {
