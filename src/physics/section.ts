@@ -225,6 +225,8 @@ const SHAPED_TABLE_DEGREE = 10;
 const SHAPED_TABLE_SOLVER_DEGREE = 16;
 /** Interpolated [k_A, k_B, dk_A/dα, dk_B/dα] (HoldupTable.interpolated is not re-entrant). */
 const SCRATCH = new Float64Array(4);
+/** The barycentric terms w_i/(t − t_i) of one evaluation (evaluateStretch). */
+const WEIGHTS = new Float64Array(SHAPED_TABLE_DEGREE + 1);
 /**
  * The variable t ∈ [−1, 1] of a table stretch: linear between two joints, and quadratic toward
  * an edge of the holdup range, α = lo + (hi − lo)·((t + 1)/2)² from α = 0 (mirrored toward
@@ -257,6 +259,12 @@ function shapedTable(section: ShapedSection, muA: number, muB: number) {
     const kB = new Float64Array(n + 1);
     const map = stretchMap(lo, hi);
     for (let i = 0; i <= n; i++) {
+      // A stretch starts at the node where the one before it ends (a wall joint): solved once.
+      if (i === 0 && s > 0) {
+        kA[0] = flows[2 * s * n]!;
+        kB[0] = flows[2 * s * n + 1]!;
+        continue;
+      }
       const a = map.alpha(grid.nodes[i]!);
       alpha[s * n + i] = a;
       // At the edges one phase fills the section (a layer of share e carries ∝ e², lanes.ts).
@@ -412,40 +420,55 @@ export class HoldupTable {
     const dAlpha = map.dAlpha(t);
     const grid = chebyshevGrid(n);
     const nodes = grid.nodes;
+    const base = 2 * first;
     let near = 0;
     for (let i = 1; i <= n; i++) if (Math.abs(t - nodes[i]!) < Math.abs(t - nodes[near]!)) near = i;
-    const value = (i: number, c: number) => f[2 * (first + i) + c]!;
-    const weight = (i: number) => (i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1);
-    for (let c = 0; c < 2; c++) {
-      const fj = value(near, c);
-      if (t === nodes[near]) {
-        let slope = 0;
-        for (let i = 0; i <= n; i++) slope += grid.d1[near * (n + 1) + i]! * value(i, c);
-        v[c] = fj;
-        v[2 + c] = slope;
-        continue;
+    const fa = f[base + 2 * near]!;
+    const fb = f[base + 2 * near + 1]!;
+    if (t === nodes[near]) {
+      let sa = 0;
+      let sb = 0;
+      for (let i = 0; i <= n; i++) {
+        const d = grid.d1[near * (n + 1) + i]!;
+        sa += d * f[base + 2 * i]!;
+        sb += d * f[base + 2 * i + 1]!;
       }
-      // p − f_j as Σ_{i≠j} w_i (f_i − f_j)/(t − t_i) / Σ w_i/(t − t_i) for the nearest node j:
+      v[0] = fa;
+      v[1] = fb;
+      v[2] = sa;
+      v[3] = sb;
+    } else {
+      // p − f_j as Σ_{i≠j} r_i (f_i − f_j) / Σ r_i, r_i = w_i/(t − t_i), for the nearest node j:
       // no cancellation when t is close to t_j, where (p − f_j)/(t − t_j)² would otherwise lose
       // every digit.
-      let weightSum = 0;
-      let offset = 0;
+      const r = WEIGHTS;
+      let sum = 0;
+      let oa = 0;
+      let ob = 0;
       for (let i = 0; i <= n; i++) {
-        const w = weight(i) / (t - nodes[i]!);
-        weightSum += w;
-        if (i !== near) offset += w * (value(i, c) - fj);
+        const w = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / (t - nodes[i]!);
+        r[i] = w;
+        sum += w;
+        oa += w * (f[base + 2 * i]! - fa);
+        ob += w * (f[base + 2 * i + 1]! - fb);
       }
-      offset /= weightSum;
-      const p = fj + offset;
+      oa /= sum;
+      ob /= sum;
+      const pa = fa + oa;
+      const pb = fb + ob;
       const dj = t - nodes[near]!;
-      let slope = (weight(near) * offset) / (dj * dj);
+      let sa = (r[near]! * oa) / dj;
+      let sb = (r[near]! * ob) / dj;
       for (let i = 0; i <= n; i++) {
         if (i === near) continue;
         const d = t - nodes[i]!;
-        slope += (weight(i) * (p - value(i, c))) / (d * d);
+        sa += (r[i]! * (pa - f[base + 2 * i]!)) / d;
+        sb += (r[i]! * (pb - f[base + 2 * i + 1]!)) / d;
       }
-      v[c] = p;
-      v[2 + c] = slope / weightSum;
+      v[0] = pa;
+      v[1] = pb;
+      v[2] = sa / sum;
+      v[3] = sb / sum;
     }
     // d/dα = (d/dt)/(dα/dt); 0 where dα/dt = 0 (an edge, where the thin layer's flow and slope vanish).
     v[2] = dAlpha === 0 ? 0 : v[2]! / dAlpha;
