@@ -14,6 +14,12 @@ export const SOLVER_DEFAULTS = {
    */
   maxIterations: 400,
   /**
+   * Steps at most of an attempt from a warm start; a sweep, whose warm starts come from a
+   * neighbouring point, asks for fewer (a warm start that has not settled in a few dozen steps
+   * is one a cold start settles sooner).
+   */
+  maxWarmIterations: 400,
+  /**
    * Pseudo-time step, in units of each row's own relaxation time (its throughflow conductance
    * over its compliance), taken once a Newton step fails its line search, then cut by 4 at each
    * further failure.

@@ -212,7 +212,7 @@ export function solveNetwork(net: Network, options: SolverOptions = {}, warm?: W
   let attempts = 0;
   for (const { laneWeight, start, picard, smooth } of attemptPlan(warm)) {
     if (attempts++ >= opt.maxAttempts) break;
-    const attempt = solveFrom(net, opt, start, workspace, laneWeight, picard, smooth);
+    const attempt = solveFrom(net, start ? { ...opt, maxIterations: Math.min(opt.maxIterations, opt.maxWarmIterations) } : opt, start, workspace, laneWeight, picard, smooth);
     steps += attempt.iterations;
     if (attempt.converged) return { ...attempt, iterations: steps, restartedCold: warm !== undefined && start === undefined, starts: attempts };
     if (!best || attempt.residual < best.residual || !(best.residual >= 0)) best = attempt;
