@@ -7,7 +7,7 @@
  * No I/O. The tables are computed in ./chipRows.ts, the warnings written in ./chipWarnings.ts.
  */
 import { assembleNetwork, type Network } from '../network/assemble.js';
-import { solveNetwork, type NetworkSolution, type SolverWorkspace, type WarmStart } from '../solver/newton.js';
+import { solveNetwork, SolverWorkspace, type NetworkSolution, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, PhaseName } from '../network/model.js';
 import { max as maxOf, min as minOf } from 'd3-array';
@@ -128,13 +128,16 @@ export interface SolvedChip {
   network: Network;
   raw: NetworkSolution;
   result: ChipSolution;
+  /** The solver workspace of the solve (holdup tables, symbolic factors), for work at its solution. */
+  workspace?: SolverWorkspace;
 }
 
 /** `workspace` carries holdup tables and sparse factors between the solves of a sweep (solver/newton.ts). */
 export function solveChip(chip: Chip, options: SolverOptions = {}, warm?: WarmStart, workspace?: SolverWorkspace): SolvedChip {
   const network = assembleNetwork(chip);
-  const raw = solveNetwork(network, options, warm, workspace);
-  return { chip, network, raw, result: summariseSolution(network, raw) };
+  const space = workspace ?? new SolverWorkspace();
+  const raw = solveNetwork(network, options, warm, space);
+  return { chip, network, raw, result: summariseSolution(network, raw), workspace: space };
 }
 
 export function warmStartFrom(solved: SolvedChip): WarmStart {

@@ -85,7 +85,7 @@ export function holdTolerances(solved: SolvedChip, options: HoldOptions = {}): H
   const ratioTolerance = options.ratioTolerance ?? RATIO_TOLERANCE;
   const pressureResolution = options.resolution?.pressure ?? chip.controlResolution?.pressure ?? CONTROL_RESOLUTION.pressure;
   const flowFraction = options.resolution?.flowFraction ?? chip.controlResolution?.flowFraction ?? CONTROL_RESOLUTION.flowFraction;
-  const tangents = new NetworkTangents(net, raw);
+  const tangents = new NetworkTangents(net, raw, solved.workspace);
   const outflow = plainOutflow(net, raw.plainFlow);
   const splits = result.splits;
   const allPinned = splits.every((s) => s.state === 'pinned');

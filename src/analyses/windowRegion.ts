@@ -500,7 +500,7 @@ function centred(from: Station, solveAt: (u: [number, number], warm: WarmStart |
 /** Every requirement at a solved point, with its gradient in the search coordinates. */
 function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, number], extent: [number, number]): Requirement[] {
   const { network: net, raw, result, chip } = solved;
-  const tangents = new NetworkTangents(net, raw);
+  const tangents = new NetworkTangents(net, raw, solved.workspace);
   const along = (s: Setting): Tangent => {
     const port = net.portsOf.get(s.node)![0]!;
     return tangents.tangent({ port, quantity: s.quantity });

@@ -55,6 +55,15 @@ export class FactorCache {
     return refinedSolve(matrix, factor, rhs, 1)!;
   }
 
+  /**
+   * Fresh numeric factors of `matrix`, from the symbolic analysis of its pattern when one is
+   * kept: for solves with many right-hand sides at a settled state (sensitivities), where the
+   * solve that settled it has already ordered the same pattern.
+   */
+  factor(matrix: SparseMatrix): LinearFactor {
+    return this.symbolicFor(matrix).factor(matrix);
+  }
+
   private symbolicFor(matrix: SparseMatrix): SparseLuSymbolic {
     const found = this.symbolics.find((s) => samePattern(s.pattern, matrix));
     if (found) return found.symbolic;

@@ -13,7 +13,7 @@
 import type { Network } from '../network/assemble.js';
 import { NetworkEquations, type EvaluateOptions } from './assembly.js';
 import { factorize, type LinearFactor } from './linear.js';
-import { COMPOSITION_PULL, unknownsOf, type WarmStart } from './newton.js';
+import { COMPOSITION_PULL, unknownsOf, type SolverWorkspace, type WarmStart } from './newton.js';
 import { SectionTables } from './sectionTables.js';
 import { UnknownMap } from './unknowns.js';
 
@@ -68,10 +68,14 @@ export class NetworkTangents {
   private readonly factor: LinearFactor;
   private readonly flowScale: number;
 
-  /** Factors the Jacobian at `solution` (a settled solve of `net`). */
-  constructor(net: Network, solution: WarmStart, tables = new SectionTables()) {
+  /**
+   * Factors the Jacobian at `solution` (a settled solve of `net`). With the workspace of that
+   * solve, its holdup tables and the symbolic analysis of the Jacobian's pattern are reused
+   * (the ordering was 16 % of the hold tolerances of a 4096-contactor chip, measured).
+   */
+  constructor(net: Network, solution: WarmStart, workspace?: SolverWorkspace) {
     const map = new UnknownMap(net);
-    this.eq = new NetworkEquations(net, map, tables);
+    this.eq = new NetworkEquations(net, map, workspace?.tables ?? new SectionTables(), workspace?.builderFor(map.size));
     const { x, withComposition } = unknownsOf(this.eq, solution);
     this.x = x;
     // The equations the solve settled: full viscosity coupling, no frozen holdups, the
@@ -80,7 +84,8 @@ export class NetworkTangents {
     this.flowScale = this.eq.flowReference();
     this.options = { jacobian: true, freezeHoldup: false, withComposition, anchor: x.slice(), compositionPull: COMPOSITION_PULL * this.flowScale };
     this.eq.evaluate(x, this.options);
-    this.factor = factorize(this.eq.builder.toCsc(), 'sparse');
+    const jacobian = this.eq.builder.toCsc();
+    this.factor = workspace ? workspace.factors.factor(jacobian) : factorize(jacobian, 'sparse');
     this.options = { ...this.options, jacobian: false };
   }
 
