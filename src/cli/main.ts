@@ -6,35 +6,38 @@ import { Command, CommanderError } from 'commander';
 import { readFileSync } from 'node:fs';
 import { StratiflowError } from '../errors.js';
 import type { CommandContext, Registrar } from './context.js';
-import { registerSection } from './section.js';
-import { registerSolve } from './solve.js';
-import { registerSchema } from './schema.js';
-import { registerFluids } from './fluids.js';
-import { registerMake } from './make.js';
-import { registerDraw } from './draw.js';
-import { registerWindow } from './window.js';
-import { registerTune } from './tune.js';
-import { registerTolerance } from './tolerance.js';
-import { registerExtract } from './extract.js';
 
 
 /** The version users see, from package.json (the one place it is set). */
 const VERSION = (JSON.parse(readFileSync(new URL('../../package.json', import.meta.url), 'utf8')) as { version: string }).version;
 
-const COMMANDS: Registrar[] = [
-  registerSection,
-  registerSolve,
-  registerDraw,
-  registerWindow,
-  registerTune,
-  registerTolerance,
-  registerExtract,
-  registerMake,
-  registerSchema,
-  registerFluids,
-];
+/**
+ * Each command's module, loaded only when it is needed: a command line that names one command
+ * loads that command's module alone, since the modules of the others (their renderers, the
+ * optimiser, the schema generator) take several tenths of a second to load. Help, a version
+ * request or an unknown command loads them all, in this order (the order help lists them).
+ */
+const COMMANDS: Record<string, () => Promise<Registrar>> = {
+  section: async () => (await import('./section.js')).registerSection,
+  solve: async () => (await import('./solve.js')).registerSolve,
+  draw: async () => (await import('./draw.js')).registerDraw,
+  window: async () => (await import('./window.js')).registerWindow,
+  tune: async () => (await import('./tune.js')).registerTune,
+  tolerance: async () => (await import('./tolerance.js')).registerTolerance,
+  extract: async () => (await import('./extract.js')).registerExtract,
+  make: async () => (await import('./make.js')).registerMake,
+  schema: async () => (await import('./schema.js')).registerSchema,
+  fluids: async () => (await import('./fluids.js')).registerFluids,
+};
 
-export function buildProgram(context: CommandContext): Command {
+/** The command that `argv` (node, script, arguments…) runs, when its first argument names one. */
+function namedCommand(argv: string[]): string | undefined {
+  const first = argv[2];
+  return first !== undefined && Object.hasOwn(COMMANDS, first) ? first : undefined;
+}
+
+/** The program with every command, or with `only` the one named. */
+export async function buildProgram(context: CommandContext, only?: string): Promise<Command> {
   const program = new Command('stratiflow')
     .description('Two-phase stratified flow in parallel microfluidic extraction chips.')
     .version(VERSION)
@@ -45,12 +48,14 @@ export function buildProgram(context: CommandContext): Command {
       writeErr: (s) => context.err(s),
       outputError: (s, write) => write(s.replace(/^error: /, 'stratiflow: ')),
     });
-  for (const register of COMMANDS) register(program, context);
+  const names = only === undefined ? Object.keys(COMMANDS) : [only];
+  const registrars = await Promise.all(names.map((name) => COMMANDS[name]!()));
+  for (const register of registrars) register(program, context);
   return program;
 }
 
 export async function main(argv: string[], context: CommandContext = defaultContext()): Promise<number> {
-  const program = buildProgram(context);
+  const program = await buildProgram(context, namedCommand(argv));
   try {
     await program.parseAsync(argv);
     return 0;

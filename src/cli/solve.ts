@@ -16,11 +16,6 @@ import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analys
 import { holdTolerances } from '../analyses/hold.js';
 import { join } from 'node:path';
 import { chipText, contactorCsv } from '../render/text.js';
-import { chipDrawing } from '../render/chipDrawing.js';
-import { extractionColouring } from '../render/extractionCharts.js';
-import { chipReport } from '../render/report.js';
-import { liveReport } from './pageScript.js';
-import { findManifolds } from '../analyses/manifolds.js';
 import { linearOption, type LinearSolver } from './options.js';
 import { outputFile, outputFolder, writeOutputs, type Output } from './io.js';
 import { jsonNumbers, type CommandContext } from './context.js';
@@ -42,7 +37,7 @@ export function registerSolve(program: Command, context: CommandContext): void {
     .option('--csv <file>', 'write the per-contactor table as CSV')
     .option('--out <dir>', 'write result.json, contactors.csv, chip.svg and report.html into this folder (with the extraction of the layout\'s solute, if it names one)')
     .addOption(linearOption())
-    .action((file: string, options: SolveOptions) => {
+    .action(async (file: string, options: SolveOptions) => {
       const chip = loadLayout(file);
       const linear = options.linear as LinearSolver;
       const csv = options.csv === undefined ? undefined : outputFile(options.csv, '--csv');
@@ -57,6 +52,7 @@ export function registerSolve(program: Command, context: CommandContext): void {
         const files: Output[] = [];
         if (csv) files.push({ path: csv, option: '--csv', content: contactorCsv(result) });
         if (out) {
+          const { chipDrawing, extractionColouring, chipReport, liveReport, findManifolds } = await drawingModules();
           const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
           into('result.json', json);
           into('contactors.csv', contactorCsv(result));
@@ -68,6 +64,27 @@ export function registerSolve(program: Command, context: CommandContext): void {
       context.out(options.json ? json : chipText(chip.name, result, result.converged ? operatingVerdict(solved) : undefined, hold));
       if (!result.converged) throw unconverged(result.message, file, Boolean(csv || out));
     });
+}
+
+/**
+ * The renderers of `--out`, loaded only when it is given: they bring the SVG document model and
+ * the report page, several tenths of a second of loading that a plain solve does not need.
+ */
+async function drawingModules() {
+  const [drawing, extractionCharts, report, pageScript, manifolds] = await Promise.all([
+    import('../render/chipDrawing.js'),
+    import('../render/extractionCharts.js'),
+    import('../render/report.js'),
+    import('./pageScript.js'),
+    import('../analyses/manifolds.js'),
+  ]);
+  return {
+    chipDrawing: drawing.chipDrawing,
+    extractionColouring: extractionCharts.extractionColouring,
+    chipReport: report.chipReport,
+    liveReport: pageScript.liveReport,
+    findManifolds: manifolds.findManifolds,
+  };
 }
 
 /**
