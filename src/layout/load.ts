@@ -116,8 +116,7 @@ export function layoutToChip(data: unknown, source: string): Chip {
   if (reserved.length > 0) throw new StratiflowErrors(reserved);
   const { chip, problems } = convert(parsed.data, source);
   try {
-    checkTopology(chip);
-    const phases = checkPhases(chip);
+    const phases = checkPhases(chip, checkTopology(chip));
     problems.push(...phases.problems);
     chip.warnings = [...(chip.warnings ?? []), ...phases.warnings];
   } catch (error) {

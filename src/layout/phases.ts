@@ -12,9 +12,7 @@
  */
 import { StratiflowError } from '../errors.js';
 import type { Chip, ChipNode, ChipSegment, MergeNode, OutletNode, PhaseName, SplitNode } from '../network/model.js';
-
-/** Appends to the list under `key`, starting it when missing. */
-const add = <K, V>(map: Map<K, V[]>, key: K, value: V) => (map.get(key) ?? map.set(key, []).get(key)!).push(value);
+import { indexChip, segmentsAt, type ChipIndex } from '../network/chipIndex.js';
 
 const other = (phase: PhaseName): PhaseName => (phase === 'A' ? 'B' : 'A');
 
@@ -24,76 +22,99 @@ interface Source {
   id: string;
 }
 
-/** What a segment carries: each phase with the first source that sends it. */
-type Carried = Map<PhaseName, Source>;
+/**
+ * What each segment carries (by position): each phase with the first source that sends it, in
+ * two arrays rather than a map per segment (a chip of 10⁵ segments, measured: ./chipIndex.ts).
+ */
+class Carried {
+  readonly A: (Source | undefined)[];
+  readonly B: (Source | undefined)[];
+  constructor(segments: number) {
+    this.A = new Array<Source | undefined>(segments).fill(undefined);
+    this.B = new Array<Source | undefined>(segments).fill(undefined);
+  }
+  get(segment: number, phase: PhaseName): Source | undefined {
+    return (phase === 'A' ? this.A : this.B)[segment];
+  }
+  size(segment: number): number {
+    return (this.A[segment] ? 1 : 0) + (this.B[segment] ? 1 : 0);
+  }
+  /** The phase of a segment that carries exactly one. */
+  only(segment: number): PhaseName {
+    return this.A[segment] ? 'A' : 'B';
+  }
+}
 
 interface Stream {
-  segment: ChipSegment;
+  segment: number;
   phase: PhaseName;
   source: Source;
 }
 
 const named = (source: Source) => `${source.kind} ${source.id}`;
 
-export function checkPhases(chip: Chip): { problems: StratiflowError[]; warnings: string[] } {
+/**
+ * The phase problems and warnings of a chip that passed checkTopology (whose index it may be
+ * given, to save building it again).
+ */
+export function checkPhases(chip: Chip, index: ChipIndex = indexChip(chip)): { problems: StratiflowError[]; warnings: string[] } {
   const problems: StratiflowError[] = [];
   const warnings: string[] = [];
   const fail = (element: string, message: string, field?: string) =>
     problems.push(new StratiflowError('bad-layout', message, { file: chip.source, element, field }));
+  const { nodes, segments } = chip;
+  const nodeAt = (id: string) => index.canonical[index.node.get(id)!]!;
+  const segmentAt = (id: string) => index.segment.get(id)!;
 
-  const nodeById = new Map(chip.nodes.map((n) => [n.id, n]));
-  const segmentById = new Map(chip.segments.map((s) => [s.id, s]));
-  const leaving = new Map<string, ChipSegment[]>();
-  const arriving = new Map<string, ChipSegment[]>();
-  for (const s of chip.segments) {
-    add(leaving, s.from, s);
-    add(arriving, s.to, s);
-  }
-  const merges = chip.nodes.filter((n): n is MergeNode => n.kind === 'merge');
+  const merges = nodes.filter((n): n is MergeNode => n.kind === 'merge');
   if (merges.length === 0) return { problems, warnings };
-  const inlets = chip.nodes.filter((n) => n.kind === 'inlet');
+  const inlets = nodes.filter((n) => n.kind === 'inlet');
   const missing = (['A', 'B'] as const).filter((phase) => !inlets.some((n) => n.phase === phase));
   for (const phase of missing) fail('chip', `no inlet of phase ${phase}: every contactor needs an inlet of each phase`);
   if (missing.length > 0) return { problems, warnings };
 
   // Streams spread through junctions only; a merge, split, inlet or outlet ends them.
-  const carried = new Map<string, Carried>();
-  const carriedBy = (s: ChipSegment): Carried => carried.get(s.id) ?? new Map();
+  const carried = new Carried(segments.length);
   const spread = (starts: Stream[]) => {
-    const stack = [...starts];
+    const stack = starts;
     while (stack.length) {
       const { segment, phase, source } = stack.pop()!;
-      const here: Carried = carried.get(segment.id) ?? new Map();
-      if (here.has(phase)) continue;
-      here.set(phase, source);
-      carried.set(segment.id, here);
-      if (nodeById.get(segment.to)?.kind === 'junction') {
-        for (const next of leaving.get(segment.to) ?? []) stack.push({ segment: next, phase, source });
+      const here = phase === 'A' ? carried.A : carried.B;
+      if (here[segment]) continue;
+      here[segment] = source;
+      const end = index.to[segment]!;
+      if (end >= 0 && nodes[end]!.kind === 'junction') {
+        for (const next of segmentsAt(index.leaving, end)) stack.push({ segment: next, phase, source });
       }
     }
   };
-  const streamsFrom = (node: ChipNode, phaseOf: (s: ChipSegment) => PhaseName): Stream[] =>
-    (leaving.get(node.id) ?? []).map((segment) => ({ segment, phase: phaseOf(segment), source: { kind: node.kind === 'inlet' ? 'inlet' : 'split', id: node.id } }));
+  const streamsFrom = (node: ChipNode, phaseOf: (s: ChipSegment) => PhaseName): Stream[] => {
+    const source: Source = { kind: node.kind === 'inlet' ? 'inlet' : 'split', id: node.id };
+    return Array.from(segmentsAt(index.leaving, nodeAt(node.id)), (segment) => ({ segment, phase: phaseOf(segments[segment]!), source }));
+  };
   spread(inlets.flatMap((n) => (n.kind === 'inlet' ? streamsFrom(n, () => n.phase) : [])));
 
   // A split's streams start once its merge's near lane is known; a split may feed a later merge.
   const nearLane = new Map<string, PhaseName>();
   const splitAfter = new Map<string, SplitNode>();
   for (const m of merges) {
-    const split = nodeById.get((leaving.get(m.id) ?? [])[0]?.to ?? '');
+    const out = segmentsAt(index.leaving, nodeAt(m.id));
+    const end = out.length > 0 ? index.to[out[0]!]! : -1;
+    const split = end >= 0 ? nodes[end] : undefined;
     if (split?.kind === 'split') splitAfter.set(m.id, split);
   }
   const laneOf = (m: MergeNode): PhaseName | undefined => {
-    const [near, far] = m.inlets.map((id) => carriedBy(segmentById.get(id)!));
-    if (near!.size !== 1 || far!.size !== 1) return undefined;
-    const phase = [...near!.keys()][0]!;
-    return far!.has(phase) ? undefined : phase;
+    const [near, far] = m.inlets.map(segmentAt) as [number, number];
+    if (carried.size(near) !== 1 || carried.size(far) !== 1) return undefined;
+    const phase = carried.only(near);
+    return carried.get(far, phase) ? undefined : phase;
   };
   for (let settled = false; !settled; ) {
     settled = true;
     for (const m of merges) {
+      if (nearLane.has(m.id)) continue;
       const lane = laneOf(m);
-      if (lane === undefined || nearLane.has(m.id)) continue;
+      if (lane === undefined) continue;
       nearLane.set(m.id, lane);
       settled = false;
       const split = splitAfter.get(m.id);
@@ -101,35 +122,45 @@ export function checkPhases(chip: Chip): { problems: StratiflowError[]; warnings
     }
   }
 
-  for (const n of chip.nodes) {
-    if (n.kind !== 'junction') continue;
-    const into = (arriving.get(n.id) ?? []).map(carriedBy);
-    const meet = into.some((c) => c.has('A')) && into.some((c) => c.has('B')) && !into.some((c) => c.size === 2);
-    if (!meet) continue;
-    const from = (phase: PhaseName) => into.find((c) => c.has(phase))!.get(phase)!;
+  nodes.forEach((n, i) => {
+    if (n.kind !== 'junction') return;
+    const into = segmentsAt(index.arriving, index.canonical[i]!);
+    let hasA = false;
+    let hasB = false;
+    let both = false;
+    for (const s of into) {
+      hasA ||= carried.A[s] !== undefined;
+      hasB ||= carried.B[s] !== undefined;
+      both ||= carried.size(s) === 2;
+    }
+    if (!(hasA && hasB && !both)) return;
+    const from = (phase: PhaseName) => carried.get(into.find((s) => carried.get(s, phase) !== undefined)!, phase)!;
     const fromSplits = from('A').kind === 'split' || from('B').kind === 'split';
     const text = `phase A (from ${named(from('A'))}) and phase B (from ${named(from('B'))}) meet at this junction`;
     if (fromSplits) warnings.push(`junction ${n.id}: ${text} and leave mixed`);
     else fail(`node ${n.id}`, `${text}, before any merge; each feed manifold must carry one phase`);
-  }
+  });
 
   for (const m of merges) {
-    const sides = m.inlets.map((id) => ({ id, carried: carriedBy(segmentById.get(id)!) }));
-    const unreached = sides.filter((side) => side.carried.size === 0);
+    const sides = m.inlets.map((id) => ({ id, segment: segmentAt(id) }));
+    const unreached = sides.filter((side) => carried.size(side.segment) === 0);
     if (unreached.length > 0) {
       const names = unreached.map((side) => side.id).join(' and ');
       warnings.push(`merge ${m.id}: no inlet reaches ${names} along the direction the segments are written (from → to); the phases of its contactor are not checked`);
       continue;
     }
-    if (sides.some((side) => side.carried.size === 2)) continue; // reported at the junction where they meet
-    const [near, far] = sides.map((side) => ({ ...side, phase: [...side.carried.keys()][0]!, source: named([...side.carried.values()][0]!) }));
+    if (sides.some((side) => carried.size(side.segment) === 2)) continue; // reported at the junction where they meet
+    const [near, far] = sides.map((side) => {
+      const phase = carried.only(side.segment);
+      return { ...side, phase, source: named(carried.get(side.segment, phase)!) };
+    });
     if (near!.phase === far!.phase) {
       fail(`node ${m.id}`, `both inlets carry phase ${near!.phase} (${near!.id} from ${near!.source}, ${far!.id} from ${far!.source}); a merge needs one inlet of each phase`, 'inlets');
     }
   }
 
   warnings.push(...orientationWarnings(merges, nearLane));
-  checkSplits(chip, { nodeById, segmentById, arriving, nearLane, splitAfter }, fail, warnings);
+  checkSplits(chip, index, { nearLane, splitAfter }, fail, warnings);
   return { problems, warnings };
 }
 
@@ -143,41 +174,48 @@ function orientationWarnings(merges: MergeNode[], nearLane: Map<string, PhaseNam
   return [`merge${odd.length > 1 ? 's' : ''} ${names}: phase ${oddPhase} on the near side (first inlet), while ${usual.length} other merge${usual.length > 1 ? 's take' : ' takes'} phase ${other(oddPhase as PhaseName)} there; check the order of ${odd.length > 1 ? 'their' : 'its'} inlets and outlets`];
 }
 
-interface Graph {
-  nodeById: Map<string, ChipNode>;
-  segmentById: Map<string, ChipSegment>;
-  arriving: Map<string, ChipSegment[]>;
+interface Lanes {
   nearLane: Map<string, PhaseName>;
   splitAfter: Map<string, SplitNode>;
 }
 
 /** Each split's outlet arms lead to outlets of the phase of their lane. */
-function checkSplits(chip: Chip, g: Graph, fail: (element: string, message: string, field?: string) => void, warnings: string[]): void {
+function checkSplits(chip: Chip, index: ChipIndex, g: Lanes, fail: (element: string, message: string, field?: string) => void, warnings: string[]): void {
+  const { nodes } = chip;
   // Which outlets each segment leads to, and whether it leads to a merge: found backwards from
-  // every outlet (there are few) and from all merges at once, so a long manifold is walked once each.
-  const backwards = (targets: ChipNode[], mark: (s: ChipSegment) => void) => {
-    const seen = new Set<string>();
-    const stack = targets.flatMap((t) => g.arriving.get(t.id) ?? []);
+  // every outlet (there are few) and from all merges at once, so a long manifold is walked once
+  // each. A walk marks what it has seen with its own number.
+  const seenBy = new Int32Array(chip.segments.length).fill(-1);
+  let walk = 0;
+  const backwards = (targets: number[], mark: (s: number) => void) => {
+    walk++;
+    const stack: number[] = [];
+    for (const t of targets) stack.push(...segmentsAt(index.arriving, t));
     while (stack.length) {
       const s = stack.pop()!;
-      if (seen.has(s.id)) continue;
-      seen.add(s.id);
+      if (seenBy[s] === walk) continue;
+      seenBy[s] = walk;
       mark(s);
-      if (g.nodeById.get(s.from)!.kind === 'junction') stack.push(...(g.arriving.get(s.from) ?? []));
+      const start = index.from[s]!;
+      if (nodes[start]!.kind === 'junction') stack.push(...segmentsAt(index.arriving, start));
     }
   };
-  const outletsOf = new Map<string, OutletNode[]>();
-  for (const o of chip.nodes) {
-    if (o.kind === 'outlet') backwards([o], (s) => add(outletsOf, s.id, o));
-  }
-  const toMerge = new Set<string>();
-  backwards(chip.nodes.filter((n) => n.kind === 'merge'), (s) => toMerge.add(s.id));
-  const reach = (start: ChipSegment) => ({ outlets: outletsOf.get(start.id) ?? [], toMerge: toMerge.has(start.id) });
+  const outletsOf: (OutletNode[] | undefined)[] = new Array<OutletNode[] | undefined>(chip.segments.length).fill(undefined);
+  nodes.forEach((o, i) => {
+    if (o.kind === 'outlet') backwards([index.canonical[i]!], (s) => (outletsOf[s] ??= []).push(o));
+  });
+  const toMerge = new Uint8Array(chip.segments.length);
+  const mergeNodes: number[] = [];
+  nodes.forEach((n, i) => {
+    if (n.kind === 'merge') mergeNodes.push(index.canonical[i]!);
+  });
+  backwards(mergeNodes, (s) => (toMerge[s] = 1));
+  const reach = (start: number) => ({ outlets: outletsOf[start] ?? [], toMerge: toMerge[start] === 1 });
   const arms: { split: SplitNode; merge: string; lane: PhaseName; near: ReturnType<typeof reach>; far: ReturnType<typeof reach> }[] = [];
   for (const [mergeId, split] of g.splitAfter) {
     const lane = g.nearLane.get(mergeId);
     if (lane === undefined) continue;
-    const [near, far] = split.outlets.map((id) => reach(g.segmentById.get(id)!));
+    const [near, far] = split.outlets.map((id) => reach(index.segment.get(id)!));
     arms.push({ split, merge: mergeId, lane, near: near!, far: far! });
   }
 

@@ -1,11 +1,13 @@
 /**
  * Topology of a chip: the roles of segments (feed, contactor, outlet arm, plain), and the checks
  * that make a chip solvable. Exports `isContactor`, `checkTopology` (throws every problem found,
- * each naming its element), `splitWindowOf`, `spannedDimension` and `connectedComponents`.
+ * each naming its element, and returns the chip's index), `splitWindowOf`, `spannedDimension`
+ * and `connectedComponents`.
  */
 import { StratiflowError, StratiflowErrors } from '../errors.js';
 import type { Chip, ChipNode, ChipSegment, SplitNode } from './model.js';
 import { interfaceSpan } from '../physics/shapedSection.js';
+import { indexChip, segmentsAt, type ChipIndex } from './chipIndex.js';
 
 /** A contactor is a segment that starts at a merge: it carries the stratified co-flow. */
 export function isContactor(chip: Chip, segment: ChipSegment): boolean {
@@ -45,87 +47,102 @@ export function spannedDimension(segment: ChipSegment): number {
   return s.orientation === 'side' ? s.depth : s.width;
 }
 
-export function checkTopology(chip: Chip): void {
+/**
+ * Every problem that makes `chip` unsolvable, thrown together (StratiflowErrors), each naming
+ * its element; returns the chip's index (./chipIndex.ts) for the checks that follow.
+ */
+export function checkTopology(chip: Chip, index: ChipIndex = indexChip(chip)): ChipIndex {
   const problems: StratiflowError[] = [];
   const fail = (element: string, message: string, field?: string) =>
     problems.push(new StratiflowError('bad-layout', message, { file: chip.source, element, field }));
+  const { nodes, segments } = chip;
+  const { canonical, from, to, leaving, arriving } = index;
 
-  const nodeById = new Map<string, ChipNode>();
-  for (const n of chip.nodes) {
-    if (nodeById.has(n.id)) fail(`node ${n.id}`, 'duplicate id', 'id');
-    nodeById.set(n.id, n);
-  }
-  const segmentById = new Map<string, ChipSegment>();
-  for (const s of chip.segments) {
-    if (segmentById.has(s.id) || nodeById.has(s.id)) fail(`segment ${s.id}`, 'duplicate id', 'id');
-    segmentById.set(s.id, s);
-    for (const end of ['from', 'to'] as const) {
-      if (!nodeById.has(s[end])) fail(`segment ${s.id}`, `unknown node "${s[end]}"`, end);
-    }
+  nodes.forEach((n, i) => {
+    if (index.repeatedNode[i]) fail(`node ${n.id}`, 'duplicate id', 'id');
+  });
+  segments.forEach((s, i) => {
+    if (index.repeatedSegment[i]) fail(`segment ${s.id}`, 'duplicate id', 'id');
+    if (from[i]! < 0) fail(`segment ${s.id}`, `unknown node "${s.from}"`, 'from');
+    if (to[i]! < 0) fail(`segment ${s.id}`, `unknown node "${s.to}"`, 'to');
     if (s.from === s.to) fail(`segment ${s.id}`, 'starts and ends at the same node', 'to');
-  }
+  });
 
-  const arrivingAt = new Map<string, ChipSegment[]>();
-  const leavingFrom = new Map<string, ChipSegment[]>();
-  for (const s of chip.segments) {
-    if (!arrivingAt.has(s.to)) arrivingAt.set(s.to, []);
-    if (!leavingFrom.has(s.from)) leavingFrom.set(s.from, []);
-    arrivingAt.get(s.to)!.push(s);
-    leavingFrom.get(s.from)!.push(s);
-  }
-  const arriving = (id: string) => arrivingAt.get(id) ?? [];
-  const leaving = (id: string) => leavingFrom.get(id) ?? [];
-  const startsAtMerge = (s: ChipSegment) => nodeById.get(s.from)?.kind === 'merge';
-  for (const n of chip.nodes) {
-    const element = `node ${n.id}`;
+  const count = (lists: ChipIndex['leaving'], node: number) => lists.start[node + 1]! - lists.start[node]!;
+  const startsAtMerge = (segment: number) => from[segment]! >= 0 && nodes[from[segment]!]!.kind === 'merge';
+  nodes.forEach((n, i) => {
+    const at = canonical[i]!;
     if (n.kind === 'merge') {
-      for (const [i, segId] of n.inlets.entries()) {
-        const s = segmentById.get(segId);
-        if (!s) fail(element, `unknown segment "${segId}"`, `inlets.${i}`);
-        else if (s.to !== n.id) fail(element, `segment "${segId}" does not end at this merge`, `inlets.${i}`);
-        else if (startsAtMerge(s)) fail(element, `segment "${segId}" is itself a contactor; a merge needs two single-phase inlets`, `inlets.${i}`);
+      for (const [k, segId] of n.inlets.entries()) {
+        const s = index.segment.get(segId);
+        if (s === undefined) fail(`node ${n.id}`, `unknown segment "${segId}"`, `inlets.${k}`);
+        else if (segments[s]!.to !== n.id) fail(`node ${n.id}`, `segment "${segId}" does not end at this merge`, `inlets.${k}`);
+        else if (startsAtMerge(s)) fail(`node ${n.id}`, `segment "${segId}" is itself a contactor; a merge needs two single-phase inlets`, `inlets.${k}`);
       }
-      if (n.inlets[0] === n.inlets[1]) fail(element, 'the two inlets must be different segments', 'inlets');
-      if (arriving(n.id).length !== 2) fail(element, `a merge needs exactly two arriving segments (its inlets), found ${arriving(n.id).length}`, 'inlets');
-      const out = leaving(n.id);
-      if (out.length !== 1) fail(element, `a merge needs exactly one leaving segment (the contactor), found ${out.length}`);
-      else if (out[0]!.section.shape === 'tube') fail(`segment ${out[0]!.id}`, 'a contactor must be rectangular, etched or trapezoidal (not a tube)', 'shape');
+      if (n.inlets[0] === n.inlets[1]) fail(`node ${n.id}`, 'the two inlets must be different segments', 'inlets');
+      if (count(arriving, at) !== 2) fail(`node ${n.id}`, `a merge needs exactly two arriving segments (its inlets), found ${count(arriving, at)}`, 'inlets');
+      const out = segmentsAt(leaving, at);
+      if (out.length !== 1) fail(`node ${n.id}`, `a merge needs exactly one leaving segment (the contactor), found ${out.length}`);
+      else if (segments[out[0]!]!.section.shape === 'tube') fail(`segment ${segments[out[0]!]!.id}`, 'a contactor must be rectangular, etched or trapezoidal (not a tube)', 'shape');
     }
     if (n.kind === 'split') {
-      const into = arriving(n.id);
-      if (into.length !== 1 || !startsAtMerge(into[0]!)) fail(element, 'a split needs exactly one arriving segment, a contactor that starts at a merge');
-      for (const [i, segId] of n.outlets.entries()) {
-        const s = segmentById.get(segId);
-        if (!s) fail(element, `unknown segment "${segId}"`, `outlets.${i}`);
-        else if (s.from !== n.id) fail(element, `segment "${segId}" does not start at this split`, `outlets.${i}`);
+      const into = segmentsAt(arriving, at);
+      if (into.length !== 1 || !startsAtMerge(into[0]!)) fail(`node ${n.id}`, 'a split needs exactly one arriving segment, a contactor that starts at a merge');
+      for (const [k, segId] of n.outlets.entries()) {
+        const s = index.segment.get(segId);
+        if (s === undefined) fail(`node ${n.id}`, `unknown segment "${segId}"`, `outlets.${k}`);
+        else if (segments[s]!.from !== n.id) fail(`node ${n.id}`, `segment "${segId}" does not start at this split`, `outlets.${k}`);
       }
-      if (n.outlets[0] === n.outlets[1]) fail(element, 'the two outlets must be different segments', 'outlets');
-      if (leaving(n.id).length !== 2) fail(element, `a split needs exactly two leaving segments (its outlets), found ${leaving(n.id).length}`, 'outlets');
+      if (n.outlets[0] === n.outlets[1]) fail(`node ${n.id}`, 'the two outlets must be different segments', 'outlets');
+      if (count(leaving, at) !== 2) fail(`node ${n.id}`, `a split needs exactly two leaving segments (its outlets), found ${count(leaving, at)}`, 'outlets');
       if (!n.window && !chip.splitWindow && (chip.interfacialTension === undefined || !chip.contactAngle)) {
-        fail(element, 'no pressure window: give interfacialTension and contactAngleA, or splitWindow', 'window');
+        fail(`node ${n.id}`, 'no pressure window: give interfacialTension and contactAngleA, or splitWindow', 'window');
       }
     }
     if (n.kind === 'inlet' || n.kind === 'outlet') {
-      if (arriving(n.id).length + leaving(n.id).length === 0) fail(element, `an ${n.kind} must have a segment`);
+      if (count(arriving, at) + count(leaving, at) === 0) fail(`node ${n.id}`, `an ${n.kind} must have a segment`);
     }
-  }
-  for (const s of chip.segments) {
-    const to = nodeById.get(s.to);
-    if (to?.kind === 'merge' && !to.inlets.includes(s.id)) fail(`segment ${s.id}`, `ends at merge "${to.id}" but is not one of its inlets`, 'to');
-    const from = nodeById.get(s.from);
-    if (from?.kind === 'split' && !from.outlets.includes(s.id)) fail(`segment ${s.id}`, `starts at split "${from.id}" but is not one of its outlets`, 'from');
-  }
+  });
+  segments.forEach((s, i) => {
+    const end = to[i]! >= 0 ? nodes[to[i]!]! : undefined;
+    if (end?.kind === 'merge' && !end.inlets.includes(s.id)) fail(`segment ${s.id}`, `ends at merge "${end.id}" but is not one of its inlets`, 'to');
+    const start = from[i]! >= 0 ? nodes[from[i]!]! : undefined;
+    if (start?.kind === 'split' && !start.outlets.includes(s.id)) fail(`segment ${s.id}`, `starts at split "${start.id}" but is not one of its outlets`, 'from');
+  });
 
-  const references = chip.nodes.filter((n) => n.kind === 'outlet' || (n.kind === 'inlet' && n.pressure !== undefined));
+  const references = nodes.filter((n) => n.kind === 'outlet' || (n.kind === 'inlet' && n.pressure !== undefined));
   if (references.length === 0) fail('chip', 'no pressure reference: give at least one outlet or one inlet with a pressure');
 
   if (problems.length === 0) {
-    for (const component of connectedComponents(chip.nodes.map((n) => n.id), chip.segments)) {
-      const hasOutlet = component.some((id) => nodeById.get(id)?.kind === 'outlet' || (nodeById.get(id) as { pressure?: number }).pressure !== undefined);
-      if (!hasOutlet) fail(`node ${component[0]}`, `has no path to an outlet (nor do ${component.length - 1} nodes connected to it)`);
+    // Every node's component (union–find over the segments, as in connectedComponents, on the
+    // index's numbers) must hold an outlet or an inlet with a pressure.
+    const parent = Int32Array.from(nodes, (_, i) => i);
+    const root = (i: number): number => {
+      while (parent[i] !== i) {
+        parent[i] = parent[parent[i]!]!;
+        i = parent[i]!;
+      }
+      return i;
+    };
+    for (let s = 0; s < segments.length; s++) {
+      const a = root(from[s]!);
+      const b = root(to[s]!);
+      if (a !== b) parent[Math.max(a, b)] = Math.min(a, b);
     }
+    const referenced = new Uint8Array(nodes.length);
+    const size = new Int32Array(nodes.length);
+    nodes.forEach((n, i) => {
+      const r = root(i);
+      size[r]++;
+      if (n.kind === 'outlet' || (n as { pressure?: number }).pressure !== undefined) referenced[r] = 1;
+    });
+    // Each component is named by its first node, the components in the order of those nodes.
+    nodes.forEach((n, i) => {
+      if (root(i) === i && !referenced[i]) fail(`node ${n.id}`, `has no path to an outlet (nor do ${size[i]! - 1} nodes connected to it)`);
+    });
   }
   if (problems.length > 0) throw new StratiflowErrors(problems);
+  return index;
 }
 
 /**
