@@ -123,6 +123,8 @@ interface Station {
   solved: SolvedChip;
   works: boolean;
   requirements: Requirement[];
+  /** Each leaking split's leak (> 0, m³/s, the way it runs) and its gradient in the search coordinates. */
+  leaks: { id: string; value: number; gradient: [number, number] }[];
 }
 
 export function limitName(limit: WindowLimit): string {
@@ -186,9 +188,9 @@ export function traceWindow(chip: Chip, search: WindowSearch): WindowRegion {
     solves++;
     const solved = solveChip(variant, solver, from, workspace);
     if (!solved.result.converged) return undefined;
-    const requirements = requirementsAt(solved, search, u, extent);
+    const { requirements, leaks } = requirementsAt(solved, search, u, extent);
     const works = operatingVerdict(solved).length === 0 && requirements.every((r) => r.value >= 0);
-    return { u, solved, works, requirements };
+    return { u, solved, works, requirements, leaks };
   };
   const warm = (s: Station) => warmStartFrom(s.solved);
   const scaled = (g: readonly [number, number]): [number, number] => [g[0] * extent[0], g[1] * extent[1]];
@@ -464,32 +466,45 @@ function passesNear(a: readonly [number, number], b: readonly [number, number], 
 }
 
 /**
- * A working point near a station that does not work: least-squares steps of the linearised
- * split requirements toward the middle of every window (each split's Δ to its window's centre,
- * weighted by its width), a few times. Returns the last station (which may still not work).
+ * A working point near a station that does not work: least-squares steps toward the middle of
+ * every window, a few times. A pinned split asks for its Δ at its window's centre; a leaking
+ * split, whose Δ sits at its limit whatever the settings do (its gradient is 0 there), asks for
+ * its leak to stop, LEAK_OVERSHOOT past where the linearised leak reaches 0 (the next step
+ * then sees it pinned and centres it). Each row is divided by its gradient's length, so every
+ * row is a distance in the search coordinates. Rows that are nearly parallel (the splits of a
+ * thin band, whose limits run side by side) meet far away, so directions the rows hardly
+ * determine are left out (a truncated eigen-decomposition of the normal equations, cut at
+ * RANK_CUT of the largest eigenvalue; Hansen, 1987, BIT 27:534): the step is then the
+ * least-norm one across the band.
+ * Returns the last station (which may still not work).
  */
 function centred(from: Station, solveAt: (u: [number, number], warm: WarmStart | undefined) => Station | undefined): Station {
   let s = from;
   for (let k = 0; k < 8 && !s.works; k++) {
-    // Rows: (g_low − g_high)/2 · du = −(c_low − c_high)/2, i.e. Δ to the centre of its window.
+    // Rows ĝ·du = −e, as normal equations.
     let a11 = 0;
     let a12 = 0;
     let a22 = 0;
     let b1 = 0;
     let b2 = 0;
-    for (const low of s.requirements.filter((r) => r.limit.kind === 'split-low')) {
+    const row = (g: readonly [number, number], e: number) => {
+      const length = Math.hypot(g[0], g[1]);
+      if (!(length > 0)) return;
+      const [x, y] = [g[0] / length, g[1] / length];
+      a11 += x * x;
+      a12 += x * y;
+      a22 += y * y;
+      b1 -= (x * e) / length;
+      b2 -= (y * e) / length;
+    };
+    const leaking = new Set(s.leaks.map((l) => l.id));
+    for (const low of s.requirements.filter((r) => r.limit.kind === 'split-low' && !leaking.has(r.limit.id))) {
       const high = s.requirements.find((r) => r.limit.kind === 'split-high' && r.limit.id === low.limit.id)!;
-      const g = [(low.gradient[0] - high.gradient[0]) / 2, (low.gradient[1] - high.gradient[1]) / 2];
-      const e = (low.value - high.value) / 2;
-      a11 += g[0]! * g[0]!;
-      a12 += g[0]! * g[1]!;
-      a22 += g[1]! * g[1]!;
-      b1 -= g[0]! * e;
-      b2 -= g[1]! * e;
+      row([(low.gradient[0] - high.gradient[0]) / 2, (low.gradient[1] - high.gradient[1]) / 2], (low.value - high.value) / 2);
     }
-    const det = a11 * a22 - a12 * a12;
-    if (!(Math.abs(det) > 0)) break;
-    const du = [(b1 * a22 - b2 * a12) / det, (a11 * b2 - a12 * b1) / det];
+    for (const leak of s.leaks) row(leak.gradient, LEAK_OVERSHOOT * leak.value);
+    const du = truncatedSolve(a11, a12, a22, b1, b2);
+    if (!du) break;
     const next = solveAt([s.u[0] + du[0]!, s.u[1] + du[1]!], warmStartFrom(s.solved));
     if (!next) break;
     s = next;
@@ -497,8 +512,38 @@ function centred(from: Station, solveAt: (u: [number, number], warm: WarmStart |
   return s;
 }
 
+/** How far past the linearised stop a leaking split's centring step aims (a step, not a physical quantity). */
+const LEAK_OVERSHOOT = 1.25;
+/**
+ * Directions of the centring step whose eigenvalue is below this fraction of the largest are
+ * left out: unit rows at less than about 2° to each other (sin² 2° ≈ 1.2e-3) count as one.
+ */
+const RANK_CUT = 1e-3;
+
+/** The solution of [[a11, a12], [a12, a22]]·x = b in the eigen-directions above RANK_CUT, or undefined when there are none. */
+function truncatedSolve(a11: number, a12: number, a22: number, b1: number, b2: number): [number, number] | undefined {
+  const mean = (a11 + a22) / 2;
+  const radius = Math.hypot((a11 - a22) / 2, a12);
+  const large = mean + radius;
+  if (!(large > 0)) return undefined;
+  // Eigenvector of the larger eigenvalue (either form, whichever is better conditioned).
+  const [vx, vy] = a11 >= a22 ? [large - a22, a12] : [a12, large - a11];
+  const length = Math.hypot(vx, vy);
+  const v: [number, number] = length > 0 ? [vx / length, vy / length] : [1, 0];
+  const w: [number, number] = [-v[1], v[0]];
+  const small = mean - radius;
+  const along = (d: [number, number], lambda: number) => (d[0] * b1 + d[1] * b2) / lambda;
+  const x: [number, number] = [along(v, large) * v[0], along(v, large) * v[1]];
+  if (small > RANK_CUT * large) {
+    const c = along(w, small);
+    x[0] += c * w[0];
+    x[1] += c * w[1];
+  }
+  return x;
+}
+
 /** Every requirement at a solved point, with its gradient in the search coordinates. */
-function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, number], extent: [number, number]): Requirement[] {
+function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, number], extent: [number, number]): Pick<Station, 'requirements' | 'leaks'> {
   const { network: net, raw, result, chip } = solved;
   const tangents = new NetworkTangents(net, raw, solved.workspace);
   const along = (s: Setting): Tangent => {
@@ -509,8 +554,16 @@ function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, nu
   const ty = along(search.y);
   const grad = (f: (t: Tangent) => number) => chain(search.coordinates, f(tx), f(ty));
   const out: Requirement[] = [];
+  const leaks: Station['leaks'] = [];
 
   net.splits.forEach((sp, s) => {
+    const state = result.splits[s]!.state;
+    if (state !== 'pinned') {
+      // leak > 0 runs far → near; a split leaking A to B has A's lane pushing into the B outlet.
+      const sense = raw.leak[s]! >= 0 ? 1 : -1;
+      const g = grad((t) => t.leak[s]!);
+      leaks.push({ id: sp.node.id, value: sense * raw.leak[s]!, gradient: [sense * g[0], sense * g[1]] });
+    }
     const [low, high] = sp.window;
     const width = Math.max(high - low, 1e-300);
     const delta = result.splits[s]!.pressureDifference;
@@ -555,7 +608,7 @@ function requirementsAt(solved: SolvedChip, search: WindowSearch, u: [number, nu
   out.push({ limit: { kind: 'range', id: `${nx} max` }, value: (box.x[1] - u[0]) / extent[0], gradient: [-1 / extent[0], 0], scale: 1 });
   out.push({ limit: { kind: 'range', id: `${ny} min` }, value: (u[1] - box.y[0]) / extent[1], gradient: [0, 1 / extent[1]], scale: 1 });
   out.push({ limit: { kind: 'range', id: `${ny} max` }, value: (box.y[1] - u[1]) / extent[1], gradient: [0, -1 / extent[1]], scale: 1 });
-  return out;
+  return { requirements: out, leaks };
 }
 
 /**
