@@ -8,7 +8,8 @@
  * The ladder is bench/network.ts's DESIGN (invented demo values). The CLI is built first
  * (tsc -p tsconfig.build.json), so the figures are those of the code in the checkout.
  */
-import { execFileSync, spawnSync } from 'node:child_process';
+import { spawnSync } from 'node:child_process';
+import { buildDist, ROOT } from './built.js';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -39,8 +40,8 @@ function runOnce(root: string, file: string): { seconds: number; megabytes: numb
 }
 
 export function benchScale(): Row[] {
-  const root = join(import.meta.dirname, '..');
-  execFileSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'inherit' });
+  const root = ROOT;
+  buildDist();
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-scale-'));
   const rows: Row[] = [];
   const wall: number[] = [];

@@ -9,10 +9,8 @@
  * helpers too (some 15–20 % of a solve, measured). Wall and CPU time include starting the
  * workers and the nominal solve.
  */
-import { execFileSync } from 'node:child_process';
 import { availableParallelism } from 'node:os';
-import { join } from 'node:path';
-import { pathToFileURL } from 'node:url';
+import { buildDist, builtModule } from './built.js';
 import type { ladderLayout as LadderLayout } from '../src/layout/generate.js';
 import type { layoutToChip as LayoutToChip } from '../src/layout/load.js';
 import type { runTolerance as RunTolerance, ToleranceSpec, Variation } from '../src/analyses/tolerance.js';
@@ -35,17 +33,11 @@ const SPEC: ToleranceSpec = {
   contactAngle: { distribution: 'uniform', size: (2 * Math.PI) / 180, relative: false },
 };
 
-/** A module of the built code (dist/), by its path under src/ without extension. */
-async function built<T>(root: string, path: string): Promise<T> {
-  return (await import(pathToFileURL(join(root, 'dist', `${path}.js`)).href)) as T;
-}
-
 export async function benchTolerance(): Promise<Row[]> {
-  const root = join(import.meta.dirname, '..');
-  execFileSync('npx', ['tsc', '-p', 'tsconfig.build.json'], { cwd: root, stdio: 'inherit' });
-  const { ladderLayout } = await built<{ ladderLayout: typeof LadderLayout }>(root, 'layout/generate');
-  const { layoutToChip } = await built<{ layoutToChip: typeof LayoutToChip }>(root, 'layout/load');
-  const { runTolerance } = await built<{ runTolerance: typeof RunTolerance }>(root, 'analyses/tolerance');
+  buildDist();
+  const { ladderLayout } = await builtModule<{ ladderLayout: typeof LadderLayout }>('layout/generate');
+  const { layoutToChip } = await builtModule<{ layoutToChip: typeof LayoutToChip }>('layout/load');
+  const { runTolerance } = await builtModule<{ runTolerance: typeof RunTolerance }>('analyses/tolerance');
   const chip = layoutToChip(
     ladderLayout({
       contactors: CONTACTORS,

@@ -25,6 +25,7 @@
  * past a split's limit the solve holds Δ at the limit (the split leaks), so c_k has no useful
  * value there.
  */
+import { EigenvalueDecomposition, Matrix } from 'ml-matrix';
 import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
 import { operatingVerdict } from './verdict.js';
 import { settingName, withSettings, type Setting } from './settings.js';
@@ -522,23 +523,18 @@ const RANK_CUT = 1e-3;
 
 /** The solution of [[a11, a12], [a12, a22]]·x = b in the eigen-directions above RANK_CUT, or undefined when there are none. */
 function truncatedSolve(a11: number, a12: number, a22: number, b1: number, b2: number): [number, number] | undefined {
-  const mean = (a11 + a22) / 2;
-  const radius = Math.hypot((a11 - a22) / 2, a12);
-  const large = mean + radius;
-  if (!(large > 0)) return undefined;
-  // Eigenvector of the larger eigenvalue (either form, whichever is better conditioned).
-  const [vx, vy] = a11 >= a22 ? [large - a22, a12] : [a12, large - a11];
-  const length = Math.hypot(vx, vy);
-  const v: [number, number] = length > 0 ? [vx / length, vy / length] : [1, 0];
-  const w: [number, number] = [-v[1], v[0]];
-  const small = mean - radius;
-  const along = (d: [number, number], lambda: number) => (d[0] * b1 + d[1] * b2) / lambda;
-  const x: [number, number] = [along(v, large) * v[0], along(v, large) * v[1]];
-  if (small > RANK_CUT * large) {
-    const c = along(w, small);
-    x[0] += c * w[0];
-    x[1] += c * w[1];
-  }
+  const eigen = new EigenvalueDecomposition(new Matrix([[a11, a12], [a12, a22]]), { assumeSymmetric: true });
+  const values = eigen.realEigenvalues;
+  const largest = Math.max(values[0]!, values[1]!);
+  if (!(largest > 0)) return undefined;
+  const x: [number, number] = [0, 0];
+  values.forEach((lambda, k) => {
+    if (!(lambda > RANK_CUT * largest)) return;
+    const [vx, vy] = eigen.eigenvectorMatrix.getColumn(k);
+    const c = (vx! * b1 + vy! * b2) / lambda;
+    x[0] += c * vx!;
+    x[1] += c * vy!;
+  });
   return x;
 }
 

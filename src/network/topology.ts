@@ -1,8 +1,8 @@
 /**
  * Topology of a chip: the roles of segments (feed, contactor, outlet arm, plain), and the checks
  * that make a chip solvable. Exports `isContactor`, `checkTopology` (throws every problem found,
- * each naming its element, and returns the chip's index), `splitWindowOf`, `spannedDimension`
- * and `connectedComponents`.
+ * each naming its element, and returns the chip's index), `splitWindowOf`, `spannedDimension`,
+ * `componentRoots` and `connectedComponents`.
  */
 import { StratiflowError, StratiflowErrors } from '../errors.js';
 import type { Chip, ChipNode, ChipSegment, SplitNode } from './model.js';
@@ -114,31 +114,18 @@ export function checkTopology(chip: Chip, index: ChipIndex = indexChip(chip)): C
   if (references.length === 0) fail('chip', 'no pressure reference: give at least one outlet or one inlet with a pressure');
 
   if (problems.length === 0) {
-    // Every node's component (union–find over the segments, as in connectedComponents, on the
-    // index's numbers) must hold an outlet or an inlet with a pressure.
-    const parent = Int32Array.from(nodes, (_, i) => i);
-    const root = (i: number): number => {
-      while (parent[i] !== i) {
-        parent[i] = parent[parent[i]!]!;
-        i = parent[i]!;
-      }
-      return i;
-    };
-    for (let s = 0; s < segments.length; s++) {
-      const a = root(from[s]!);
-      const b = root(to[s]!);
-      if (a !== b) parent[Math.max(a, b)] = Math.min(a, b);
-    }
+    // Every node's component must hold an outlet or an inlet with a pressure.
+    const root = componentRoots(nodes.length, from, to);
     const referenced = new Uint8Array(nodes.length);
     const size = new Int32Array(nodes.length);
     nodes.forEach((n, i) => {
-      const r = root(i);
+      const r = root[i]!;
       size[r]++;
       if (n.kind === 'outlet' || (n as { pressure?: number }).pressure !== undefined) referenced[r] = 1;
     });
     // Each component is named by its first node, the components in the order of those nodes.
     nodes.forEach((n, i) => {
-      if (root(i) === i && !referenced[i]) fail(`node ${n.id}`, `has no path to an outlet (nor do ${size[i]! - 1} nodes connected to it)`);
+      if (root[i] === i && !referenced[i]) fail(`node ${n.id}`, `has no path to an outlet (nor do ${size[i]! - 1} nodes connected to it)`);
     });
   }
   if (problems.length > 0) throw new StratiflowErrors(problems);
@@ -146,18 +133,15 @@ export function checkTopology(chip: Chip, index: ChipIndex = indexChip(chip)): C
 }
 
 /**
- * Connected components of the nodes `ids` joined by `links` (direction ignored), each in the
- * order of `ids`; the components in the order of their first node. Union–find with path halving
- * and union by size (Tarjan, 1975, J. ACM 22:215). Written by hand because graphlib, the graph
- * library of this project, takes about 1.1 s to build the graph of a 16 384-contactor ladder
- * and its components search is recursive (it overflows the call stack on long chains); this
- * takes some 20 ms.
+ * The component of each of `count` nodes joined by links from[k]–to[k] (direction ignored;
+ * links with an end < 0 are left out), as its smallest member, so the components come in the
+ * order of their first node. Union–find with path halving, the smaller root kept (Tarjan, 1975,
+ * J. ACM 22:215). Written by hand because graphlib, the graph library of this project, takes
+ * about 1.1 s to build the graph of a 16 384-contactor ladder and its components search is
+ * recursive (it overflows the call stack on long chains); this takes some 20 ms.
  */
-export function connectedComponents(ids: string[], links: Iterable<{ from: string; to: string }>): string[][] {
-  const index = new Map<string, number>();
-  ids.forEach((id, i) => index.set(id, i));
-  const parent = Int32Array.from(ids, (_, i) => i);
-  const size = new Int32Array(ids.length).fill(1);
+export function componentRoots(count: number, from: ArrayLike<number>, to: ArrayLike<number>): Int32Array {
+  const parent = Int32Array.from({ length: count }, (_, i) => i);
   const root = (i: number): number => {
     while (parent[i] !== i) {
       parent[i] = parent[parent[i]!]!;
@@ -165,23 +149,32 @@ export function connectedComponents(ids: string[], links: Iterable<{ from: strin
     }
     return i;
   };
-  for (const { from, to } of links) {
-    const a = index.get(from);
-    const b = index.get(to);
-    if (a === undefined || b === undefined) continue;
-    let ra = root(a);
-    let rb = root(b);
-    if (ra === rb) continue;
-    if (size[ra]! < size[rb]!) [ra, rb] = [rb, ra];
-    parent[rb] = ra;
-    size[ra] += size[rb]!;
+  for (let k = 0; k < from.length; k++) {
+    if (from[k]! < 0 || to[k]! < 0) continue;
+    const a = root(from[k]!);
+    const b = root(to[k]!);
+    if (a !== b) parent[Math.max(a, b)] = Math.min(a, b);
   }
+  for (let i = 0; i < count; i++) parent[i] = root(i);
+  return parent;
+}
+
+/** Connected components of the nodes `ids` joined by `links` (componentRoots), each in the order of `ids`. */
+export function connectedComponents(ids: string[], links: Iterable<{ from: string; to: string }>): string[][] {
+  const index = new Map<string, number>();
+  ids.forEach((id, i) => index.set(id, i));
+  const from: number[] = [];
+  const to: number[] = [];
+  for (const link of links) {
+    from.push(index.get(link.from) ?? -1);
+    to.push(index.get(link.to) ?? -1);
+  }
+  const root = componentRoots(ids.length, from, to);
   const byRoot = new Map<number, string[]>();
   ids.forEach((id, i) => {
-    const r = root(i);
-    const list = byRoot.get(r);
+    const list = byRoot.get(root[i]!);
     if (list) list.push(id);
-    else byRoot.set(r, [id]);
+    else byRoot.set(root[i]!, [id]);
   });
   return [...byRoot.values()];
 }

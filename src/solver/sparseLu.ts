@@ -42,9 +42,9 @@ export function factorizeSparse(a: SparseMatrix, options: SparseLuOptions = {}):
  * factorisation. `factor` accepts any matrix with exactly the pattern given to the constructor.
  * After a first factorisation it refactors: the same row pivots, so L and U have the patterns
  * they had and no search is needed (as KLU's refactorisation does; Davis & Palamadai Natarajan,
- * 2010, ACM TOMS 37(3):36), as long as every pivot still passes the threshold test against its
- * column; otherwise the pivots are chosen afresh. `forgetPivots` makes the next factorisation
- * choose them afresh, so that a result need not depend on what was factored before.
+ * 2010, ACM TOMS 37(3):36), as long as the search would choose every pivot again; otherwise the
+ * pivots are chosen afresh. Either way the factors are the search's, to the bit.
+ * `forgetPivots` makes the next factorisation search (a cost choice, not a result's).
  */
 export class SparseLuSymbolic {
   readonly n: number;
@@ -147,9 +147,10 @@ function leftLookingLu(
  * the topological order that the search stored in U, without the depth-first search; each
  * pivot is kept only where the search's rule (the diagonal when it is at least `pivotThreshold`
  * of the largest candidate, else the first in reach order of those within NEAR_TIE of the
- * largest, candidates above their cancellation noise) picks it again. The factors are then those of a factorisation with search, to the
- * bit, at about a third of its cost (hand-written: no maintained JavaScript library offers a
- * sparse LU, and this one must match the factorisation it refactors).
+ * largest, candidates above their cancellation noise) picks it again. The factors are then
+ * those of a factorisation with search, to the bit, at about a third of its cost (hand-written:
+ * no maintained JavaScript library offers a sparse LU, and this one must match the
+ * factorisation it refactors).
  */
 function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: number, singularTolerance: number, scratch: Scratch): TriangularFactors | undefined {
   const { n, colPtr: Ap, rowIdx: Ai, values: Ax } = a;
@@ -185,27 +186,21 @@ function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: 
         magnitude[Li[r]] += Math.abs(update);
       }
     }
-    // The search's choice among the candidates: step k (the kept pivot) and L's rows.
     // The search's rule replayed: the diagonal when it is within the threshold of the largest
     // candidate, else the first in reach order within NEAR_TIE of the largest; the kept pivot
     // row stood just before the L entry at `before`.
     const diagonal = pinv[col];
     const before = pivotAt[k];
-    const own = Math.abs(x[k]);
-    const ownCandidate = own > singularTolerance * magnitude[k];
-    let largest = ownCandidate ? own : 0;
+    let largest = isCandidate(x, magnitude, k, singularTolerance) ? Math.abs(x[k]) : 0;
     let diagonalInReach = diagonal === k;
     for (let p = Lp[k], end = Lp[k + 1]; p < end; p++) {
       const i = Li[p];
       if (i === diagonal) diagonalInReach = true;
-      const size = Math.abs(x[i]);
-      if (size > largest && size > singularTolerance * magnitude[i]) largest = size;
+      if (Math.abs(x[i]) > largest && isCandidate(x, magnitude, i, singularTolerance)) largest = Math.abs(x[i]);
     }
-    const candidate = (i: number) => Math.abs(x[i]) > singularTolerance * magnitude[i];
-    const diagonalWins = diagonalInReach && largest > 0 && Math.abs(x[diagonal]) >= pivotThreshold * largest && candidate(diagonal);
-    const nearLargest = (i: number) => Math.abs(x[i]) >= (1 - NEAR_TIE) * largest && candidate(i);
-    let kept = diagonal === k ? diagonalWins : !diagonalWins && nearLargest(k);
-    for (let p = Lp[k]; kept && diagonal !== k && p < before; p++) if (nearLargest(Li[p])) kept = false;
+    const diagonalWins = diagonalInReach && largest > 0 && Math.abs(x[diagonal]) >= pivotThreshold * largest && isCandidate(x, magnitude, diagonal, singularTolerance);
+    let kept = diagonal === k ? diagonalWins : !diagonalWins && isNearLargest(x, magnitude, k, largest, singularTolerance);
+    for (let p = Lp[k]; kept && diagonal !== k && p < before; p++) if (isNearLargest(x, magnitude, Li[p], largest, singularTolerance)) kept = false;
     const pivot = x[k];
     x[k] = 0;
     magnitude[k] = 0;
@@ -244,11 +239,21 @@ function scratchOf(n: number): Scratch {
  */
 const NEAR_TIE = 1e-6;
 
-/** The first candidate row in reach order whose value is within NEAR_TIE of `largest`. */
+/** Row i may pivot: its value is above the cancellation noise of what was summed into it. */
+function isCandidate(x: Float64Array, magnitude: Float64Array, i: number, singularTolerance: number): boolean {
+  return Math.abs(x[i]) > singularTolerance * magnitude[i];
+}
+
+/** Row i is a candidate within NEAR_TIE of `largest`. */
+function isNearLargest(x: Float64Array, magnitude: Float64Array, i: number, largest: number, singularTolerance: number): boolean {
+  return Math.abs(x[i]) >= (1 - NEAR_TIE) * largest && isCandidate(x, magnitude, i, singularTolerance);
+}
+
+/** The first unpivoted row in reach order that is a candidate within NEAR_TIE of `largest`. */
 function firstNearLargest(reach: Int32Array, top: number, n: number, x: Float64Array, magnitude: Float64Array, pinv: Int32Array, largest: number, singularTolerance: number): number {
   for (let t = top; t < n; t++) {
     const i = reach[t];
-    if (pinv[i] < 0 && Math.abs(x[i]) >= (1 - NEAR_TIE) * largest && Math.abs(x[i]) > singularTolerance * magnitude[i]) return i;
+    if (pinv[i] < 0 && isNearLargest(x, magnitude, i, largest, singularTolerance)) return i;
   }
   return -1;
 }
@@ -341,7 +346,7 @@ class LeftLookingColumns {
       if (pinv[i] >= 0) {
         U.index[U.size] = pinv[i];
         U.value[U.size++] = x[i];
-      } else if (Math.abs(x[i]) > largest && Math.abs(x[i]) > singularTolerance * magnitude[i]) {
+      } else if (Math.abs(x[i]) > largest && isCandidate(x, magnitude, i, singularTolerance)) {
         largest = Math.abs(x[i]);
         pivotRow = i;
       }
@@ -352,7 +357,7 @@ class LeftLookingColumns {
       return false;
     }
     const diagonal = Math.abs(x[col]);
-    if (pinv[col] < 0 && this.visited[col] === k && diagonal >= pivotThreshold * largest && diagonal > singularTolerance * magnitude[col]) {
+    if (pinv[col] < 0 && this.visited[col] === k && diagonal >= pivotThreshold * largest && isCandidate(x, magnitude, col, singularTolerance)) {
       pivotRow = col;
     } else {
       pivotRow = firstNearLargest(reach, top, n, x, magnitude, pinv, largest, singularTolerance);
