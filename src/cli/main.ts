@@ -23,6 +23,7 @@ const COMMANDS: Record<string, () => Promise<Registrar>> = {
   draw: async () => (await import('./draw.js')).registerDraw,
   window: async () => (await import('./window.js')).registerWindow,
   tune: async () => (await import('./tune.js')).registerTune,
+  design: async () => (await import('./design.js')).registerDesign,
   tolerance: async () => (await import('./tolerance.js')).registerTolerance,
   extract: async () => (await import('./extract.js')).registerExtract,
   make: async () => (await import('./make.js')).registerMake,

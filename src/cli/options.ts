@@ -1,13 +1,14 @@
 /**
  * Reading command-line values: quantities with units, numbers in a range, choices. Every failure
  * names the option. Exports `quantityOption`, `numberOption`, `wholeNumberOption`, `choice`,
- * `linearOption`, `settingOption` and `MAX_WORKERS`.
+ * `linearOption`, `settingOption`, `freedomOption`, `collect` and `MAX_WORKERS`.
  */
 import { Option } from 'commander';
-import { parseQuantity, type Dimension } from '../units/quantity.js';
+import { parseQuantity, parseRange, type Dimension } from '../units/quantity.js';
 import { StratiflowError, optionError } from '../errors.js';
 import { parseSetting, type Setting } from '../analyses/settings.js';
 import type { Chip } from '../network/model.js';
+import type { Freedom } from '../analyses/tuneSpec.js';
 
 export function quantityOption(value: unknown, option: string, dimension: Dimension): number;
 export function quantityOption(value: unknown, option: string, dimension: Dimension, optional: true): number | undefined;
@@ -68,4 +69,17 @@ export function settingOption(text: string, option: string, chip: Chip): Setting
     if (error instanceof StratiflowError) throw optionError(option, error.message);
     throw error;
   }
+}
+
+/** commander's collector for an option that may be repeated. */
+export function collect(value: string, previous: string[]): string[] {
+  return [...previous, value];
+}
+
+/** `node.quantity` or `node.quantity=from:to` (the unit of the second end applying to both): a setting that may vary. */
+export function freedomOption(text: string, chip: Chip): Freedom {
+  const [name, range] = text.split('=');
+  const setting = settingOption(name!, '--vary', chip);
+  if (range === undefined) return { setting };
+  return { setting, bounds: parseRange(range, setting.quantity === 'pressure' ? 'pressure' : 'flow', { field: '--vary' }) };
 }

@@ -11,11 +11,11 @@ import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { holdTolerances } from '../analyses/hold.js';
 import { loadLayout, readLayoutText } from '../layout/load.js';
-import { defaultFreedoms, tuneChip, type Freedom, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
+import { defaultFreedoms, tuneChip, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
-import { parseQuantity, parseRange } from '../units/quantity.js';
-import { numberOption, settingOption, linearOption, type LinearSolver } from './options.js';
+import { parseQuantity } from '../units/quantity.js';
+import { collect, freedomOption, numberOption, linearOption, type LinearSolver } from './options.js';
 import { outputFile, writeOutputs, type Output } from './io.js';
 import { liveReport } from './pageScript.js';
 import { chipReport } from '../render/report.js';
@@ -23,7 +23,6 @@ import { findManifolds } from '../analyses/manifolds.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 
 import { StratiflowError, optionError } from '../errors.js';
-import type { Chip } from '../network/model.js';
 
 interface TuneOptions {
   flowA?: string;
@@ -38,17 +37,6 @@ interface TuneOptions {
   linear: string;
 }
 
-function collect(value: string, previous: string[]): string[] {
-  return [...previous, value];
-}
-
-/** `node.quantity` or `node.quantity=from:to` (the unit of the second end applying to both). */
-function freedomOption(text: string, chip: Chip): Freedom {
-  const [name, range] = text.split('=');
-  const setting = settingOption(name!, '--vary', chip);
-  if (range === undefined) return { setting };
-  return { setting, bounds: parseRange(range, setting.quantity === 'pressure' ? 'pressure' : 'flow', { field: '--vary' }) };
-}
 
 function targetsOf(o: TuneOptions): Target[] {
   const targets: Target[] = [];

@@ -69,6 +69,8 @@ export class NetworkTangents {
   private readonly options: EvaluateOptions;
   private readonly factor: LinearFactor;
   private readonly flowScale: number;
+  /** Each plain element's flow at the solution. */
+  private readonly plainFlowAt: Float64Array;
   /** F at the solution, with the options of the differences. */
   private readonly atSolution: Float64Array;
 
@@ -89,6 +91,7 @@ export class NetworkTangents {
     this.options = { jacobian: true, freezeHoldup: false, withComposition, anchor: x.slice(), compositionPull: COMPOSITION_PULL * this.flowScale };
     this.eq.evaluate(x, this.options);
     this.atSolution = this.eq.F.slice();
+    this.plainFlowAt = this.eq.plainFlow.slice();
     const jacobian = this.eq.builder.toCsc();
     this.factor = workspace ? workspace.factors.factor(jacobian) : factorize(jacobian, 'sparse');
     this.options = { ...this.options, jacobian: false };
@@ -96,22 +99,53 @@ export class NetworkTangents {
 
   /** The tangent of the solution along one setting. */
   tangent(setting: PortSetting): Tangent {
-    const { eq, x } = this;
-    const port = eq.net.ports[setting.port]!;
+    const port = this.eq.net.ports[setting.port]!;
     if (setting.quantity === 'pressure' && port.fixed === undefined) throw new RangeError(`port ${setting.port} has no fixed pressure`);
-    const h = STEP * (setting.quantity === 'pressure' ? eq.pressureScale : Math.max(Math.abs(port.injection), this.flowScale));
+    const h = STEP * (setting.quantity === 'pressure' ? this.eq.pressureScale : Math.max(Math.abs(port.injection), this.flowScale));
+    const fixedPort = setting.quantity === 'pressure' ? setting.port : undefined;
+    return this.along(() => this.evaluateAt(this.x, setting, h).F, h, fixedPort);
+  }
+
+  /**
+   * The tangent of the solution along a change of plain elements' conductances: element
+   * `plain` has its conductance 1/r0 scaled by 1 + t·logSlope (d ln g/dt = logSlope), for a
+   * design variable t that widens or lengthens its segments. F is linear in a plain element's
+   * conductance at fixed unknowns (Q = g·Δp/μ), so the forward difference is exact but for
+   * rounding, as for a setting. The flows along the tangent include the direct change
+   * g·logSlope·(Δp/μ)·… of the changed elements themselves (Q·logSlope).
+   */
+  conductanceTangent(changes: ReadonlyArray<{ plain: number; logSlope: number }>): Tangent {
+    const h = STEP;
+    const plains = this.eq.net.plains;
+    const tangent = this.along(() => {
+      const saved = changes.map((c) => plains[c.plain]!.r0);
+      try {
+        for (const c of changes) plains[c.plain]!.r0 /= 1 + h * c.logSlope;
+        this.eq.evaluate(this.x, this.options);
+      } finally {
+        changes.forEach((c, i) => (plains[c.plain]!.r0 = saved[i]!));
+      }
+      return this.eq.F;
+    }, h);
+    for (const c of changes) tangent.plainFlow[c.plain] += this.plainFlowAt[c.plain]! * c.logSlope;
+    tangent.outflow = plainOutflow(this.eq.net, tangent.plainFlow);
+    return tangent;
+  }
+
+  /** dv = −J⁻¹·∂F/∂θ from F evaluated with θ moved by h (`moved`), and the tangent it gives. */
+  private along(moved: () => Float64Array, h: number, fixedPort?: number): Tangent {
+    const { eq, x } = this;
     // ∂F/∂θ by a forward difference in θ at fixed unknowns (exact for these linear entries).
-    const plus = this.evaluateAt(x, setting, h).F;
+    const plus = moved();
     const rhs = new Float64Array(x.length);
     for (let i = 0; i < rhs.length; i++) rhs[i] = -(plus[i]! - this.atSolution[i]!) / h;
     const dx = this.factor.solve(rhs);
 
     // The flows along the tangent, from the element laws' own slopes (a difference of flows
     // would lose digits: a manifold's flow is a small difference of large pressures).
-    eq.evaluate(x, { ...this.options, direction: { dv: dx, fixedPort: setting.quantity === 'pressure' ? setting.port : undefined } });
+    eq.evaluate(x, { ...this.options, direction: { dv: dx, fixedPort } });
     const { alphaAt, leakAt, unknownOf } = eq.map;
-    const own = setting.quantity === 'pressure' ? 1 : 0;
-    const pressure = Float64Array.from(unknownOf, (u, i) => (u >= 0 ? dx[u]! : i === setting.port ? own : 0));
+    const pressure = Float64Array.from(unknownOf, (u, i) => (u >= 0 ? dx[u]! : i === fixedPort ? 1 : 0));
     const plainFlow = eq.flowTangent.plain.slice();
     return {
       pressure,
