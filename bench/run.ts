@@ -19,6 +19,7 @@ import { benchSparseLu } from './sparseLu.js';
 import { benchMaldistribution } from './maldistribution.js';
 import { benchScale } from './scale.js';
 import { benchLiveReport } from './liveReport.js';
+import { benchDesign } from './design.js';
 
 interface Benchmark {
   name: string;
@@ -37,6 +38,7 @@ const BENCHMARKS: Benchmark[] = [
   { name: 'scale', run: benchScale },
   { name: 'extraction', run: benchExtraction },
   { name: 'tolerance', run: benchTolerance },
+  { name: 'design', run: benchDesign },
   { name: 'window', run: benchWindow },
 ];
 

@@ -13,13 +13,15 @@
  *   limit by how much the leak ℓ pushes, so a leaking split is driven back inside; w_s its
  *   window, m_s the margin), throughput and ratio at their targets, inlets below the rating,
  *   and the bounds of the rules.
- * Method: a Gauss–Newton trust-region Sℓ1QP (Fletcher, Practical Methods of Optimization, 1987,
- * §12.4; Nocedal & Wright, Numerical Optimization, 2006, §18.5): each step minimises the model
- * ½‖r + R·d‖² + μ·Σ violation of the linearised rows in a box (elasticQp.ts); the step is taken
- * where the ℓ1 merit ½‖r‖² + μ·Σ violation falls by at least a tenth of what the model
- * predicted, the box grows or shrinks with that ratio, and μ stays above twice the largest
- * multiplier (the exact-penalty condition). Gauss–Newton because the residual is small at a
- * good design, where its Hessian term vanishes.
+ * Method: a Gauss–Newton SQP on the ℓ∞ exact penalty function (Sℓ∞QP: Fletcher, Practical
+ * Methods of Optimization, 1987, §12.3–12.4; Yuan, 1995, Math. Programming 69:49): each step
+ * minimises the model ½‖r + R·d‖² + μ·(largest violation of the linearised rows) within the
+ * rules' bounds, with a Levenberg–Marquardt term λ‖d‖² as its trust region (Moré, 1978, Lecture
+ * Notes in Math. 630:105; elasticQp.ts); the step is taken where the merit ½‖r‖² + μ·(largest
+ * violation) falls by at least a tenth of what the model predicted, λ falls or rises with that
+ * ratio, μ is steered up while violations remain, and a second-order correction follows a step
+ * refused because the rows curve. Gauss–Newton because the residual is small at a good design,
+ * where its Hessian term vanishes.
  * Sensitivities: forward, dv/dy = −J⁻¹·∂F/∂y with the factored Jacobian of the converged solve
  * (solver/sensitivity.ts), one linear solve per variable, not finite differences of whole solves:
  * the variables (a few groups, or one per segment of a taper) are fewer than the outputs (two
@@ -99,14 +101,21 @@ const TARGET_TOLERANCE = 1e-6;
 const ROW_TOLERANCE = 1e-9;
 /** A row within this fraction of its window of its limit is reported as binding. */
 const ACTIVE_ROW = 1e-4;
-/** Starting box of a step: ±0.25 in ln-factor (±28 %), and a quarter of the setting's scale. */
-const FIRST_RADIUS = 0.25;
-const SMALLEST_RADIUS = 1e-7;
+/**
+ * The Levenberg–Marquardt weight λ of a step, relative to the largest curvature of the model: it
+ * starts at a tenth (a step a little shorter than Gauss–Newton's), falls fourfold after a step
+ * the merit confirms well and rises fourfold after one it refuses; past the largest, no step
+ * is short enough to help.
+ */
+const FIRST_WEIGHT = 0.1;
+const SMALLEST_WEIGHT = 1e-12;
+const LARGEST_WEIGHT = 1e8;
 const FIRST_PENALTY = 10;
 const LARGEST_PENALTY = 1e8;
 /** ln-step of the central difference of a section's conductance in its width. */
 const WIDTH_STEP = 1e-4;
 const DEFAULT_ITERATIONS = 80;
+const TRIAL_ITERATIONS = 60;
 
 interface Row {
   kind: RowKind;
@@ -142,12 +151,13 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
     return m;
   });
 
-  // Free settings on a scale of their own: pressures on the largest set pressure, flows on their value.
+  // Free settings on a scale of their own: pressures on the highest pressure of the chip as
+  // solved (an outlet's back-pressure may be 0 and a pump-fed chip sets no inlet pressure),
+  // flows on their value.
   const settingScale = (f: Freedom) => {
-    const node = base.nodes.find((n) => n.id === f.setting.node)!;
+    const node = base.nodes.find((x) => x.id === f.setting.node)!;
     if (f.setting.quantity === 'flow') return node.kind === 'inlet' && node.flow ? node.flow : 1e-12;
-    const pressures = base.nodes.flatMap((n) => (n.kind === 'inlet' && n.pressure !== undefined ? [Math.abs(n.pressure)] : []));
-    return Math.max(1, max(pressures) ?? 0);
+    return Math.max(1, before.result.summary.maxPressure);
   };
   const settingBase = settings.map((f) => settingOf(base, f.setting));
   const scales = settings.map(settingScale);
@@ -179,10 +189,14 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
     return measured(solved, along, { contactorPorts, phaseOfPort, margins, targets });
   };
 
+  // A trial design is solved from the design it steps from, one attempt of a few dozen steps: a
+  // trial that does not settle so is a step too long, and a shorter one is cheaper than the
+  // solver's cold starts (the merit's ratio test then refuses it as it would a bad one).
+  const trialSolver: SolverOptions = { ...spec.solver };
   let y = new Float64Array(n);
   let current = measure(before);
   let penalty = FIRST_PENALTY;
-  let radius = FIRST_RADIUS;
+  let weight = FIRST_WEIGHT;
   let iterations = 0;
   const limit = spec.maxIterations ?? DEFAULT_ITERATIONS;
   for (; iterations < limit; iterations++) {
@@ -190,21 +204,21 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
     // Steering the penalty (Byrd, Nocedal & Waltz, 2008, SIAM J. Optim. 19:351, from memory):
     // while the rows are violated, a step must remove a tenth of the violation its model can
     // remove, else μ grows tenfold, up to a point past which the rows cannot be helped.
-    let step = stepFrom(current, y, lower, upper, radius, penalty);
+    let step = stepFrom(current, y, lower, upper, weight, penalty);
     const violated = violationOf(current.rows, zeros(n));
     while (violated > 0 && penalty < LARGEST_PENALTY && violated - violationOf(current.rows, step.d) < 0.1 * violated) {
       penalty *= 10;
-      step = stepFrom(current, y, lower, upper, radius, penalty);
+      step = stepFrom(current, y, lower, upper, weight, penalty);
     }
     const merit = meritOf(current, penalty);
     const predicted = merit - modelAt(current, step.d, penalty);
     if (!(predicted > 1e-15 * Math.max(1, merit))) break;
     const trialY = y.map((v, k) => v + step.d[k]!);
-    const trial = solveChip(chipAt(trialY), spec.solver, warmStartFrom(current.solved), current.solved.workspace);
+    const trial = solveChip(chipAt(trialY), trialSolver, warmStartFrom(current.solved), current.solved.workspace);
     solves++;
     if (!trial.raw.converged) {
-      radius *= 0.25;
-      if (radius < SMALLEST_RADIUS) break;
+      weight *= 4;
+      if (weight > LARGEST_WEIGHT) break;
       continue;
     }
     let next = measure(trial);
@@ -212,7 +226,7 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
     let taken = trialY;
     if (ratio <= 0.1 && violationOf(next.rows, []) > violationOf(current.rows, step.d)) {
       // Second-order correction (Fletcher, 1987, §14.4; Nocedal & Wright, 2006, §18.5,
-      // from memory): the rows curve, so a step along them is refused by the ℓ1 merit
+      // from memory): the rows curve, so a step along them is refused by the ℓ∞ merit
       // (the Maratos effect); shift each linearised row by its miss at the trial point and
       // step again from here.
       const rows = current.rows.map((row, r) => {
@@ -220,9 +234,9 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
         for (let k = 0; k < n; k++) linear += row.gradient[k]! * step.d[k]!;
         return { ...row, value: next.rows[r]!.value - linear };
       });
-      const corrected = stepFrom({ ...current, rows }, y, lower, upper, radius, penalty);
+      const corrected = stepFrom({ ...current, rows }, y, lower, upper, weight, penalty);
       const correctedY = y.map((v, k) => v + corrected.d[k]!);
-      const second = solveChip(chipAt(correctedY), spec.solver, warmStartFrom(current.solved), current.solved.workspace);
+      const second = solveChip(chipAt(correctedY), trialSolver, warmStartFrom(current.solved), current.solved.workspace);
       solves++;
       if (second.raw.converged) {
         const measuredSecond = measure(second);
@@ -230,14 +244,13 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
         if (ratioSecond > ratio) [next, ratio, taken] = [measuredSecond, ratioSecond, correctedY];
       }
     }
-    const longest = max(step.d, Math.abs) ?? 0;
     if (ratio > 0.1) {
       y = taken;
       current = next;
-      if (ratio > 0.75 && longest > 0.9 * radius) radius *= 2;
+      if (ratio > 0.75) weight = Math.max(SMALLEST_WEIGHT, weight / 4);
     } else {
-      radius = 0.25 * longest;
-      if (radius < SMALLEST_RADIUS) break;
+      weight *= 4;
+      if (weight > LARGEST_WEIGHT) break;
     }
   }
 
@@ -429,16 +442,16 @@ function zeros(n: number): Float64Array {
 }
 
 /**
- * Σ violation of the rows linearised at step d (d = 0: the rows themselves), each beyond its
- * tolerance only: a row met to rounding adds nothing, or its noise times a large μ would
- * swamp the merit's decrease near a good design.
+ * The largest violation of the rows linearised at step d (d = 0: the rows themselves), each
+ * beyond its tolerance only: a row met to rounding counts nothing, or its noise times a large μ
+ * would swamp the merit's decrease near a good design.
  */
 function violationOf(rows: Row[], d: ArrayLike<number>): number {
   let violation = 0;
   for (const row of rows) {
     let v = row.value;
     for (let k = 0; k < d.length; k++) v += row.gradient[k]! * d[k]!;
-    violation += Math.max(0, (row.equality ? Math.abs(v) : -v) - toleranceOf(row));
+    violation = Math.max(violation, (row.equality ? Math.abs(v) : -v) - toleranceOf(row));
   }
   return violation;
 }
@@ -453,7 +466,7 @@ function meritOf(m: Measured, penalty: number): number {
   return 0.5 * sum + penalty * violationOf(m.rows, []);
 }
 
-/** The model of the merit at step d: ½‖r + R·d‖² + μ·Σ violation of the linearised rows. */
+/** The model of the merit at step d: ½‖r + R·d‖² + μ·(largest violation of the linearised rows). */
 function modelAt(m: Measured, d: ArrayLike<number>, penalty: number): number {
   let sum = 0;
   for (let i = 0; i < m.residual.length; i++) {
@@ -464,7 +477,8 @@ function modelAt(m: Measured, d: ArrayLike<number>, penalty: number): number {
   return 0.5 * sum + penalty * violationOf(m.rows, d);
 }
 
-function stepFrom(m: Measured, y: Float64Array, lower: number[], upper: number[], radius: number, penalty: number) {
+/** The step of the model with its Hessian H + λ·max(diag H)·I, within the rules' bounds. */
+function stepFrom(m: Measured, y: Float64Array, lower: number[], upper: number[], weight: number, penalty: number) {
   const n = y.length;
   const hessian: number[][] = [];
   const gradient = new Float64Array(n);
@@ -482,13 +496,16 @@ function stepFrom(m: Measured, y: Float64Array, lower: number[], upper: number[]
       hessian[b]![a] = h;
     }
   }
+  let largest = 0;
+  for (let a = 0; a < n; a++) largest = Math.max(largest, hessian[a]![a]!);
+  for (let a = 0; a < n; a++) hessian[a]![a] += weight * Math.max(largest, 1e-300);
   const rows: LinearRow[] = m.rows.map((row) => ({ a: row.gradient, b: -row.value, equality: row.equality }));
   return elasticStep({
     hessian,
     gradient,
     rows,
-    lower: Array.from(y, (v, k) => Math.max(lower[k]! - v, -radius)),
-    upper: Array.from(y, (v, k) => Math.min(upper[k]! - v, radius)),
+    lower: Array.from(y, (v, k) => lower[k]! - v),
+    upper: Array.from(y, (v, k) => upper[k]! - v),
     penalty,
   });
 }

@@ -17,7 +17,11 @@ import { designHeader, designText } from '../render/designText.js';
 import { parseQuantity } from '../units/quantity.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { collect, freedomOption, linearOption, numberOption, quantityOption, type LinearSolver } from './options.js';
-import { outputFile, writeOutputs } from './io.js';
+import { outputFile, writeOutputs, type Output } from './io.js';
+import { liveReport } from './pageScript.js';
+import { chipReport } from '../render/report.js';
+import { designCharts } from '../render/designCharts.js';
+import { findManifolds } from '../analyses/manifolds.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 import { StratiflowError, optionError } from '../errors.js';
 import type { ChipSegment } from '../network/model.js';
@@ -32,6 +36,7 @@ interface DesignOptions {
   maxWidth: string;
   maxLengthen: string;
   out?: string;
+  report?: string;
   json?: boolean;
   linear: string;
 }
@@ -96,6 +101,7 @@ export function registerDesign(program: Command, context: CommandContext): void 
     .option('--max-width <length>', 'widest channel allowed (common practice default)', '1mm')
     .option('--max-lengthen <factor>', 'longest a varied length may grow, as a multiple of its length as laid out', '10')
     .option('--out <file>', 'designed layout to write (default: beside the layout, with -designed in its name)')
+    .option('--report <file>', 'also write an HTML report: the design, the chip before and after, flows and widths, and the live operating point of the designed chip')
     .option('--json', 'print one JSON object (SI units) instead of the tables')
     .addOption(linearOption())
     .action((file: string, o: DesignOptions) => {
@@ -115,6 +121,7 @@ export function registerDesign(program: Command, context: CommandContext): void 
       const rules = { ...DESIGN_DEFAULTS, minWidth, maxWidth, maxLengthFactor };
       const ext = extname(file);
       const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-designed${ext || '.yaml'}`), '--out');
+      const report = o.report === undefined ? undefined : outputFile(o.report, '--report');
       let result: DesignResult;
       try {
         result = designChip(chip, {
@@ -132,7 +139,12 @@ export function registerDesign(program: Command, context: CommandContext): void 
       }
       if (result.met) {
         const text = editedLayoutText(readLayoutText(file), out.endsWith('.json'), editsOf(result), designHeader(result));
-        writeOutputs([{ path: out, option: '--out', content: text }]);
+        const files: Output[] = [{ path: out, option: '--out', content: text }];
+        if (report) {
+          const analysis = { title: 'Design', text: designText(result, out), charts: designCharts(result), note: `The chip below is the designed layout ${out}; its live operating point starts at the designed settings.` };
+          files.push({ path: report, option: '--report', content: chipReport(result.after, findManifolds(result.after), { analysis, live: liveReport({ text, source: out }, result.after.result) }) });
+        }
+        writeOutputs(files);
       }
       if (o.json) {
         const { before, after, chip: _designed, ...rest } = result;

@@ -44,7 +44,7 @@ export interface ReportOptions {
    * its text as the command prints it, its charts, and a sentence on how it relates to the live
    * part. Shown before the operating point.
    */
-  analysis?: { title: string; text: string; charts?: Array<{ id: string; svg: string }>; note?: string };
+  analysis?: { title: string; text: string; charts?: Array<{ id: string; svg: string; caption?: string }>; note?: string };
 }
 
 const STYLE = `
@@ -158,7 +158,7 @@ function analysisSection(analysis: NonNullable<ReportOptions['analysis']>): stri
   out.push(`<pre class="analysis">${esc(analysis.text)}</pre>`);
   if (analysis.charts && analysis.charts.length > 0) {
     out.push('<div class="charts">');
-    for (const chart of analysis.charts) out.push(`<figure class="chart" id="analysis-${esc(chart.id)}">${chart.svg}</figure>`);
+    for (const chart of analysis.charts) out.push(`<figure class="chart" id="analysis-${esc(chart.id)}">${chart.caption ? `<figcaption>${esc(chart.caption)}</figcaption>` : ''}${chart.svg}</figure>`);
     out.push('</div>');
   }
   return out;

@@ -6,7 +6,7 @@
  * dye-extraction demo (an invented scenario).
  */
 import { describe, expect, it } from 'vitest';
-import { copyFileSync, existsSync, mkdtempSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdtempSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -35,6 +35,16 @@ describe('stratiflow design', () => {
     expect(result.splits.every((s) => s.state === 'pinned')).toBe(true);
     // Each changed segment says so in its note.
     expect(designed.segments.find((s) => s.id === 'fA1')!.note).toMatch(/^designed: width 120 → [\d.]+ um$/);
+  });
+
+  it('writes with --report a self-contained page with the design, the chip before and after, the flows and widths, and the live operating point', async () => {
+    const report = join(dir, 'design.html');
+    const { code } = await runCli(['design', file, '--vary', 'feed.widths', '--vary', 'drain.widths', '--vary', 'outB.pressure', '--flow-cv', '0.2%', '--out', join(dir, 'reported.yaml'), '--report', report]);
+    expect(code).toBe(0);
+    const html = readFileSync(report, 'utf8');
+    for (const id of ['analysis-before', 'analysis-after', 'analysis-flows', 'analysis-widths']) expect(html).toContain(`id="${id}"`);
+    expect(html).toContain('data-setting="outB.pressure"');
+    expect(html).not.toMatch(/<script[^>]+src=/);
   });
 
   it('prints what binds, writes nothing and ends with exit status 3 when the design falls short', async () => {
