@@ -211,7 +211,8 @@ export function curvedFlowsAtChord(profile: WallProfile, xe: number, curvature: 
   return { qA: r.qA, qB: r.qB };
 }
 
-export interface CurvedFlow {
+/** Flows of a curved interface and their slopes (also what curvedTable.ts interpolates). */
+export interface CurvedFlows {
   /** Flow of each phase per unit pressure gradient, m⁴/(Pa·s). */
   kA: number;
   kB: number;
@@ -221,6 +222,9 @@ export interface CurvedFlow {
   /** d/dκ at fixed holdup, m⁵/(Pa·s). */
   dkADCurvature: number;
   dkBDCurvature: number;
+}
+
+export interface CurvedFlow extends CurvedFlows {
   /** Chord abscissa of the arc, m. */
   chord: number;
 }

@@ -14,6 +14,7 @@
  * would force its flow to jump as τ → 0).
  */
 import { laneConductances, type LaneConductances } from '../physics/lanes.js';
+import { curvedLaneConductances } from '../physics/curvedLanes.js';
 import { SectionTables } from './sectionTables.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { TripletBuilder } from './sparseMatrix.js';
@@ -98,7 +99,7 @@ export class NetworkEquations {
   private readonly muB: number;
   private readonly rowTarget: Int32Array;
   private readonly rowFactor: Float64Array;
-  private readonly laneMemo: Array<{ alpha: number; muN: number; muF: number; slopes: boolean; k: LaneConductances } | undefined>;
+  private readonly laneMemo: Array<{ alpha: number; muN: number; muF: number; curvature: number; slopes: boolean; k: LaneConductances } | undefined>;
 
   private readonly tables: SectionTables;
 
@@ -178,15 +179,19 @@ export class NetworkEquations {
    * dear end of the series.
    */
   lanes(c: number, alpha: number, muN: number, muF: number, slopes: boolean): LaneConductances {
-    const memo = this.laneMemo[c];
-    if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF && (memo.slopes || !slopes)) return memo.k;
     const el = this.net.contactors[c]!;
+    const curvature = el.curvature;
+    const memo = this.laneMemo[c];
+    if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF && memo.curvature === curvature && (memo.slopes || !slopes)) return memo.k;
     const section = el.section;
-    const k =
+    const flat =
       section.shape === 'rect'
         ? laneConductances(el.across, el.along, alpha, muN, muF, slopes)
         : this.tables.lanes(section, this.muA, this.muB).conductances(alpha, muN, muF, slopes);
-    this.laneMemo[c] = { alpha, muN, muF, slopes, k };
+    // A curved interface: the flat lanes times the arc's factor, at the phases' own viscosities.
+    const nearIsA = this.net.ports[el.nearIn]!.nominal >= 0.5;
+    const k = curvature === 0 ? flat : curvedLaneConductances(flat, this.tables.curved(section, nearIsA ? this.muA : this.muB, nearIsA ? this.muB : this.muA), alpha, curvature);
+    this.laneMemo[c] = { alpha, muN, muF, curvature, slopes, k };
     return k;
   }
 
