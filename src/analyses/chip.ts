@@ -83,6 +83,8 @@ export interface ContactorResult {
   bond: number | null;
   /** With a curved interface: the holdup of A the flat interface gives (the same chip solved flat), and the arc's curvature, 1/m (positive: bulging into the near lane). */
   holdupFlatA?: number;
+  /** holdupA − holdupFlatA. */
+  holdupShiftA?: number;
   interfaceCurvature?: number;
 }
 
@@ -227,6 +229,7 @@ function curvedRows(network: Network, raw: NetworkSolution, curved: CurvedInterf
     row.holdupFlatA = nearIsA ? flat : 1 - flat;
     row.interfaceCurvature = curved.curvature[c]!;
     const shift = row.holdupA - row.holdupFlatA;
+    row.holdupShiftA = shift;
     if (!largest || Math.abs(shift) > Math.abs(largest.shift)) largest = { contactor: row.id, shift };
   });
   return { rounds: curved.rounds, settled: curved.settled, largestShift: largest, held: curved.held.map((c) => network.contactors[c]!.segment.id) };
