@@ -90,6 +90,8 @@ export interface ContactorResult {
 
 /** With a curved interface: how the outer iteration on the curvatures went and how far the holdups moved. */
 export interface CurvedInterfaceSummary {
+  /** `newton`: Δ coupled into the Newton solve settled it; `fixed-point`: the outer iteration on the curvatures did (rounds of it). */
+  method: 'newton' | 'fixed-point';
   rounds: number;
   settled: boolean;
   /** The contactor whose holdup of A moved most against the flat interface, and by how much (holdup − flat holdup). */
@@ -232,12 +234,12 @@ function curvedRows(network: Network, raw: NetworkSolution, curved: CurvedInterf
     row.holdupShiftA = shift;
     if (!largest || Math.abs(shift) > Math.abs(largest.shift)) largest = { contactor: row.id, shift };
   });
-  return { rounds: curved.rounds, settled: curved.settled, largestShift: largest, held: curved.held.map((c) => network.contactors[c]!.segment.id) };
+  return { method: curved.method, rounds: curved.rounds, settled: curved.settled, largestShift: largest, held: curved.held.map((c) => network.contactors[c]!.segment.id) };
 }
 
 function curvedWarnings(summary: CurvedInterfaceSummary, curved: CurvedInterfaceResult): string[] {
   const lines: string[] = [];
-  if (!summary.settled) lines.push(`curved interface: the curvatures did not settle in ${summary.rounds} rounds (last change of κ·depth/2: ${curved.lastChange.toPrecision(2)}); the holdups are those of the last round`);
+  if (!summary.settled) lines.push(`curved interface: the coupled solve did not settle, nor did the curvatures in ${summary.rounds} rounds of the fixed point (last change of κ·depth/2: ${curved.lastChange.toPrecision(2)}); the holdups are those of the last round`);
   if (summary.held.length > 0) lines.push(`curved interface: the arc in ${summary.held.join(', ')} is beyond a half-angle of 64° (|κ|·depth/2 > 0.9) and is held there; the interface there may not span the channel`);
   return lines;
 }

@@ -78,6 +78,12 @@ export interface Network {
   splits: SplitElement[];
   /** Port indices of each node: [single] or [near, far]. */
   portsOf: Map<string, number[]>;
+  /**
+   * Set (N/m) while a curved interface is solved with Newton coupling: every contactor's
+   * curvature is then Δ/γ of the iterate, a dependence of its lanes (solver/assembly.ts).
+   * Set and cleared by solver/curvedInterface.ts, never by the layout.
+   */
+  curvedTension?: number;
 }
 
 export function assembleNetwork(chip: Chip): Network {

@@ -4,8 +4,8 @@
  * the arc's factor on each lane. Exports `curvedLaneConductances`. SI units; no I/O.
  *
  * Factor: F_i(α, κ) = T_i(α, κ)/T_i(α, 0), T the curved table at the contactor's phase
- * viscosities (near lane the phase left of the interface). κ = 0 gives F = 1 exactly, so the
- * flat lanes are kept to the bit. The factor is taken at the pure phases' viscosities also for
+ * viscosities (near lane the phase left of the interface). κ = 0 gives F = 1 exactly (the same
+ * interpolant twice), so the flat lanes are kept to the bit, with the slope in κ there. The factor is taken at the pure phases' viscosities also for
  * a lane of mixed composition (the viscosity dependence of the arc's effect is left out there;
  * mixed lanes arise only where a split leaks or a feed starves), and at α = 0 and 1 (one phase
  * fills the channel) it is 1. Slopes: d(kF)/dα = k′F + kF′, ∂(kF)/∂κ = k ∂F/∂κ, the viscosity
@@ -21,7 +21,7 @@ export interface CurvedLaneConductances extends LaneConductances {
 }
 
 export function curvedLaneConductances(flat: LaneConductances, table: CurvedTable, holdup: number, curvature: number): CurvedLaneConductances {
-  if (curvature === 0 || holdup <= 0 || holdup >= 1) return { ...flat, dkNearDCurvature: 0, dkFarDCurvature: 0 };
+  if (holdup <= 0 || holdup >= 1) return { ...flat, dkNearDCurvature: 0, dkFarDCurvature: 0 };
   const curved = table.flowsAt(holdup, curvature);
   const base = table.flowsAt(holdup, 0);
   const factor = (k: number, k0: number) => (k0 > 0 ? k / k0 : 1);

@@ -107,7 +107,8 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   if (curved) {
     const largest = curved.largestShift;
     const shift = largest ? `largest holdup shift against the flat interface ${signed(largest.shift)} (${largest.contactor})` : 'no contactors';
-    out.push(`  curved interface          ${shift}; ${curved.rounds} round${curved.rounds === 1 ? '' : 's'} after the flat solve, ${curved.settled ? 'settled' : 'NOT settled'}`);
+    const how = curved.method === 'newton' ? 'Δ coupled into the Newton solve after the flat one' : `${curved.rounds} round${curved.rounds === 1 ? '' : 's'} of the fixed point on the curvatures after the flat solve`;
+    out.push(`  curved interface          ${shift}; ${how}, ${curved.settled ? 'settled' : 'NOT settled'}`);
   }
   out.push('');
   if (hold) out.push(...holdLines(hold), '');

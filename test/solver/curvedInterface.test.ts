@@ -11,6 +11,11 @@ import { parseLayout } from '../../src/layout/load.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { curvedTwoLayerFlow } from '../../src/physics/curvedSection.js';
 import { CurvedTable } from '../../src/physics/curvedTable.js';
+import { assembleNetwork } from '../../src/network/assemble.js';
+import { solveCurvedInterface } from '../../src/solver/curvedInterface.js';
+import { NetworkEquations } from '../../src/solver/assembly.js';
+import { UnknownMap } from '../../src/solver/unknowns.js';
+import { unknownsOf } from '../../src/solver/newton.js';
 import type { RectSection } from '../../src/physics/section.js';
 import type { Chip } from '../../src/network/model.js';
 
@@ -43,6 +48,20 @@ describe('interface: curved on the aqueous two-phase chip', () => {
       // error (k within about 5e-6 of the total flow, measured) on both lanes.
       expect(Math.abs(row.flowA / (row.flowA + row.flowB) - direct.kA / (direct.kA + direct.kB))).toBeLessThan(2e-5);
     }
+  });
+
+  it('settles by the coupled Newton solve, in a few steps, at the answer of the outer fixed point on the curvatures', () => {
+    const summary = curved.result.summary.curvedInterface!;
+    expect(summary.method).toBe('newton');
+    // Newton with the consistent ∂k/∂κ·∂κ/∂p from the flat solution: a handful of steps (measured 2).
+    expect(curved.raw.iterations).toBeLessThanOrEqual(6);
+    const chip = load(curvedText());
+    const network = assembleNetwork(chip);
+    const fixedPoint = solveCurvedInterface(network, chip.interfacialTension!, {}, undefined, undefined, false);
+    expect(fixedPoint.curved.method).toBe('fixed-point');
+    expect(fixedPoint.curved.settled).toBe(true);
+    // Both settle to the network's tolerance (1e-12 of the throughput); holdups agree to 1e-10.
+    fixedPoint.raw.holdup.forEach((alpha, c) => expect(Math.abs(alpha - curved.raw.holdup[c]!)).toBeLessThan(1e-10));
   });
 
   it('names the contactor whose holdup moved most against the flat interface', () => {
@@ -88,6 +107,54 @@ describe('CurvedTable', () => {
       const dk = (2 * h) / 50e-6;
       const dKappa = (table.flowsAt(alpha, kappa + dk).kB - table.flowsAt(alpha, kappa - dk).kB) / (2 * dk);
       expect(Math.abs(got.dkBDCurvature - dKappa) / Math.abs(dKappa)).toBeLessThan(1e-5);
+    }
+  });
+});
+
+describe('NetworkEquations with a curved interface coupled into Newton', () => {
+  it('has a Jacobian equal to central differences of its residual in the port pressures, the arc’s ∂k/∂κ·∂κ/∂p included', () => {
+    // Consistency of the Newton Jacobian with its residual (what quadratic convergence needs).
+    // Near the curved solution, with every contactor's κ from the iterate: the columns of the
+    // four end ports of one contactor (which κ = Δ/γ reads; without the coupling terms their
+    // lane rows miss ∂k/∂κ·∂κ/∂p and fail by 1e6× the tolerance, tried) against
+    // (F(v + h e_j) − F(v − h e_j))/2h, h = 1e-4 Pa (the residual is smooth in the
+    // pressures away from the splits' switching points; truncation ~h²·F''' ≪ the tolerance
+    // of 1e-6 of the column's largest entry, which leaves room for the table's rounding).
+    const chip = load(curvedText());
+    const net = assembleNetwork(chip);
+    const solved = solveCurvedInterface(net, chip.interfacialTension!);
+    net.curvedTension = chip.interfacialTension!;
+    const map = new UnknownMap(net);
+    const eq = new NetworkEquations(net, map);
+    const { x, withComposition } = unknownsOf(eq, solved.raw);
+    // Move every pressure a little off the solution so that no lane sits at its converged drop.
+    for (const [i, u] of map.unknownOf.entries()) if (u >= 0) x[u] = x[u]! + 0.3 * Math.sin(i);
+    const options = { jacobian: true, freezeHoldup: false, withComposition, anchor: x, compositionPull: 0 } as const;
+    eq.evaluate(x, options);
+    const J = eq.builder.toCsc();
+    const column = (j: number) => {
+      const dense = new Float64Array(map.size);
+      for (let p = J.colPtr[j]!; p < J.colPtr[j + 1]!; p++) dense[J.rowIdx[p]!] += J.values[p]!;
+      return dense;
+    };
+    const h = 1e-4;
+    const c0 = net.contactors[3]!;
+    const pressureColumns = [c0.nearIn, c0.farIn, c0.nearOut, c0.farOut].map((port) => map.unknownOf[port]!).filter((u) => u >= 0);
+    expect(pressureColumns.length).toBeGreaterThan(0);
+    for (const j of pressureColumns) {
+      const want = column(j);
+      const up = Float64Array.from(x);
+      up[j] = up[j]! + h;
+      eq.evaluate(up, { ...options, jacobian: false });
+      const fUp = Float64Array.from(eq.F);
+      const down = Float64Array.from(x);
+      down[j] = down[j]! - h;
+      eq.evaluate(down, { ...options, jacobian: false });
+      const scale = want.reduce((m, v) => Math.max(m, Math.abs(v)), 0);
+      for (let i = 0; i < map.size; i++) {
+        const fd = (fUp[i]! - eq.F[i]!) / (2 * h);
+        expect(Math.abs(fd - want[i]!)).toBeLessThan(1e-6 * scale);
+      }
     }
   });
 });
