@@ -13,7 +13,7 @@
  * [−asin 0.9, asin 0.9], each built only when a curvature in it is first asked for. A holdup α
  * at curvature κ is turned into α_c by the arc's geometry (arcChord), and
  *   ∂k/∂α|κ = (∂k/∂α_c)/(∂α/∂α_c),  ∂k/∂κ|α = ∂k/∂θ·dθ/dκ − (∂k/∂α_c)(∂α/∂κ|α_c)/(∂α/∂α_c),
- * with the geometric derivatives of α by central differences (steps 1e-7: error ~1e-9).
+ * with the geometric derivatives of α by central differences in the chord (steps 1e-7: error ~1e-9).
  * Beyond |κ|D/2 = CURVATURE_LIMIT the curvature is held at the limit (slopes in κ zero there).
  */
 import { CURVATURE_LIMIT, arcChord, holdupOfChord, taperHoldup } from './interfaceArc.js';
@@ -114,16 +114,19 @@ export class CurvedTable {
     const w = (2 * THETA_LIMIT) / CURVED_TABLE.angleStretches;
     const s = Math.min(CURVED_TABLE.angleStretches - 1, Math.max(0, Math.floor((theta + THETA_LIMIT) / w)));
     const u = Math.max(-1, Math.min(1, (2 * (theta + THETA_LIMIT - s * w)) / w - 1));
-    const ac = holdup <= 0 || holdup >= 1 ? holdup : areaLeftOf(p, arcChord(p, holdup, kappa)) / p.area;
+    const edge = holdup <= 0 || holdup >= 1;
+    const xe = edge ? holdup * p.topWidth : arcChord(p, holdup, kappa);
+    const ac = edge ? holdup : areaLeftOf(p, xe) / p.area;
     const [kA, kB, dA, dB, tA, tB] = this.interpolate(s, ac, u);
-    // Geometry of α(α_c, κ): central differences of holdupOfChord (exact functions, step 1e-7).
-    const h = 1e-7;
-    const alphaAt = (c: number, k: number) => (c <= 0 ? 0 : c >= 1 ? 1 : holdupOfChord(p, interfacePosition(p, c), k));
-    const lo = Math.max(0, ac - h);
-    const hi = Math.min(1, ac + h);
-    const dAlphaDChord = (alphaAt(hi, kappa) - alphaAt(lo, kappa)) / (hi - lo);
+    // Geometry of α(α_c, κ): central differences of holdupOfChord in the chord abscissa (α_c is
+    // areaLeftOf(x)/A there; exact functions, steps 1e-7 of the width and of κ: error ~1e-9).
+    const h = 1e-7 * p.topWidth;
+    const lo = Math.max(0, xe - h);
+    const hi = Math.min(p.topWidth, xe + h);
+    const alphaAt = (x: number, k: number) => (x <= 0 ? 0 : x >= p.topWidth ? 1 : holdupOfChord(p, x, k));
+    const dAlphaDChord = (alphaAt(hi, kappa) - alphaAt(lo, kappa)) / ((areaLeftOf(p, hi) - areaLeftOf(p, lo)) / p.area);
     const dk = (kappa === 0 ? 1 : Math.abs(kappa)) * 1e-6;
-    const dAlphaDKappa = (alphaAt(ac, kappa + dk) - alphaAt(ac, kappa - dk)) / (2 * dk);
+    const dAlphaDKappa = edge ? 0 : (alphaAt(xe, kappa + dk) - alphaAt(xe, kappa - dk)) / (2 * dk);
     const dThetaDKappa = (0.5 * p.depth) / Math.cos(theta) / (0.5 * w);
     const curvatureSlope = (t: number, d: number) => (held ? 0 : t * dThetaDKappa - (d * dAlphaDKappa) / dAlphaDChord);
     return { kA, kB, dkA: dA / dAlphaDChord, dkB: dB / dAlphaDChord, dkADCurvature: curvatureSlope(tA, dA), dkBDCurvature: curvatureSlope(tB, dB) };
