@@ -10,6 +10,7 @@ import { formatTable, type Row } from './report.js';
 import { benchSection } from './section.js';
 import { benchShapedSection } from './shapedSection.js';
 import { benchEtchedContactors } from './etchedContactors.js';
+import { benchCurvedInterface } from './curvedInterface.js';
 import { benchRender } from './render.js';
 import { benchNetwork } from './network.js';
 import { benchTolerance } from './tolerance.js';
@@ -30,6 +31,7 @@ const BENCHMARKS: Benchmark[] = [
   { name: 'section', run: benchSection },
   { name: 'shaped-section', run: benchShapedSection },
   { name: 'etched-contactors', run: benchEtchedContactors },
+  { name: 'curved-interface', run: benchCurvedInterface },
   { name: 'render', run: benchRender },
   { name: 'live-report', run: benchLiveReport },
   { name: 'network', run: benchNetwork },

@@ -14,6 +14,8 @@ import { max as maxOf, min as minOf } from 'd3-array';
 import { contactorResults, nodeResults, plainSegmentResults, portResults } from './chipRows.js';
 import { chipWarnings } from './chipWarnings.js';
 import { pressureResolution } from './resolution.js';
+import { solveCurvedInterface, type CurvedInterfaceResult } from '../solver/curvedInterface.js';
+import { StratiflowError } from '../errors.js';
 
 export type LeakState = 'pinned' | 'leaking-A-to-B' | 'leaking-B-to-A';
 
@@ -79,6 +81,23 @@ export interface ContactorResult {
   reynolds: number;
   capillary: number | null;
   bond: number | null;
+  /** With a curved interface: the holdup of A the flat interface gives (the same chip solved flat), and the arc's curvature, 1/m (positive: bulging into the near lane). */
+  holdupFlatA?: number;
+  /** holdupA − holdupFlatA. */
+  holdupShiftA?: number;
+  interfaceCurvature?: number;
+}
+
+/** With a curved interface: how the outer iteration on the curvatures went and how far the holdups moved. */
+export interface CurvedInterfaceSummary {
+  /** `newton`: Δ coupled into the Newton solve settled it; `fixed-point`: the outer iteration on the curvatures did (rounds of it). */
+  method: 'newton' | 'fixed-point';
+  rounds: number;
+  settled: boolean;
+  /** The contactor whose holdup of A moved most against the flat interface, and by how much (holdup − flat holdup). */
+  largestShift: { contactor: string; shift: number } | null;
+  /** Contactors whose arc is beyond the tables' curvature limit (held at it). */
+  held: string[];
 }
 
 export interface Spread {
@@ -100,6 +119,7 @@ export interface ChipSummary {
   maxPressure: number;
   /** The smallest pressure difference the solution resolves, Pa (./resolution.ts): reports print a margin below it as 0. */
   pressureResolution: number;
+  curvedInterface?: CurvedInterfaceSummary;
 }
 
 export interface ChipSolution {
@@ -130,12 +150,27 @@ export interface SolvedChip {
   result: ChipSolution;
   /** The solver workspace of the solve (holdup tables, symbolic factors), for work at its solution. */
   workspace?: SolverWorkspace;
+  /** With a curved interface: the flat holdups and the curvatures (solver/curvedInterface.ts). */
+  curved?: CurvedInterfaceResult;
 }
 
-/** `workspace` carries holdup tables and sparse factors between the solves of a sweep (solver/newton.ts). */
+/**
+ * `workspace` carries holdup tables and sparse factors between the solves of a sweep
+ * (solver/newton.ts). A chip with `interface: curved` is solved by the outer iteration on the
+ * contactors' curvatures (solver/curvedInterface.ts), which starts from the flat solve.
+ */
 export function solveChip(chip: Chip, options: SolverOptions = {}, warm?: WarmStart, workspace?: SolverWorkspace): SolvedChip {
   const network = assembleNetwork(chip);
   const space = workspace ?? new SolverWorkspace();
+  if (chip.interface === 'curved') {
+    for (const el of network.contactors) {
+      if (el.section.shape === 'rect' && el.section.orientation === 'stacked') {
+        throw new StratiflowError('bad-layout', 'a curved interface is modelled for side-by-side layers only; this contactor is stacked', { file: chip.source, element: el.segment.id, field: 'orientation' });
+      }
+    }
+    const { raw, curved } = solveCurvedInterface(network, chip.interfacialTension!, options, warm, space);
+    return { chip, network, raw, result: summariseSolution(network, raw, curved), workspace: space, curved };
+  }
   const raw = solveNetwork(network, options, warm, space);
   return { chip, network, raw, result: summariseSolution(network, raw), workspace: space };
 }
@@ -154,10 +189,11 @@ export function spreadOf(values: number[]): Spread {
   return { min, max, mean, ratio: min !== 0 ? max / min : Infinity, cv: mean !== 0 ? Math.sqrt(variance) / Math.abs(mean) : 0 };
 }
 /** The raw network solution as users read it: the tables (./chipRows.ts), the summary with its spreads, and the warnings (./chipWarnings.ts). */
-export function summariseSolution(network: Network, raw: NetworkSolution): ChipSolution {
+export function summariseSolution(network: Network, raw: NetworkSolution, curved?: CurvedInterfaceResult): ChipSolution {
   const nodes = nodeResults(network, raw);
   const plainSegments = plainSegmentResults(network, raw);
   const { segments: contactorSegments, rows, splits } = contactorResults(network, raw);
+  const curvedInterface = curved ? curvedRows(network, raw, curved, rows) : undefined;
   const ports = portResults(network, raw);
   const maxPressure = maxOf(raw.pressure) ?? -Infinity;
   const warnings = chipWarnings(network, raw, { plainSegments, contactorSegments, rows, splits, inlets: ports.inlets, maxPressure });
@@ -180,9 +216,32 @@ export function summariseSolution(network: Network, raw: NetworkSolution): ChipS
       outlets: ports.outlets,
       maxPressure,
       pressureResolution: pressureResolution({ nodes }),
+      ...(curvedInterface ? { curvedInterface } : {}),
     },
-    warnings,
+    warnings: curvedInterface ? [...warnings, ...curvedWarnings(curvedInterface, curved!)] : warnings,
   };
+}
+
+/** Adds the flat holdup and the curvature to each contactor row; the summary of the curved interface. */
+function curvedRows(network: Network, raw: NetworkSolution, curved: CurvedInterfaceResult, rows: ContactorResult[]): CurvedInterfaceSummary {
+  let largest: CurvedInterfaceSummary['largestShift'] = null;
+  rows.forEach((row, c) => {
+    const nearIsA = raw.laneComposition[2 * c]! >= raw.laneComposition[2 * c + 1]!;
+    const flat = curved.flatHoldup[c]!;
+    row.holdupFlatA = nearIsA ? flat : 1 - flat;
+    row.interfaceCurvature = curved.curvature[c]!;
+    const shift = row.holdupA - row.holdupFlatA;
+    row.holdupShiftA = shift;
+    if (!largest || Math.abs(shift) > Math.abs(largest.shift)) largest = { contactor: row.id, shift };
+  });
+  return { method: curved.method, rounds: curved.rounds, settled: curved.settled, largestShift: largest, held: curved.held.map((c) => network.contactors[c]!.segment.id) };
+}
+
+function curvedWarnings(summary: CurvedInterfaceSummary, curved: CurvedInterfaceResult): string[] {
+  const lines: string[] = [];
+  if (!summary.settled) lines.push(`curved interface: the coupled solve did not settle, nor did the curvatures in ${summary.rounds} rounds of the fixed point (last change of κ·depth/2: ${curved.lastChange.toPrecision(2)}); the holdups are those of the last round`);
+  if (summary.held.length > 0) lines.push(`curved interface: the arc in ${summary.held.join(', ')} is beyond a half-angle of 64° (|κ|·depth/2 > 0.9) and is held there; the interface there may not span the channel`);
+  return lines;
 }
 
 /**

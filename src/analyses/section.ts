@@ -1,13 +1,15 @@
 /**
  * The single-cross-section question: at a given holdup or flow fraction, how do the two phases
  * share a channel? Exports `analyseSection` (typed input → typed summary, SI units) used by the
- * `section` command and by the report. Calls the physics; does no I/O.
+ * `section` command and by the report; with a pressure difference Δ and a tension, the curved
+ * interface (./curvedSection.ts). Calls the physics; does no I/O.
  */
 import { flowFractionAt, holdupForFlowFraction, area, type TwoLayerSection, type TwoPhaseState } from '../physics/section.js';
 import { velocityMaximum, type VelocityMaximum } from '../physics/field.js';
 import { shapedVelocityMaximum } from '../physics/shapedField.js';
 import { interfaceSpan, wallProfileOf } from '../physics/shapedSection.js';
 import { StratiflowError } from '../errors.js';
+import { analyseCurvedSection } from './curvedSection.js';
 
 export interface SectionQuery {
   /** A rectangle, or an etched or trapezoidal section (layers side by side). */
@@ -19,6 +21,26 @@ export interface SectionQuery {
   flowFraction?: number;
   /** Total flow of both phases, m³/s; when given, velocities and gradient are absolute. */
   totalFlow?: number;
+  /** p_B − p_A, Pa, and the interfacial tension, N/m: when given, the interface is the arc of curvature Δ/γ (./curvedSection.ts). */
+  delta?: number;
+  tension?: number;
+}
+
+/** The arc of a curved interface and how far it moved the answer (./curvedSection.ts). */
+export interface CurvedSectionSummary {
+  delta: number;
+  tension: number;
+  /** κ = Δ/γ, 1/m (positive: bulging into A), and κ·depth/2 (the sine of the half-angle over the full depth). */
+  curvature: number;
+  dimensionless: number;
+  /** With a flat interface: the holdup at this flow fraction (or the flow fraction at this holdup). */
+  flatHoldup: number;
+  flatFlowFraction: number;
+  /** With the flow fraction given: holdup − flat holdup; with the holdup given: flow fraction − flat flow fraction. */
+  given: 'holdup' | 'flowFraction';
+  shift: number;
+  /** ∂Q/∂Δ per unit gradient at fixed holdup, m⁴/(Pa²·s). */
+  qPerGradientPerDelta: { a: number; b: number };
 }
 
 export interface SectionSummary {
@@ -40,7 +62,9 @@ export interface SectionSummary {
   gradient: number | null;
   meanVelocity: { a: number; b: number };
   velocityPerGradient: boolean;
-  maximum: VelocityMaximum;
+  /** Null with a curved interface (the velocity field is drawn for the flat interface only). */
+  maximum: VelocityMaximum | null;
+  curvedInterface?: CurvedSectionSummary;
 }
 
 export function analyseSection(query: SectionQuery): SectionSummary {
@@ -63,6 +87,7 @@ export function analyseSection(query: SectionQuery): SectionSummary {
   if (query.holdup !== undefined) check(query.holdup > 0 && query.holdup < 1, 'holdup', 'must lie strictly between 0 and 1');
   if (query.flowFraction !== undefined) check(query.flowFraction > 0 && query.flowFraction < 1, 'flowFraction', 'must lie strictly between 0 and 1');
   if (query.totalFlow !== undefined) check(query.totalFlow > 0, 'totalFlow', 'must be a positive flow');
+  if (query.delta !== undefined) return analyseCurvedSection(query);
 
   const state: TwoPhaseState =
     query.holdup !== undefined

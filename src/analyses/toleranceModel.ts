@@ -12,6 +12,7 @@
  * (`observableLayout`, `observe`) and `runJob`, one solve as a worker thread runs it.
  * No I/O, no threads; ./tolerance.ts runs the study.
  */
+import { solveCurvedInterface } from '../solver/curvedInterface.js';
 import { summariseContactors, type ContactorSummary } from './chip.js';
 import { assembleNetwork, restampNetwork, type Network } from '../network/assemble.js';
 import { solveNetwork } from '../solver/newton.js';
@@ -360,7 +361,8 @@ export function runJob(context: JobContext, job: Job, workspace = new SolverWork
   if (!realised.chip) return { problem: realised.problem };
   try {
     const network = restampNetwork(nominalNetwork(context), realised.chip);
-    const raw = solveNetwork(network, context.solver, context.warm, workspace);
+    const chip = realised.chip;
+    const raw = chip.interface === 'curved' ? solveCurvedInterface(network, chip.interfacialTension!, context.solver, context.warm, workspace).raw : solveNetwork(network, context.solver, context.warm, workspace);
     if (!raw.converged) return { problem: `did not converge: ${raw.message ?? 'no reason given'}` };
     const summary = summariseContactors(network, raw);
     if (summary.contactors.length !== context.layout.contactors || summary.splits.length !== context.layout.splits) {

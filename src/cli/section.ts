@@ -27,6 +27,8 @@ interface SectionOptions {
   holdup?: string;
   flowFraction?: string;
   flow?: string;
+  delta?: string;
+  tension?: string;
   orientation: string;
   json?: boolean;
   plot?: string;
@@ -45,6 +47,8 @@ const OPTION_OF: Record<string, string> = {
   holdup: '--holdup',
   flowFraction: '--flow-fraction',
   totalFlow: '--flow',
+  delta: '--delta',
+  tension: '--tension',
 };
 
 export function registerSection(program: Command, context: CommandContext): void {
@@ -62,6 +66,8 @@ export function registerSection(program: Command, context: CommandContext): void
     .option('--holdup <fraction>', 'fraction of the width (side) or depth (stacked) filled by phase A')
     .option('--flow-fraction <fraction>', 'fraction of the total flow that is phase A')
     .option('--flow <flow>', 'total flow of both phases, e.g. 10uL/min (gives absolute velocities)')
+    .option('--delta <pressure>', 'p_B − p_A across the interface, e.g. 3Pa: the interface becomes the Young–Laplace arc of curvature Δ/γ (side by side only; needs --tension)')
+    .option('--tension <tension>', 'interfacial tension, e.g. 0.1mN/m (with --delta)')
     .addOption(choice('--orientation <side|stacked>', 'layers side by side across the width, or one above the other', ['side', 'stacked'], 'side'))
     .option('--json', 'print one JSON object in SI units')
     .option('--plot <file.svg>', 'write a chart of flow fraction against holdup')
@@ -77,7 +83,12 @@ export function registerSection(program: Command, context: CommandContext): void
         holdup: numberOption(options.holdup, '--holdup', true),
         flowFraction: numberOption(options.flowFraction, '--flow-fraction', true),
         totalFlow: quantityOption(options.flow, '--flow', 'flow', true),
+        delta: quantityOption(options.delta, '--delta', 'pressure', true),
+        tension: quantityOption(options.tension, '--tension', 'tension', true),
       };
+      if (query.delta !== undefined && (plot || field)) {
+        throw new StratiflowError('bad-option', 'the charts draw the flat interface only; leave out --delta to draw them', { field: plot ? '--plot' : '--field' });
+      }
       let summary: SectionSummary;
       try {
         summary = analyseSection(query);
@@ -142,14 +153,20 @@ function describeSection(section: TwoLayerSection, s: SectionSummary): string {
     `  interface spans           ${show(s.interfaceSpan, DISPLAY.length)}`,
     `  resistance per length     ${fmt(s.resistancePerLength)} Pa·s/m⁴`,
   ];
+  const m = s.maximum;
   if (s.velocityPerGradient) {
     lines.push(`  mean velocity A, B        ${fmt(s.meanVelocity.a)}, ${fmt(s.meanVelocity.b)} m²/(Pa·s) per unit pressure gradient`);
-    lines.push(`  velocity maximum          ${fmt(s.maximum.u)} m²/(Pa·s) in phase ${s.maximum.phase}`);
+    if (m) lines.push(`  velocity maximum          ${fmt(m.u)} m²/(Pa·s) in phase ${m.phase}`);
   } else {
     lines.push(`  pressure gradient         ${show(s.gradient!, { symbol: 'kPa/mm', factor: 1e-6 })}`);
     lines.push(`  mean velocity A, B        ${show(s.meanVelocity.a, DISPLAY.velocity)}, ${show(s.meanVelocity.b, DISPLAY.velocity)}`);
-    lines.push(`  velocity maximum          ${show(s.maximum.u, DISPLAY.velocity)} in phase ${s.maximum.phase}`);
+    if (m) lines.push(`  velocity maximum          ${show(m.u, DISPLAY.velocity)} in phase ${m.phase}`);
   }
-  lines.push(`  velocity maximum lies at  y = ${show(s.maximum.y, DISPLAY.length)}, z = ${show(s.maximum.z, DISPLAY.length)}`);
+  if (m) lines.push(`  velocity maximum lies at  y = ${show(m.y, DISPLAY.length)}, z = ${show(m.z, DISPLAY.length)}`);
+  const c = s.curvedInterface;
+  if (c) {
+    lines.push(`  curved interface          Δ = ${fmt(c.delta)} Pa, γ = ${fmt(c.tension * 1000)} mN/m: arc of curvature ${fmt(c.curvature / 1000)} 1/mm (κ·depth/2 = ${fmt(c.dimensionless, 4)}), bulging into ${c.curvature > 0 ? 'A' : c.curvature < 0 ? 'B' : 'neither phase'}`);
+    lines.push(c.given === 'flowFraction' ? `  flat interface holdup     ${fmt(c.flatHoldup, 8)} (shift ${fmt(c.shift, 4)})` : `  flat interface fraction   ${fmt(c.flatFlowFraction, 8)} (shift ${fmt(c.shift, 4)})`);
+  }
   return lines.join('\n') + '\n';
 }

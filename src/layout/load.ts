@@ -346,6 +346,9 @@ function convert(raw: LayoutFile, source: string): { chip: Chip; problems: Strat
     };
   }
 
-  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, contactAngle, splitWindow, maxPressure, controlResolution, solute, nodes, segments, warnings };
+  if (raw.interface === 'curved' && raw.interfacialTension === undefined) {
+    problems.push(new StratiflowError('bad-layout', 'a curved interface needs interfacialTension: its curvature is Δ/γ', { file: source, element: 'interface', field: 'interfacialTension' }));
+  }
+  const chip: Chip = { name: raw.name, note: raw.note, source, phases, interfacialTension: tension, interface: raw.interface ?? 'flat', contactAngle, splitWindow, maxPressure, controlResolution, solute, nodes, segments, warnings };
   return { chip, problems };
 }

@@ -111,6 +111,10 @@ export const layoutSchema = z.strictObject({
   units: units.optional(),
   phases: z.strictObject({ A: phase, B: phase }),
   interfacialTension: quantity.optional(),
+  interface: z
+    .enum(['flat', 'curved'])
+    .optional()
+    .describe('the side-by-side interface in each contactor: flat (default), or curved, the Young–Laplace arc of curvature Δ/γ set by the solved phase pressure difference (needs interfacialTension)'),
   contactAngleA: contactAngle.optional().describe('contact angle of phase A on the wall, measured through A'),
   splitWindow: window.optional(),
   maxPressure: quantity.optional(),

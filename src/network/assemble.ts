@@ -51,6 +51,12 @@ export interface ContactorElement {
   scale: number;
   /** Split at the end, if any. */
   split?: SplitElement;
+  /**
+   * Curvature of the interface, 1/m (positive when the far lane's phase is at the higher
+   * pressure, so the arc bulges into the near lane); 0 for a flat interface. Set by the
+   * curved-interface iteration (solver/curvedInterface.ts), never by the layout.
+   */
+  curvature: number;
 }
 
 export interface SplitElement {
@@ -72,6 +78,12 @@ export interface Network {
   splits: SplitElement[];
   /** Port indices of each node: [single] or [near, far]. */
   portsOf: Map<string, number[]>;
+  /**
+   * Set (N/m) while a curved interface is solved with Newton coupling: every contactor's
+   * curvature is then Δ/γ of the iterate, a dependence of its lanes (solver/assembly.ts).
+   * Set and cleared by solver/curvedInterface.ts, never by the layout.
+   */
+  curvedTension?: number;
 }
 
 export function assembleNetwork(chip: Chip): Network {
@@ -170,7 +182,7 @@ function contactorElement(chip: Chip, segment: ChipSegment, nearIn: number, farI
   const section = segment.section as TwoLayerSection;
   const { across, along } = section.shape === 'rect' ? layerAxes(section) : { across: wallProfileOf(section).topWidth, along: section.depth };
   const mu = Math.sqrt(chip.phases.A.viscosity * chip.phases.B.viscosity);
-  return { kind: 'contactor', segment, section, across, along, nearIn, farIn, nearOut, farOut, scale: conductance(section, mu) / segment.length };
+  return { kind: 'contactor', segment, section, across, along, nearIn, farIn, nearOut, farOut, scale: conductance(section, mu) / segment.length, curvature: 0 };
 }
 
 /** The split at the end of contactor `c`, linked both ways, with its Young–Laplace window (topology.ts). */

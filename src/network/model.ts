@@ -87,6 +87,11 @@ export interface Chip {
   phases: Record<PhaseName, Phase>;
   /** N/m; undefined when not given (then the split window must be given). */
   interfacialTension?: number;
+  /**
+   * The side-by-side interface in each contactor: `flat`, or `curved` (the Young–Laplace arc of
+   * curvature Δ/γ from the solved phase pressure difference; needs interfacialTension). Absent: flat.
+   */
+  interface?: 'flat' | 'curved';
   /** Contact angles of phase A on the wall through A, rad. */
   contactAngle?: { advancing: number; receding: number };
   /** Chip-wide allowed p_B − p_A at splits, Pa. */

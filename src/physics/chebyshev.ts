@@ -2,7 +2,7 @@
  * Chebyshev–Lobatto building blocks of the spectral cross-section solver: nodes, the first
  * derivative matrix and the Clenshaw–Curtis weights on [−1, 1], and a small dense LU for the
  * per-strip systems, and the separable solver of a rectangle. Exports `chebyshevGrid`, `DenseLu`,
- * `separableDirichlet`. Knows nothing about channels.
+ * `separableDirichlet`, `interpolateWithSlope`. Knows nothing about channels.
  */
 import { EigenvalueDecomposition, inverse, Matrix } from 'ml-matrix';
 
@@ -230,4 +230,43 @@ function rightProductTransposed(T: Float64Array, M: Float64Array, into: Float64A
       into[i * my + j] = sum;
     }
   }
+}
+
+/**
+ * Value and derivative at t ∈ [−1, 1] of the polynomial through f_i at the nodes of degree n
+ * (f read as f[offset + stride·i]), into out[0], out[1]: the barycentric form (Berrut &
+ * Trefethen, 2004, SIAM Rev. 46:501, eq. 4.2) and its exact derivative
+ * p′(t) = Σ r_i (p − f_i)/(t − t_i) / Σ r_i, r_i = w_i/(t − t_i), with p − f_j for the nearest
+ * node j written as Σ r_i (f_i − f_j)/Σ r_i (no cancellation as t → t_j); at a node, the row of D.
+ */
+export function interpolateWithSlope(n: number, t: number, f: ArrayLike<number>, out: Float64Array, offset = 0, stride = 1): void {
+  const grid = chebyshevGrid(n);
+  const nodes = grid.nodes;
+  let near = 0;
+  for (let i = 1; i <= n; i++) if (Math.abs(t - nodes[i]!) < Math.abs(t - nodes[near]!)) near = i;
+  const fj = f[offset + stride * near]!;
+  if (t === nodes[near]) {
+    let slope = 0;
+    for (let i = 0; i <= n; i++) slope += grid.d1[near * (n + 1) + i]! * f[offset + stride * i]!;
+    out[0] = fj;
+    out[1] = slope;
+    return;
+  }
+  let sum = 0;
+  let o = 0;
+  for (let i = 0; i <= n; i++) {
+    const r = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / (t - nodes[i]!);
+    sum += r;
+    o += r * (f[offset + stride * i]! - fj);
+  }
+  o /= sum;
+  const p = fj + o;
+  let slope = 0;
+  for (let i = 0; i <= n; i++) {
+    const d = t - nodes[i]!;
+    const r = ((i % 2 === 0 ? 1 : -1) * (i === 0 || i === n ? 0.5 : 1)) / d;
+    slope += i === near ? (r * o) / d : (r * (p - f[offset + stride * i]!)) / d;
+  }
+  out[0] = p;
+  out[1] = slope / sum;
 }

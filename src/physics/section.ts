@@ -2,7 +2,8 @@
  * Cross-sections as the network sees them: geometry, single-phase conductance, and the
  * two-phase holdup ↔ flow-fraction relation with its inversion.
  * Exports the section types, `conductance`, `flowFractionAt`, `holdupForFlowFraction` (robust,
- * bracketed) and `HoldupTable` (the fast path for many inversions on one geometry and fluid pair).
+ * bracketed), `HoldupTable` (the fast path for many inversions on one geometry and fluid pair)
+ * and `stretchMap` (the variable of a table stretch, shared with curvedTable.ts).
  * Rectangles use the exact series (twoLayer.ts); etched and trapezoidal sections the spectral
  * strip solver (shapedSection.ts). SI units only; no I/O.
  */
@@ -233,7 +234,7 @@ const WEIGHTS = new Float64Array(SHAPED_TABLE_DEGREE + 1);
  * α = 1), so that the thin layer's power law in α becomes smoother in t and the nodes cluster
  * where it bends.
  */
-function stretchMap(lo: number, hi: number) {
+export function stretchMap(lo: number, hi: number) {
   const w = hi - lo;
   if (lo === 0 && hi < 1) return { alpha: (t: number) => w * ((t + 1) / 2) ** 2, dAlpha: (t: number) => w * ((t + 1) / 2), t: (a: number) => 2 * Math.sqrt(Math.max(0, a) / w) - 1 };
   if (hi === 1 && lo > 0) return { alpha: (t: number) => 1 - w * ((1 - t) / 2) ** 2, dAlpha: (t: number) => w * ((1 - t) / 2), t: (a: number) => 1 - 2 * Math.sqrt(Math.max(0, 1 - a) / w) };

@@ -62,7 +62,7 @@ export interface SpectralFlow {
   field?: SpectralField;
 }
 
-interface Strip {
+export interface Strip {
   xa: number;
   xb: number;
   mu: number;
@@ -71,6 +71,11 @@ interface Strip {
   piece: WallPiece;
   /** Map and metric at every node (i·(ny+1) + j). */
   geometry: Float64Array[];
+  /**
+   * Set for a strip with a side that is not the vertical line of its wall ends (curvedSection.ts):
+   * its geometry is a general transfinite map, solved by dense LU, cached under this key.
+   */
+  mappedKey?: string;
 }
 
 /** Joints closer than this share of the top width to the interface are taken as the interface. */
@@ -101,7 +106,7 @@ function strips(profile: WallProfile, xI: number, muA: number, muB: number, degr
 }
 
 /** Per node: [x, y, |J|, c_ξξ, c_ξη, c_ηη, c_ξ, c_η, flux_ξ, flux_η] (see the module comment). */
-function stripGeometry(curve: ReturnType<typeof pieceCurve>, nx: number, ny: number): Float64Array[] {
+export function stripGeometry(curve: ReturnType<typeof pieceCurve>, nx: number, ny: number): Float64Array[] {
   const gx = chebyshevGrid(nx).nodes;
   const gy = chebyshevGrid(ny).nodes;
   const b = new Float64Array(6);
@@ -148,7 +153,14 @@ function stripGeometry(curve: ReturnType<typeof pieceCurve>, nx: number, ny: num
  * at polynomial degree `degree` across the depth. `withField` also returns the nodal velocities.
  */
 export function spectralTwoLayer(profile: WallProfile, xI: number, muA: number, muB: number, degree = SPECTRAL_DEGREE, withField = false): SpectralFlow {
-  const list = strips(profile, xI, muA, muB, degree);
+  return solveStrips(strips(profile, xI, muA, muB, degree), degree, withField);
+}
+
+/**
+ * The flows of strips that cover the section from left to right, each meeting the next on one
+ * cut with `degree` + 1 nodes from the wall (η = −1) to the cover (η = 1).
+ */
+export function solveStrips(list: Strip[], degree: number, withField = false): SpectralFlow {
   const ny = degree;
   const my = ny - 1;
   const cy = chebyshevGrid(ny);
@@ -229,7 +241,7 @@ const CONDENSED = new Map<string, Condensed>();
 const CONDENSED_LIMIT = 256;
 
 function condensedStrip(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean): Condensed {
-  const key = `${JSON.stringify(strip.piece)}|${strip.xa}|${strip.xb}|${strip.nx}|${ny}|${hasLeft}|${hasRight}`;
+  const key = `${strip.mappedKey ?? ''}|${JSON.stringify(strip.piece)}|${strip.xa}|${strip.xb}|${strip.nx}|${ny}|${hasLeft}|${hasRight}`;
   let c = CONDENSED.get(key);
   if (!c) {
     c = condense(strip, ny, hasLeft, hasRight);
@@ -256,7 +268,7 @@ function condense(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean)
   const cols = 1 + (hasLeft ? my : 0) + (hasRight ? my : 0);
   const leftCol = 1;
   const rightCol = 1 + (hasLeft ? my : 0);
-  const flat = strip.piece.kind === 'line' && strip.piece.y0 === strip.piece.y1;
+  const flat = strip.mappedKey === undefined && strip.piece.kind === 'line' && strip.piece.y0 === strip.piece.y1;
   const A = flat ? undefined : new Float64Array(m * m);
   const B = new Float64Array(m * cols);
   const Dx = gx.d1;

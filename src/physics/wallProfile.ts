@@ -2,7 +2,8 @@
  * The outline of a channel cross-section that is flat at the cover: the wall below the cover as
  * a chain of straight and circular pieces, each a graph over the width. Exports `WallProfile`,
  * `WallPiece`, `depthAt`, `areaLeftOf`, `interfacePosition` (the side-by-side interface that
- * gives a holdup) and `pieceCurve` (one piece between two abscissae, parametrised on [−1, 1]).
+ * gives a holdup), `pieceCurve` (one piece between two abscissae, parametrised on [−1, 1]) and
+ * `segmentCurve`.
  * Pure geometry in SI units; no flow.
  *
  * Coordinates: x across the channel from the left end of the cover (0 ≤ x ≤ topWidth), y the
@@ -121,24 +122,25 @@ export interface Curve {
   at(t: number, out: Float64Array): void; // [x, y, x', y', x'', y'']
 }
 
+/** The straight segment from (xa, ya) at t = −1 to (xb, yb) at t = 1. */
+export function segmentCurve(xa: number, ya: number, xb: number, yb: number): Curve {
+  const hx = 0.5 * (xb - xa);
+  const hy = 0.5 * (yb - ya);
+  return {
+    at(t, out) {
+      out[0] = xa + (t + 1) * hx;
+      out[1] = ya + (t + 1) * hy;
+      out[2] = hx;
+      out[3] = hy;
+      out[4] = 0;
+      out[5] = 0;
+    },
+  };
+}
+
 /** Piece p between abscissae xa < xb (inside the piece), parametrised by x (lines) or angle (arcs). */
 export function pieceCurve(p: WallPiece, xa: number, xb: number): Curve {
-  if (p.kind === 'line') {
-    const ya = pieceDepth(p, xa);
-    const yb = pieceDepth(p, xb);
-    const hx = 0.5 * (xb - xa);
-    const hy = 0.5 * (yb - ya);
-    return {
-      at(t, out) {
-        out[0] = xa + (t + 1) * hx;
-        out[1] = ya + (t + 1) * hy;
-        out[2] = hx;
-        out[3] = hy;
-        out[4] = 0;
-        out[5] = 0;
-      },
-    };
-  }
+  if (p.kind === 'line') return segmentCurve(xa, pieceDepth(p, xa), xb, pieceDepth(p, xb));
   const angle = (x: number) => Math.acos(Math.max(-1, Math.min(1, (x - p.cx) / p.radius)));
   const fa = xa <= pieceStart(p) ? p.phi0 : angle(xa);
   const fb = xb >= pieceEnd(p) ? p.phi1 : angle(xb);

@@ -46,6 +46,20 @@ export const CONTACTOR_COLUMNS: Array<{ title: string; csv: string; value: (r: C
   { title: 'pure B %', csv: 'purityB_percent', value: (r) => percent(r.purityB) },
 ];
 
+/** With a curved interface: the flat interface's holdup, the shift against it and the arc's curvature. */
+export const CURVED_COLUMNS: typeof CONTACTOR_COLUMNS = [
+  { title: 'flat holdup A', csv: 'holdupFlatA', value: (r) => fmt(r.holdupFlatA!, 5) },
+  { title: 'shift', csv: 'holdupShiftA', value: (r) => signed(r.holdupShiftA!) },
+  { title: 'κ 1/mm', csv: 'curvature_per_mm', value: (r) => fmt(r.interfaceCurvature! / 1000) },
+];
+
+const signed = (v: number) => (v > 0 ? '+' : v < 0 ? '−' : '') + fmt(Math.abs(v), 3);
+
+/** The contactor columns of a solution: CURVED_COLUMNS added where the interface is curved. */
+export function contactorColumns(s: ChipSolution): typeof CONTACTOR_COLUMNS {
+  return s.summary.curvedInterface ? [...CONTACTOR_COLUMNS, ...CURVED_COLUMNS] : CONTACTOR_COLUMNS;
+}
+
 /** The split's state, unless a phase does not enter the contactor at all. */
 function contactorState(r: ContactorResult): string {
   const starved = starvedPhase(r);
@@ -63,7 +77,7 @@ export function columnsCsv<T>(columns: ReadonlyArray<{ csv: string; value: (row:
 }
 
 export function contactorCsv(solution: ChipSolution): string {
-  return columnsCsv(CONTACTOR_COLUMNS, solution.contactors);
+  return columnsCsv(contactorColumns(solution), solution.contactors);
 }
 
 /**
@@ -74,7 +88,8 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   const out: string[] = [];
   out.push(`${name}: ${s.contactors.length} contactors — ${s.converged ? `solved in ${s.iterations} Newton steps (mass residual ${s.residual.toExponential(1)} of throughput)` : `NOT CONVERGED: ${s.message ?? ''}`}`);
   out.push('');
-  out.push(textTable(CONTACTOR_COLUMNS.map((c) => c.title), s.contactors.map((r) => CONTACTOR_COLUMNS.map((c) => c.value(r)))));
+  const columns = contactorColumns(s);
+  out.push(textTable(columns.map((c) => c.title), s.contactors.map((r) => columns.map((c) => c.value(r)))));
   out.push('');
   const { summary } = s;
   const sp = summary.spread;
@@ -88,6 +103,13 @@ export function chipText(name: string, s: ChipSolution, problems?: readonly Oper
   for (const outlet of summary.outlets) out.push(`  outlet ${outlet.id}  ${show(outlet.pressure, DISPLAY.pressure)}, A ${flow(outlet.flowA)} µL/min, B ${flow(outlet.flowB)} µL/min`);
   const pinned = s.splits.filter((x) => x.state === 'pinned').length;
   out.push(`  outlet splits             ${pinned} of ${s.splits.length} pinned${s.splits.length ? `; smallest window margin ${fmtResolved(minOf(s.splits.map((x) => x.margin)) ?? Infinity, s.summary.pressureResolution)} Pa` : ''}`);
+  const curved = summary.curvedInterface;
+  if (curved) {
+    const largest = curved.largestShift;
+    const shift = largest ? `largest holdup shift against the flat interface ${signed(largest.shift)} (${largest.contactor})` : 'no contactors';
+    const how = curved.method === 'newton' ? 'Δ coupled into the Newton solve after the flat one' : `${curved.rounds} round${curved.rounds === 1 ? '' : 's'} of the fixed point on the curvatures after the flat solve`;
+    out.push(`  curved interface          ${shift}; ${how}, ${curved.settled ? 'settled' : 'NOT settled'}`);
+  }
   out.push('');
   if (hold) out.push(...holdLines(hold), '');
   if (problems) {

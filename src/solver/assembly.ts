@@ -14,6 +14,7 @@
  * would force its flow to jump as τ → 0).
  */
 import { laneConductances, type LaneConductances } from '../physics/lanes.js';
+import { curvedLaneConductances, type CurvedLaneConductances } from '../physics/curvedLanes.js';
 import { SectionTables } from './sectionTables.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { TripletBuilder } from './sparseMatrix.js';
@@ -98,7 +99,7 @@ export class NetworkEquations {
   private readonly muB: number;
   private readonly rowTarget: Int32Array;
   private readonly rowFactor: Float64Array;
-  private readonly laneMemo: Array<{ alpha: number; muN: number; muF: number; slopes: boolean; k: LaneConductances } | undefined>;
+  private readonly laneMemo: Array<{ alpha: number; muN: number; muF: number; curvature: number; slopes: boolean; k: LaneConductances | CurvedLaneConductances } | undefined>;
 
   private readonly tables: SectionTables;
 
@@ -177,16 +178,20 @@ export class NetworkEquations {
    * or a step that leaves a holdup alone, asks again for the same ones, and thin layers are the
    * dear end of the series.
    */
-  lanes(c: number, alpha: number, muN: number, muF: number, slopes: boolean): LaneConductances {
-    const memo = this.laneMemo[c];
-    if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF && (memo.slopes || !slopes)) return memo.k;
+  lanes(c: number, alpha: number, muN: number, muF: number, slopes: boolean, curvature: number): LaneConductances | CurvedLaneConductances {
     const el = this.net.contactors[c]!;
+    const memo = this.laneMemo[c];
+    if (memo && memo.alpha === alpha && memo.muN === muN && memo.muF === muF && memo.curvature === curvature && (memo.slopes || !slopes)) return memo.k;
     const section = el.section;
-    const k =
+    const flat =
       section.shape === 'rect'
         ? laneConductances(el.across, el.along, alpha, muN, muF, slopes)
         : this.tables.lanes(section, this.muA, this.muB).conductances(alpha, muN, muF, slopes);
-    this.laneMemo[c] = { alpha, muN, muF, slopes, k };
+    // A curved interface: the flat lanes times the arc's factor, at the phases' own viscosities.
+    const nearIsA = this.net.ports[el.nearIn]!.nominal >= 0.5;
+    const coupled = this.net.curvedTension !== undefined;
+    const k = curvature === 0 && !coupled ? flat : curvedLaneConductances(flat, this.tables.curved(section, nearIsA ? this.muA : this.muB, nearIsA ? this.muB : this.muA), alpha, curvature);
+    this.laneMemo[c] = { alpha, muN, muF, curvature, slopes, k };
     return k;
   }
 
@@ -318,7 +323,14 @@ export class NetworkEquations {
       const upFar = df >= 0 ? el.farIn : el.farOut;
       const xn = this.compositionOf(v, upNear);
       const xf = this.compositionOf(v, upFar);
-      const k = this.lanes(c, alpha, mix(seen(upNear, xn)), mix(seen(upFar, xf)), withX && (o.jacobian || dir !== undefined));
+      // Curved interface with Newton coupling: κ = Δ/γ of this iterate, Δ = p_far − p_near (the
+      // same at both ends of a settled contactor; the mean of the two ends meanwhile).
+      const tension = net.curvedTension;
+      const curvature =
+        tension !== undefined
+          ? (0.5 * (this.pressureOf(v, el.farIn) - this.pressureOf(v, el.nearIn) + this.pressureOf(v, el.farOut) - this.pressureOf(v, el.nearOut))) / tension
+          : el.curvature;
+      const k = this.lanes(c, alpha, mix(seen(upNear, xn)), mix(seen(upFar, xf)), withX && (o.jacobian || dir !== undefined), curvature);
       const law = laneLaw(dn, df, el.segment.length, k, muA, muB);
       this.laneFlow[2 * c] = law.qNear;
       this.laneFlow[2 * c + 1] = law.qFar;
@@ -331,6 +343,24 @@ export class NetworkEquations {
       tangent.lane[2 * c] = stamp(el.nearIn, el.nearOut, law.qNear, upNear, law.gNear, col, dNear, s * law.dNearDxNear, el.farIn, el.farOut, upFar, s * law.dNearDxFar);
       tangent.lane[2 * c + 1] = stamp(el.farIn, el.farOut, law.qFar, upFar, law.gFar, col, dFar, s * law.dFarDxFar, el.nearIn, el.nearOut, upNear, s * law.dFarDxNear);
       tangent.crossover[c] = stamp(el.nearIn, el.farIn, merge.cross, merge.cross >= 0 ? el.nearIn : el.farIn, 0, col, merge.dCross, 0);
+      if (tension !== undefined) {
+        // ∂q/∂p of each lane through κ: q = d·k(κ)/L, ∂κ/∂p = ±1/(2γ) at the far (+) and near (−) ports of both ends.
+        const curved = k as CurvedLaneConductances;
+        const ends = [el.farIn, el.farOut, el.nearIn, el.nearOut];
+        const lanes: Array<[number, number, number, number, number]> = [
+          [2 * c, el.nearIn, el.nearOut, upNear, (dn * curved.dkNearDCurvature) / el.segment.length / (2 * tension)],
+          [2 * c + 1, el.farIn, el.farOut, upFar, (df * curved.dkFarDCurvature) / el.segment.length / (2 * tension)],
+        ];
+        for (const [lane, from, to, up, g] of lanes) {
+          if (dir) tangent.lane[lane]! += g * (dPressure(el.farIn) + dPressure(el.farOut) - dPressure(el.nearIn) - dPressure(el.nearOut));
+          if (!o.jacobian) continue;
+          const xu = this.compositionOf(v, up);
+          ends.forEach((port, i) => {
+            const d = i < 2 ? g : -g;
+            partial(massRow(from), massRow(to), aRow(from), aRow(to), massRow(port), d, d * xu);
+          });
+        }
+      }
 
       // Lane constraint: both lanes feel one gradient, d_near = d_far. An open contactor whose
       // drops are lost in rounding carries no flow worth resolving: there the constraint gives

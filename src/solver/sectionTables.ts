@@ -3,11 +3,13 @@
  * rectangle by width, depth, orientation and both viscosities (the Picard sweeps' inversions);
  * for an etched or trapezoidal section by shape and viscosity ratio μ_near/μ_far alone, built at
  * (ratio, 1) (the holdup depends on the ratio only, and k scales as 1/μ), and the lanes of such
- * a contactor (physics/lanes.ts ShapedLanes, which read those tables). Exports `SectionTables`.
+ * a contactor (physics/lanes.ts ShapedLanes, which read those tables), and the tables of a
+ * curved interface by section and phase viscosities (physics/curvedTable.ts). Exports `SectionTables`.
  * Builds tables; solves nothing.
  */
 import { HoldupTable, type ShapedSection, type TwoLayerSection } from '../physics/section.js';
 import { ShapedLanes } from '../physics/lanes.js';
+import { CurvedTable } from '../physics/curvedTable.js';
 
 const shapeKey = (s: ShapedSection) => (s.shape === 'etched' ? `etched|${s.maskWidth}|${s.depth}` : `trapezoid|${s.bottomWidth}|${s.depth}|${s.wallAngle}`);
 
@@ -16,6 +18,7 @@ export class SectionTables {
   /** The ratios of the shaped tables built, by shape. */
   private readonly ratios = new Map<string, number[]>();
   private readonly lanesByShape = new Map<string, ShapedLanes>();
+  private readonly curvedTables = new Map<string, CurvedTable>();
   private static readonly LIMIT = 256;
 
   /**
@@ -56,6 +59,17 @@ export class SectionTables {
       this.lanesByShape.set(key, lanes);
     }
     return lanes;
+  }
+
+  /** The curved-interface table of a section with the near lane's phase of viscosity μ_near (built by stretches as asked). */
+  curved(section: TwoLayerSection, muNear: number, muFar: number): CurvedTable {
+    const key = `${section.shape === 'rect' ? `rect|${section.width}|${section.depth}|${section.orientation}` : shapeKey(section)}|${muNear}|${muFar}`;
+    let table = this.curvedTables.get(key);
+    if (!table) {
+      table = new CurvedTable(section, muNear, muFar);
+      this.curvedTables.set(key, table);
+    }
+    return table;
   }
 
   private remembered(key: string, build: () => HoldupTable): HoldupTable {

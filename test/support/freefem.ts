@@ -6,8 +6,8 @@
  * text and the answer read back from its output.
  *
  * The script solves ∫ μ ∇u·∇v = ∫ v (μ∇²u = −1, G = 1) with u = 0 on the walls and the cover,
- * with P3 Lagrange elements on a mesh built by FreeFem's `buildmesh`, the interface x = x_I an
- * internal border (so no element straddles it, μ is exact on every element, and the weak form
+ * with P3 Lagrange elements on a mesh built by FreeFem's `buildmesh`, the interface (the line
+ * x = x_I, or a circular arc over that chord when a curvature is given) an internal border (so no element straddles it, μ is exact on every element, and the weak form
  * carries continuity of u and of μ∂u/∂n across it). Boundary points are spaced as
  * ½(1 − cos πt) along every border, which grades the mesh toward the corners where u is singular.
  * A circular wall is a polygon whose vertices sit slightly outside the circle, at r(1 + Δθ²/12)
@@ -24,6 +24,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
 export type ReferenceShape =
+  | { kind: 'rect'; width: number; depth: number }
   | { kind: 'etched'; maskWidth: number; depth: number }
   | { kind: 'trapezoid'; bottomWidth: number; depth: number; wallAngle: number };
 
@@ -61,6 +62,15 @@ function borderLength(b: Border): number {
 /** The bottom chain (counter-clockwise, left to right, y ≤ 0) and the area under it left of x. */
 function bottomChain(shape: ReferenceShape): { chain: Border[]; width: number; areaLeft: (x: number) => number } {
   const d = shape.depth;
+  if (shape.kind === 'rect') {
+    const w = shape.width;
+    const chain: Border[] = [
+      { kind: 'line', x0: 0, y0: 0, x1: 0, y1: -d },
+      { kind: 'line', x0: 0, y0: -d, x1: w, y1: -d },
+      { kind: 'line', x0: w, y0: -d, x1: w, y1: 0 },
+    ];
+    return { chain, width: w, areaLeft: (x: number) => x * d };
+  }
   if (shape.kind === 'etched') {
     const w = shape.maskWidth;
     const chain: Border[] = [{ kind: 'arc', cx: d, r: d, t0: Math.PI, t1: 1.5 * Math.PI }];
@@ -122,10 +132,15 @@ function splitAt(chain: Border[], xI: number): { left: Border[]; right: Border[]
  * depth⁴/viscosity) with the interface at x_I, phase A left of it; `density` boundary points per
  * unit length (before grading).
  */
-export function freefemTwoLayer(shape: ReferenceShape, xI: number, muA: number, muB: number, density: number): ReferenceFlow {
+export function freefemTwoLayer(shape: ReferenceShape, xI: number, muA: number, muB: number, density: number, curvature = 0): ReferenceFlow {
   if (!freefemAvailable()) throw new Error('FreeFem++ is not installed (Debian: apt-get install freefem++ libfreefem++); the cross-section reference checks need it');
   const scale = shape.depth;
-  const unit: ReferenceShape = shape.kind === 'etched' ? { ...shape, maskWidth: shape.maskWidth / scale, depth: 1 } : { ...shape, bottomWidth: shape.bottomWidth / scale, depth: 1 };
+  const unit: ReferenceShape =
+    shape.kind === 'etched'
+      ? { ...shape, maskWidth: shape.maskWidth / scale, depth: 1 }
+      : shape.kind === 'rect'
+        ? { ...shape, width: shape.width / scale, depth: 1 }
+        : { ...shape, bottomWidth: shape.bottomWidth / scale, depth: 1 };
   const x = xI / scale;
   const { chain, width, areaLeft } = bottomChain(unit);
   const { left, right, yI } = splitAt(chain, x);
@@ -149,16 +164,40 @@ export function freefemTwoLayer(shape: ReferenceShape, xI: number, muA: number, 
     calls.push(`${name}(${points})`);
   };
   walls.forEach((b, i) => border(`w${i}`, b, 1));
-  border('gi', { kind: 'line', x0: x, y0: yI, x1: x, y1: 0 }, 2);
+  const kappa = curvature * scale;
+  let segment = 0;
+  let apex = x;
+  if (kappa === 0) border('gi', { kind: 'line', x0: x, y0: yI, x1: x, y1: 0 }, 2);
+  else {
+    // The arc over the chord from (x, y_I) to (x, 0), bulging to −x for κ > 0: a circle of radius
+    // R = 1/|κ| through both ends, centre on the chord's perpendicular bisector on the +x side
+    // (κ > 0) at distance R cos θ, sin θ = |κ|·h, h the half chord; vertices pushed out as for the
+    // round walls, so that the layer areas carry no first-order polygon error.
+    const h = -yI / 2;
+    const R = 1 / Math.abs(kappa);
+    const sigma = Math.sign(kappa);
+    const theta = Math.asin(h / R);
+    const xc = x + sigma * R * Math.cos(theta);
+    const points = Math.max(6, Math.ceil(density * R * 2 * theta));
+    const dPsi = `(${num((2 * theta) / points)} * pi / 2 * sin(pi * t))`;
+    const psi = `(${num(theta)} - ${num(2 * theta)} * g(t))`;
+    const radius = `(${num(R)} * (1 + ${dPsi} * ${dPsi} / 12))`;
+    lines.push(`border gi(t = 0, 1) { x = ${num(xc)} - (${num(sigma)}) * ${radius} * cos(${psi}); y = ${num(-h)} - ${radius} * sin(${psi}); label = 2; }`);
+    calls.push(`gi(${points})`);
+    segment = R * R * (theta - Math.sin(theta) * Math.cos(theta));
+    apex = x - sigma * R * (1 - Math.cos(theta));
+  }
   lines.push(
     `mesh Th = buildmesh(${calls.join(' + ')});`,
     'fespace Vh(Th, P3);',
     'Vh u, v;',
-    `real xI = ${num(x)};`,
-    `func mu = (x < xI) ? ${num(muA)} : ${num(muB)};`,
+    // Phase A is the region just left of the interface's middle (its apex when curved).
+    `int ra = Th(${num(apex - 1e-3)}, ${num(yI / 2)}).region;`,
+    'fespace Ph(Th, P0);',
+    `Ph mu = (region == ra) ? ${num(muA)} : ${num(muB)};`,
     'solve flow(u, v) = int2d(Th, qforder = 9)(mu * (dx(u) * dx(v) + dy(u) * dy(v))) - int2d(Th, qforder = 9)(v) + on(1, u = 0);',
-    'real qa = int2d(Th, qforder = 9)((x < xI) * u);',
-    'real qb = int2d(Th, qforder = 9)((x > xI) * u);',
+    'real qa = int2d(Th, qforder = 9)((region == ra) * u);',
+    'real qb = int2d(Th, qforder = 9)((region != ra) * u);',
     'cout.precision(17);',
     'cout << "RESULT " << qa << " " << qb << " " << Th.nt << endl;',
   );
@@ -177,7 +216,7 @@ export function freefemTwoLayer(shape: ReferenceShape, xI: number, muA: number, 
     if (!match) throw new Error(`FreeFem++ gave no result (exit status ${run.status}):\n${run.stdout}\n${run.stderr}\n--- script ---\n${script}`);
     const q = scale ** 4;
     const total = areaLeft(width);
-    const a = areaLeft(x);
+    const a = areaLeft(x) - Math.sign(kappa) * segment;
     return { qA: Number(match[1]) * q, qB: Number(match[2]) * q, areaA: a * scale ** 2, areaB: (total - a) * scale ** 2, triangles: Number(match[3]), script };
   } finally {
     rmSync(dir, { recursive: true, force: true });

@@ -1,0 +1,72 @@
+/**
+ * The curved interface as a user runs it: `section --delta --tension` for one channel, and
+ * `solve` of a layout with `interface: curved` (the summary line with the largest shift, the
+ * JSON rows with the flat holdup), with one clear line and exit status 2 for bad input.
+ */
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { runCli } from '../support/cli.js';
+import { curvedTwoLayerFlow } from '../../src/physics/curvedSection.js';
+
+const BASE = ['section', '--width', '60um', '--depth', '20um', '--mu-a', '5mPa.s', '--mu-b', '1mPa.s'];
+
+describe('stratiflow section --delta', () => {
+  it('answers with the arc of curvature Δ/γ: JSON with the curvature, the flat interface and the same flows as the library', async () => {
+    const { code, out } = await runCli([...BASE, '--holdup', '0.5', '--delta', '2Pa', '--tension', '0.1mN/m', '--json']);
+    expect(code).toBe(0);
+    const json = JSON.parse(out);
+    // κ = Δ/γ = 2 Pa / 1e-4 N/m = 2e4 1/m; κ·depth/2 = 0.2 (Young–Laplace in the cross-section).
+    expect(json.curvedInterface.curvature).toBeCloseTo(2e4, 9);
+    expect(json.curvedInterface.dimensionless).toBeCloseTo(0.2, 12);
+    const direct = curvedTwoLayerFlow({ shape: 'rect', width: 60e-6, depth: 20e-6, orientation: 'side' }, 0.5, 2e4, 5e-3, 1e-3);
+    expect(json.qPerGradient.a).toBe(direct.kA);
+    expect(json.curvedInterface.shift).toBeCloseTo(json.flowFraction - json.curvedInterface.flatFlowFraction, 15);
+    expect(out).not.toMatch(/NaN|Infinity/);
+  });
+
+  it('inverts a flow fraction at fixed curvature and prints the flat holdup beside it', async () => {
+    const { code, out } = await runCli([...BASE, '--flow-fraction', '0.33', '--delta', '4.8Pa', '--tension', '0.1mN/m']);
+    expect(code).toBe(0);
+    expect(out).toMatch(/curved interface +Δ = 4\.8 Pa, γ = 0\.1 mN\/m: arc of curvature 48 1\/mm \(κ·depth\/2 = 0\.48\), bulging into A/);
+    expect(out).toMatch(/flat interface holdup +0\.\d+ \(shift [-−]?0\.\d+\)/);
+  });
+
+  it('refuses bad input with one line and exit status 2', async () => {
+    const cases: Array<[string[], RegExp]> = [
+      [['--holdup', '0.5', '--delta', '2Pa'], /--tension: give the interfacial tension/],
+      [['--holdup', '0.5', '--delta', '12Pa', '--tension', '0.1mN/m'], /--delta: the arc .* cannot span the depth/],
+      [['--holdup', '0.5', '--delta', '2Pa', '--tension', '0.1mN/m', '--orientation', 'stacked'], /--delta: a curved interface is modelled for side-by-side layers only/],
+    ];
+    for (const [extra, message] of cases) {
+      const { code, err } = await runCli([...BASE, ...extra]);
+      expect(code).toBe(2);
+      expect(err.trim().split('\n')).toHaveLength(1);
+      expect(err).toMatch(message);
+    }
+  });
+});
+
+describe('stratiflow solve with interface: curved', () => {
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-curved-'));
+  const text = readFileSync(new URL('../../layouts/enzyme-atps-16.yaml', import.meta.url), 'utf8').replace(/^interfacialTension: .*$/m, (line) => `${line}\ninterface: curved`);
+  const file = join(dir, 'enzyme-curved.yaml');
+  writeFileSync(file, text);
+
+  it('prints the flat holdup and the shift per contactor and a summary line with the largest shift', async () => {
+    const { code, out } = await runCli(['solve', file]);
+    expect(code).toBe(0);
+    expect(out).toMatch(/flat holdup A +shift +κ 1\/mm/);
+    expect(out).toMatch(/curved interface +largest holdup shift against the flat interface [+−]0\.\d+ \(k\d+\); Δ coupled into the Newton solve after the flat one, settled/);
+  });
+
+  it('gives each contactor holdupFlatA, holdupShiftA and interfaceCurvature in the JSON, and the summary its curvedInterface', async () => {
+    const { code, out } = await runCli(['solve', file, '--json']);
+    expect(code).toBe(0);
+    const json = JSON.parse(out);
+    for (const row of json.contactors) expect(row.holdupShiftA).toBe(row.holdupA - row.holdupFlatA);
+    expect(json.summary.curvedInterface.settled).toBe(true);
+    expect(json.contactors.map((r: { id: string }) => r.id)).toContain(json.summary.curvedInterface.largestShift.contactor);
+  });
+});
