@@ -1,12 +1,22 @@
 /**
- * `stratiflow make ladder|tree`: write a generated layout file (YAML or JSON by extension).
+ * `stratiflow make ladder|tree`: write a generated layout file (YAML or JSON by extension). Unless
+ * `--outlet-b` is given, the B outlet's back-pressure is set so that the splits sit as near the
+ * middle of their windows as it can put them (analyses/centring.ts); with `--design`, the feeds
+ * and outlet arms are then sized for even flow (analyses/design.ts) and the command fails with
+ * exit status 3 where that design falls short.
  */
 import type { Command } from 'commander';
 import { stringify } from 'yaml';
 import { ladderLayout, treeLayout, LADDER_DEFAULTS, TREE_DEFAULTS, type CommonOptions } from '../layout/generate.js';
 import { numberOption, quantityOption, wholeNumberOption, choice } from './options.js';
 import { outputFile, writeOutputs } from './io.js';
-import { optionError } from '../errors.js';
+import { StratiflowError, optionError } from '../errors.js';
+import type { LayoutFile } from '../layout/schema.js';
+import { layoutToChip } from '../layout/load.js';
+import { centreSplits } from '../analyses/centring.js';
+import { designChip } from '../analyses/design.js';
+import { DESIGN_DEFAULTS, designVariables, parseDesignVariable } from '../analyses/designSpec.js';
+import { fmt } from '../units/format.js';
 import type { CommandContext } from './context.js';
 
 type Raw = Record<string, string | undefined>;
@@ -35,7 +45,7 @@ function common(o: Raw, defaults: CommonOptions): Partial<CommonOptions> {
     phaseB: { ...defaults.phaseB, viscosity: q('muB', '--mu-b', 'viscosity') ?? defaults.phaseB.viscosity },
     interfacialTension: q('tension', '--tension', 'tension') ?? defaults.interfacialTension,
     drive: driveA && driveB ? { A: driveA, B: driveB } : undefined,
-    outletPressure: { A: q('outletA', '--outlet-a', 'pressure') ?? defaults.outletPressure.A, B: q('outletB', '--outlet-b', 'pressure') ?? defaults.outletPressure.B },
+    outletPressure: { A: q('outletA', '--outlet-a', 'pressure') ?? defaults.outletPressure.A, B: q('outletB', '--outlet-b', 'pressure') ?? 0 },
     contactor: { ...size('contactor', defaults.contactor), orientation: (o.orientation ?? 'side') as 'side' | 'stacked' },
     feed: size('feed', defaults.feed),
     drain: size('drain', defaults.drain),
@@ -52,10 +62,11 @@ function commonFlags(cmd: Command): Command {
     .option('--tension <tension>', 'interfacial tension between A and B')
     .option('--pressure-a <pressure>', 'inlet pressure of phase A')
     .option('--pressure-b <pressure>', 'inlet pressure of phase B')
-    .option('--flow-a <flow>', 'inlet flow of phase A (instead of a pressure); default 2 uL/min per contactor')
-    .option('--flow-b <flow>', 'inlet flow of phase B (instead of a pressure)')
+    .option('--flow-a <flow>', 'inlet flow of phase A for the whole chip (instead of a pressure); default 2 uL/min for each contactor')
+    .option('--flow-b <flow>', 'inlet flow of phase B for the whole chip (instead of a pressure); default 2 uL/min for each contactor')
     .option('--outlet-a <pressure>', 'back-pressure at the outlet of phase A', '0')
-    .option('--outlet-b <pressure>', 'back-pressure at the outlet of phase B (set it so the splits sit inside their window; see stratiflow tune)', '0')
+    .option('--outlet-b <pressure>', 'back-pressure at the outlet of phase B (default: the one that puts the splits nearest the middle of their windows, found by solving the chip: about a second at 16 contactors, tens of seconds at a thousand)')
+    .option('--design', 'size the feeds and outlet arms (one width each) and the B back-pressure for even flow, every split pinned 10 % inside its window (as stratiflow design --vary feed.widths --vary drain.widths --vary outB.pressure)')
     .option('--depth <length>', 'etch depth of all channels')
     .option('--contactor-width <length>', 'contactor width')
     .option('--contactor-length <length>', 'contactor length')
@@ -69,10 +80,47 @@ function commonFlags(cmd: Command): Command {
     .option('--tube-length <length>', 'tubing to each inlet and outlet: length');
 }
 
-function emit(context: CommandContext, layout: object, out: string | undefined): void {
+/**
+ * The generated layout made to work: the B back-pressure centred unless given, then with
+ * `--design` the feeds and arms sized. Returns the layout to write and a line saying what was done.
+ */
+function working(layout: LayoutFile, o: Raw): { layout: LayoutFile; note: string } {
+  const outletB = layout.nodes.find((n): n is Extract<LayoutFile['nodes'][number], { type: 'outlet' }> => n.id === 'outB' && n.type === 'outlet')!;
+  let chip = layoutToChip(layout, 'generated layout');
+  const setting = { node: 'outB', quantity: 'pressure' as const };
+  let note = '';
+  if (o.outletB === undefined) {
+    const centred = centreSplits(chip, [setting], [0], [[0, chip.maxPressure ?? Infinity]]);
+    outletB.pressure = Number(centred.values[0]!.toPrecision(12));
+    chip = layoutToChip(layout, 'generated layout');
+    const pinned = centred.solved.result.splits.filter((s) => s.state === 'pinned').length;
+    note = `outB back-pressure ${fmt(outletB.pressure as number)} Pa: ${pinned} of ${centred.solved.result.splits.length} splits pinned`;
+  }
+  if (!o.design) return { layout, note };
+  const result = designChip(chip, {
+    variables: designVariables(chip, ['feed.widths', 'drain.widths'].map(parseDesignVariable), DESIGN_DEFAULTS),
+    settings: [{ setting }],
+    flowCv: 0.01,
+    margin: { fraction: 0.1 },
+  });
+  if (!result.met) throw new StratiflowError('infeasible', `--design: no design of the generated chip meets its targets: ${result.binding[0] ?? 'no step improves it further'}`);
+  const sizes = new Map(result.variables.flatMap((v) => v.sizes.map((s) => [s.segment, s.after] as const)));
+  for (const segment of layout.segments) {
+    const width = sizes.get(segment.id);
+    if (width !== undefined) segment.width = Number(width.toPrecision(12));
+  }
+  outletB.pressure = Number(result.settings[0]!.after.toPrecision(12));
+  return { layout, note: `designed: flow per contactor CV ${fmt(100 * result.flowCv.after.A, 3)} % (A), ${fmt(100 * result.flowCv.after.B, 3)} % (B), every split pinned; outB back-pressure ${fmt(outletB.pressure as number)} Pa` };
+}
+
+function emit(context: CommandContext, generated: LayoutFile, o: Raw): void {
+  const { layout, note } = working(generated, o);
+  const out = o.out;
   const text = out?.endsWith('.json') ? JSON.stringify(layout, null, 2) + '\n' : stringify(layout, { lineWidth: 0 });
-  if (out) writeOutputs([{ path: outputFile(out, '--out'), option: '--out', content: text }]);
-  else context.out(text);
+  if (out) {
+    writeOutputs([{ path: outputFile(out, '--out'), option: '--out', content: text }]);
+    if (note) context.out(`${out}: ${note}\n`);
+  } else context.out(text);
 }
 
 export function registerMake(program: Command, context: CommandContext): void {
@@ -81,7 +129,7 @@ export function registerMake(program: Command, context: CommandContext): void {
     .option('--contactors <n>', 'number of contactors', '16')
     .option('--manifold-width <length>', 'manifold width')
     .addOption(choice('--inlets <end|middle>', 'where the inlets join the distribution manifolds', ['end', 'middle'], 'end'))
-    .addOption(choice('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds', ['same', 'opposite', 'middle'], 'opposite'))
+    .addOption(choice('--outlets <same|opposite|middle>', 'where the outlets leave the collection manifolds: at the inlets\' end (a U-shaped path, whose contactors differ least), the opposite end or the middle', ['same', 'opposite', 'middle'], 'same'))
     .action((o: Raw) => {
       const contactors = wholeNumberOption(o.contactors, '--contactors', 1, 100000)!;
       emit(context, ladderLayout({
@@ -91,7 +139,7 @@ export function registerMake(program: Command, context: CommandContext): void {
         manifold: { width: quantityOption(o.manifoldWidth, '--manifold-width', 'length', true) ?? LADDER_DEFAULTS.manifold.width, depth: quantityOption(o.depth, '--depth', 'length', true) ?? LADDER_DEFAULTS.manifold.depth },
         inletAt: o.inlets as 'end' | 'middle',
         outletAt: o.outlets as 'same' | 'opposite' | 'middle',
-      }), o.out);
+      }), o);
     });
   commonFlags(make.command('tree').description('2^k contactors fed and drained by bifurcating trees.'))
     .option('--levels <k>', 'number of bifurcation levels (2^k contactors)', '4')
@@ -107,6 +155,6 @@ export function registerMake(program: Command, context: CommandContext): void {
         pitch: quantityOption(o.pitch, '--pitch', 'length', true) ?? TREE_DEFAULTS.pitch,
         branch: { ...TREE_DEFAULTS.branch, width: quantityOption(o.branchWidth, '--branch-width', 'length', true) ?? TREE_DEFAULTS.branch.width, depth: quantityOption(o.depth, '--depth', 'length', true) ?? TREE_DEFAULTS.branch.depth },
         branchScale: numberOption(o.branchScale, '--branch-scale')!,
-      }), o.out);
+      }), o);
     });
 }

@@ -20,6 +20,8 @@ import { plainOutflow } from '../../src/solver/sensitivity.js';
 import { editedLayoutText } from '../../src/layout/tunedLayout.js';
 import { conductance } from '../../src/physics/section.js';
 import type { Chip } from '../../src/network/model.js';
+import type { LayoutNode, LayoutSegment } from '../../src/layout/schema.js';
+import { layoutOf, rect } from '../support/layouts.js';
 import { ngspiceAvailable, ngspiceOperatingPoint, type Circuit } from '../support/ngspice.js';
 import { readFileSync } from 'node:fs';
 
@@ -191,5 +193,64 @@ describe('designChip', () => {
     expect(() => designVariables(chip, [parseDesignVariable('manifold.widths')], DESIGN_DEFAULTS)).toThrow(/mdA1\.width: the layout's own size is outside the fabrication rules/);
     expect(() => parseDesignVariable('feed.depth')).toThrow(/not a design variable/);
     expect(() => designVariables(chip, [parseDesignVariable('nothing.width')], DESIGN_DEFAULTS)).toThrow(/no segment group or segment "nothing"/);
+  });
+});
+
+describe('designChip against a closed form', () => {
+  /**
+   * Two contactors fed from one manifold per phase: inlet → d1 → feed f1 → merge 1, and d1 →
+   * manifold segment m → d2 → feed f2 → merge 2; everything downstream of the merges is the same
+   * for both contactors (identical contactors, and outlet arms straight into the two outlets).
+   * Equal flows Q then need equal merge pressures, and Kirchhoff's laws along the two paths give
+   * p_d1 − p_merge = R_f1·Q and p_d1 − p_merge = R_m·Q + R_f2·Q (the manifold segment carries
+   * the second contactor's Q), so R_f1 = R_f2 + R_m in each phase: the first feed must be as
+   * resistive as the second feed and the manifold segment together (derived here; Hagen–Poiseuille
+   * resistances of the rectangular ducts, per unit viscosity, since each phase is alone in them).
+   */
+  it('sizes the near feeds of a two-contactor chip so that R_f1 = R_f2 + R_m in each phase', () => {
+    const um = 1e-6;
+    const q = 2e-9 / 60;
+    const nodes: LayoutNode[] = [
+      { id: 'inA', type: 'inlet', phase: 'A', flow: q, x: 0, y: 0.004 },
+      { id: 'inB', type: 'inlet', phase: 'B', flow: q, x: 0, y: 0.006 },
+      { id: 'dA1', type: 'junction', x: 0.001, y: 0.004 },
+      { id: 'dA2', type: 'junction', x: 0.003, y: 0.004 },
+      { id: 'dB1', type: 'junction', x: 0.001, y: 0.006 },
+      { id: 'dB2', type: 'junction', x: 0.003, y: 0.006 },
+      { id: 'm1', type: 'merge', inlets: ['fA1', 'fB1'], x: 0.001, y: 0 },
+      { id: 'm2', type: 'merge', inlets: ['fA2', 'fB2'], x: 0.003, y: 0 },
+      { id: 's1', type: 'split', outlets: ['oA1', 'oB1'], x: 0.001, y: -0.02 },
+      { id: 's2', type: 'split', outlets: ['oA2', 'oB2'], x: 0.003, y: -0.02 },
+      { id: 'outA', type: 'outlet', phase: 'A', pressure: 0, x: 0, y: -0.024 },
+      { id: 'outB', type: 'outlet', phase: 'B', pressure: 0, x: 0.004, y: -0.024 },
+    ];
+    const segments: LayoutSegment[] = [
+      rect('eA', 'inA', 'dA1', 300 * um, 50 * um, 1e-3),
+      rect('eB', 'inB', 'dB1', 300 * um, 50 * um, 1e-3),
+      rect('mA', 'dA1', 'dA2', 150 * um, 50 * um, 2e-3),
+      rect('mB', 'dB1', 'dB2', 150 * um, 50 * um, 2e-3),
+      rect('fA1', 'dA1', 'm1', 100 * um, 50 * um, 5e-3),
+      rect('fB1', 'dB1', 'm1', 100 * um, 50 * um, 5e-3),
+      rect('fA2', 'dA2', 'm2', 100 * um, 50 * um, 5e-3),
+      rect('fB2', 'dB2', 'm2', 100 * um, 50 * um, 5e-3),
+      rect('k1', 'm1', 's1', 200 * um, 50 * um, 20e-3, { orientation: 'side' }),
+      rect('k2', 'm2', 's2', 200 * um, 50 * um, 20e-3, { orientation: 'side' }),
+      rect('oA1', 's1', 'outA', 100 * um, 50 * um, 5e-3),
+      rect('oB1', 's1', 'outB', 100 * um, 50 * um, 5e-3),
+      rect('oA2', 's2', 'outA', 100 * um, 50 * um, 5e-3),
+      rect('oB2', 's2', 'outB', 100 * um, 50 * um, 5e-3),
+    ];
+    // A window wide enough that the splits stay pinned whatever the feeds: the closed form is about the feeds.
+    const chip = layoutToChip(layoutOf('two contactors', nodes, segments, { splitWindow: { low: -5000, high: 5000 } }), 'two contactors');
+    const result = designChip(chip, specOf(chip, ['fA1.width', 'fB1.width'], [], 1e-9));
+    expect(result.met).toBe(true);
+    const r0 = (id: string) => {
+      const s = result.chip.segments.find((x) => x.id === id)!;
+      return s.length / conductance(s.section, 1);
+    };
+    // The design's CV of 1e-9 in the flows moves the balance by about as much.
+    for (const phase of ['A', 'B']) expect(Math.abs(r0(`f${phase}1`) - (r0(`f${phase}2`) + r0(`m${phase}`))) / r0(`f${phase}1`)).toBeLessThan(1e-6);
+    // Narrower than the far feed, as a feed must be to add the manifold segment's resistance.
+    expect(result.variables[0]!.sizes[0]!.after).toBeLessThan(100 * um);
   });
 });

@@ -57,6 +57,34 @@ describe('stratiflow make', () => {
     });
   }
 
+  it('writes chips whose splits are all pinned as generated: the default ladder and tree, their B back-pressure centred', async () => {
+    for (const [name, args] of [['default-ladder.yaml', ['ladder']], ['default-tree.yaml', ['tree']]] as const) {
+      const file = join(dir, name);
+      const { code, out } = await runCli(['make', ...args, '--out', file]);
+      expect(code).toBe(0);
+      expect(out).toMatch(/outB back-pressure [\d.]+ Pa: (\d+) of \1 splits pinned/);
+      const { result } = solveChip(loadLayout(file));
+      expect(result.splits.every((s) => s.state === 'pinned'), name).toBe(true);
+    }
+  });
+
+  it('keeps a back-pressure that is given', async () => {
+    const file = join(dir, 'given.yaml');
+    await runCli(['make', 'ladder', '--contactors', '4', '--outlet-b', '0', '--out', file]);
+    expect(loadLayout(file).nodes.find((n) => n.id === 'outB')).toMatchObject({ pressure: 0 });
+  });
+
+  it('with --design sizes the feeds and outlet arms of a Z-shaped ladder for even flow, every split pinned', async () => {
+    const file = join(dir, 'designed.yaml');
+    const { code, out } = await runCli(['make', 'ladder', '--contactors', '8', '--outlets', 'opposite', '--design', '--out', file]);
+    expect(code).toBe(0);
+    expect(out).toMatch(/designed: flow per contactor CV/);
+    const { result } = solveChip(loadLayout(file));
+    expect(result.splits.every((s) => s.state === 'pinned')).toBe(true);
+    expect(result.summary.spread.flowA.cv).toBeLessThanOrEqual(0.01);
+    expect(result.summary.spread.flowB.cv).toBeLessThanOrEqual(0.01);
+  });
+
   it('prints the layout as YAML on standard output without --out', async () => {
     const { code, out } = await runCli(['make', 'tree', '--levels', '1']);
     expect(code).toBe(0);

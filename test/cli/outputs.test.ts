@@ -100,7 +100,7 @@ describe('output paths that cannot be written', () => {
 describe('a reader that closes the pipe early', () => {
   it('ends the command quietly with status 0 (stratiflow make … | head -1)', () => {
     const root = fileURLToPath(new URL('../..', import.meta.url));
-    const script = `import { main } from './src/cli/main.ts'; process.exitCode = await main(['node', 'stratiflow', 'make', 'ladder', '--contactors', '2000']);`;
+    const script = `import { main } from './src/cli/main.ts'; process.exitCode = await main(['node', 'stratiflow', 'make', 'ladder', '--contactors', '2000', '--outlet-b', '0']);`;
     const command = `node --import tsx --input-type=module -e "${script.replace(/"/g, '\\"')}" | head -1 > /dev/null; echo "status \${PIPESTATUS[0]}" >&2`;
     const run = spawnSync('bash', ['-c', command], { cwd: root, encoding: 'utf8', timeout: 60_000 });
     expect(run.stderr).toBe('status 0\n');

@@ -31,7 +31,7 @@ describe('stratiflow at scale', () => {
   }, 120_000);
 
   it('ends quietly with status 0 when the reader closes the pipe early', async () => {
-    const child = spawn(process.execPath, ['--import', 'tsx', join(ROOT, 'test/support/cliProcess.ts'), 'make', 'tree', '--levels', '10'], { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, ['--import', 'tsx', join(ROOT, 'test/support/cliProcess.ts'), 'make', 'tree', '--levels', '10', '--outlet-b', '0'], { cwd: ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
     let err = '';
     child.stderr.on('data', (d: Buffer) => (err += d.toString()));
     // Read the first chunk, then close our end, as `| head -1` does.
