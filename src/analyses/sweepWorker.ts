@@ -1,10 +1,11 @@
 /**
  * A worker thread of the window-map sweep (./window.ts): takes lines of grid points, solves them
- * with continuation and posts each point back as it is done. Started by `windowMap`; never run
+ * with continuation, or single points of a refinement from their own seeds, and posts each
+ * point back as it is done. Started by `windowMap`; never run
  * directly.
  */
 import { parentPort, workerData } from 'node:worker_threads';
-import { sweepLine, type SweepJob, type SweepMessage, type SweepWorkerData } from './window.js';
+import { solveGridPoints, sweepLine, type SweepJob, type SweepMessage, type SweepWorkerData } from './window.js';
 
 const { chip, spec } = workerData as SweepWorkerData;
 const port = parentPort!;
@@ -12,7 +13,8 @@ const post = (message: SweepMessage) => port.postMessage(message);
 
 port.on('message', (job: SweepJob) => {
   try {
-    sweepLine(chip, spec, job.line, job.seed, (point, warm) => post({ kind: 'point', id: job.id, point, warm: job.stream ? warm : undefined }));
+    if (job.kind === 'line') sweepLine(chip, spec, job.line, job.seed, (point, warm) => post({ kind: 'point', id: job.id, point, warm: job.stream ? warm : undefined }));
+    else solveGridPoints(chip, spec, job.points, (point, warm) => post({ kind: 'point', id: job.id, point, warm }));
     post({ kind: 'done', id: job.id });
   } catch (error) {
     post({ kind: 'error', message: error instanceof Error ? error.message : String(error) });
