@@ -158,10 +158,6 @@ export class MapRefinement {
     if (point.class !== 'failed') this.warm[point.j]![point.i] = warm;
   }
 
-  solvedAt(i: number, j: number): WindowPoint | undefined {
-    return this.grid[j]?.[i];
-  }
-
   /** The points to solve next, or undefined when no cell needs refining. */
   nextBatch(): PointToSolve[] | undefined {
     // A failure is tried again before its cells are refined around it (points near a failure
