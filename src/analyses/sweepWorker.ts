@@ -5,16 +5,19 @@
  * directly.
  */
 import { parentPort, workerData } from 'node:worker_threads';
+import { SolverWorkspace } from '../solver/newton.js';
 import { solveGridPoints, sweepLine, type SweepJob, type SweepMessage, type SweepWorkerData } from './window.js';
 
 const { chip, spec } = workerData as SweepWorkerData;
 const port = parentPort!;
 const post = (message: SweepMessage) => port.postMessage(message);
+// One workspace for every batch of single points this thread solves (its holdup tables built once).
+const workspace = new SolverWorkspace();
 
 port.on('message', (job: SweepJob) => {
   try {
     if (job.kind === 'line') sweepLine(chip, spec, job.line, job.seed, (point, warm) => post({ kind: 'point', id: job.id, point, warm: job.stream ? warm : undefined }));
-    else solveGridPoints(chip, spec, job.points, (point, warm) => post({ kind: 'point', id: job.id, point, warm }));
+    else solveGridPoints(chip, spec, job.points, (point, warm) => post({ kind: 'point', id: job.id, point, warm }), workspace);
     post({ kind: 'done', id: job.id });
   } catch (error) {
     post({ kind: 'error', message: error instanceof Error ? error.message : String(error) });

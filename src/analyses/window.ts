@@ -254,13 +254,20 @@ function solveGridPoint(chip: Chip, spec: WindowSpec, solver: SolverOptions, wor
 /**
  * Solves grid points each on its own, from its first seed with every start of the solver; a
  * point tried again (`retry`) from each of its seeds in turn, warm only, until one settles.
- * The points share one solver workspace.
+ * The points share `workspace`: a worker keeps one for all its batches, so that the holdup
+ * tables of etched or trapezoidal contactors are built once per thread, not once per batch
+ * (each solve forgets the factors' pivots, so the answers do not depend on what it solved before).
  */
-export function solveGridPoints(chip: Chip, spec: WindowSpec, points: readonly PointToSolve[], onPoint: (point: WindowPoint, warm: WarmStart | undefined) => void): void {
+export function solveGridPoints(
+  chip: Chip,
+  spec: WindowSpec,
+  points: readonly PointToSolve[],
+  onPoint: (point: WindowPoint, warm: WarmStart | undefined) => void,
+  workspace = new SolverWorkspace(),
+): void {
   const xs = axisValues(spec.x);
   const ys = axisValues(spec.y);
   const solver = { ...SWEEP_SOLVER, ...spec.solver };
-  const workspace = new SolverWorkspace();
   for (const { i, j, seeds, retry } of points) {
     const place = { i, j, x: xs[i]!, y: ys[j]! };
     let found: { point: WindowPoint; solved: SolvedChip } | undefined;
@@ -369,7 +376,8 @@ export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOpt
     rowValues.forEach((j, k) => {
       for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(k), record);
     });
-    for (let batch = refinement.nextBatch(); batch; batch = refinement.nextBatch()) solveGridPoints(chip, spec, batch, record);
+    const workspace = new SolverWorkspace();
+    for (let batch = refinement.nextBatch(); batch; batch = refinement.nextBatch()) solveGridPoints(chip, spec, batch, record, workspace);
   } else {
     await sweepInWorkers(chip, spec, workers, { up, down, rows }, options.seed, record, stream, () => refinement.nextBatch());
   }
