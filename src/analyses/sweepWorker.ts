@@ -11,12 +11,12 @@ import { solveGridPoints, sweepLine, type SweepJob, type SweepMessage, type Swee
 const { chip, spec } = workerData as SweepWorkerData;
 const port = parentPort!;
 const post = (message: SweepMessage) => port.postMessage(message);
-// One workspace for every batch of single points this thread solves (its holdup tables built once).
+// One workspace for every line and batch this thread solves (its holdup tables built once).
 const workspace = new SolverWorkspace();
 
 port.on('message', (job: SweepJob) => {
   try {
-    if (job.kind === 'line') sweepLine(chip, spec, job.line, job.seed, (point, warm) => post({ kind: 'point', id: job.id, point, warm: job.stream ? warm : undefined }));
+    if (job.kind === 'line') sweepLine(chip, spec, job.line, job.seed, (point, warm) => post({ kind: 'point', id: job.id, point, warm: job.stream ? warm : undefined }), workspace);
     else solveGridPoints(chip, spec, job.points, (point, warm) => post({ kind: 'point', id: job.id, point, warm }), workspace);
     post({ kind: 'done', id: job.id });
   } catch (error) {

@@ -208,7 +208,8 @@ export function predictedStart(last: WarmStart, before: WarmStart | undefined): 
  * Solves the points in order. Each starts from the prediction of the last two converged
  * solutions of the line (`seed` stands before the first); a point whose warm start fails is
  * tried by the solver's other attempts (cold, smoothing, Picard). The points of a line share
- * one solver workspace (symbolic analyses, factors).
+ * one solver workspace (symbolic analyses, factors, holdup tables), which a worker keeps for
+ * all its lines (see `solveGridPoints`).
  */
 export function sweepLine(
   chip: Chip,
@@ -216,11 +217,11 @@ export function sweepLine(
   line: readonly LinePoint[],
   seed: WarmStart | undefined,
   onPoint?: (point: WindowPoint, warm: WarmStart | undefined) => void,
+  workspace = new SolverWorkspace(),
 ): LineResult {
   const xs = axisValues(spec.x);
   const ys = axisValues(spec.y);
   const solver = { ...SWEEP_SOLVER, ...spec.solver };
-  const workspace = new SolverWorkspace();
   const points: WindowPoint[] = [];
   const warm: Array<WarmStart | undefined> = [];
   let last = seed;
@@ -370,13 +371,13 @@ export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOpt
   const stream = options.fill !== false;
 
   if (workers === 1) {
-    const upward = sweepLine(chip, spec, up, options.seed, record);
-    const downward = sweepLine(chip, spec, down, upward.warm[0], record);
+    const workspace = new SolverWorkspace();
+    const upward = sweepLine(chip, spec, up, options.seed, record, workspace);
+    const downward = sweepLine(chip, spec, down, upward.warm[0], record, workspace);
     const columnWarm = (k: number) => (k >= r ? upward.warm[k - r] : downward.warm[r - 1 - k]);
     rowValues.forEach((j, k) => {
-      for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(k), record);
+      for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(k), record, workspace);
     });
-    const workspace = new SolverWorkspace();
     for (let batch = refinement.nextBatch(); batch; batch = refinement.nextBatch()) solveGridPoints(chip, spec, batch, record, workspace);
   } else {
     await sweepInWorkers(chip, spec, workers, { up, down, rows }, options.seed, record, stream, () => refinement.nextBatch());
