@@ -8,11 +8,13 @@
  * The two axes are settings (./settings.ts), or their mean and difference (./windowRegion.ts).
  *
  * Exports `axisValues`,
- * `describePoint`, `predictedStart`, `sweepLine`, `windowMap`, `SWEEP_SOLVER`, `POINT_CLASSES`,
+ * `describePoint`, `predictedStart`, `sweepLine`, `solveGridPoints`, `windowMap`, `SWEEP_SOLVER`, `POINT_CLASSES`,
  * `mapTarget`, `targetCrossings` and the types. Continuation: each point starts from the solutions of its neighbours. The
- * seed column is swept up and down from the seed point, then each row right and left from its
- * seed-column point; lines are independent jobs, so the map is the same whatever the number of
- * worker threads (./sweepWorker.ts) that share them.
+ * seed column of a coarse grid is swept up and down from the seed point, then each row right and
+ * left from its seed-column point; then the cells where classes meet, a traced boundary passes or
+ * the figures curve are refined and the rest filled (./windowFill.ts). Lines and refinement
+ * batches are independent jobs, so the map is the same whatever the number of worker threads
+ * (./sweepWorker.ts) that share them.
  * No file I/O; no drawing.
  */
 import type { Worker } from 'node:worker_threads';
@@ -26,6 +28,7 @@ import { StratiflowError } from '../errors.js';
 import { operatingVerdict } from './verdict.js';
 import { min as minOf } from 'd3-array';
 import { settingsAt, type WindowCoordinates } from './windowRegion.js';
+import { COARSE_STRIDE, MapRefinement, type MapFill, type PointToSolve } from './windowFill.js';
 
 // ---------------------------------------------------------------------------------------------
 // Grid and classes
@@ -57,6 +60,12 @@ export interface WindowPoint {
   x: number;
   y: number;
   class: PointClass;
+  /**
+   * Whether the chip was solved here; a point not solved was filled from the solved corners of
+   * its cell (./windowFill.ts): their class, their figures interpolated, counts that the corners
+   * do not share NaN.
+   */
+  solved: boolean;
   /** Starts the solver made (1 when the warm start settled; see solver/newton.ts `attemptPlan`). */
   attempts: number;
   iterations: number;
@@ -91,6 +100,8 @@ export interface WindowMap {
   counts: Record<PointClass, number>;
   splits: number;
   maxPressure?: number;
+  /** How many points were solved and filled, and the estimated error of the filled figures (./windowFill.ts). */
+  fill: MapFill;
 }
 
 export function axisValues(axis: SweepAxis): number[] {
@@ -126,7 +137,7 @@ export interface GridPlace {
 /** The class and figures of one solved chip (`chip` is the solved variant, for its rating). */
 export function describePoint(chip: Chip, solved: SolvedChip, place: GridPlace, attempts = 1): WindowPoint {
   const { result } = solved;
-  const base = { ...place, attempts, iterations: result.iterations };
+  const base = { ...place, solved: true, attempts, iterations: result.iterations };
   if (!result.converged) {
     return {
       ...base, class: 'failed', message: result.message ?? 'no convergence', pinned: 0, leakingAtoB: 0, leakingBtoA: 0, backflow: [],
@@ -197,7 +208,8 @@ export function predictedStart(last: WarmStart, before: WarmStart | undefined): 
  * Solves the points in order. Each starts from the prediction of the last two converged
  * solutions of the line (`seed` stands before the first); a point whose warm start fails is
  * tried by the solver's other attempts (cold, smoothing, Picard). The points of a line share
- * one solver workspace (symbolic analyses, factors).
+ * one solver workspace (symbolic analyses, factors, holdup tables), which a worker keeps for
+ * all its lines (see `solveGridPoints`).
  */
 export function sweepLine(
   chip: Chip,
@@ -205,11 +217,11 @@ export function sweepLine(
   line: readonly LinePoint[],
   seed: WarmStart | undefined,
   onPoint?: (point: WindowPoint, warm: WarmStart | undefined) => void,
+  workspace = new SolverWorkspace(),
 ): LineResult {
   const xs = axisValues(spec.x);
   const ys = axisValues(spec.y);
   const solver = { ...SWEEP_SOLVER, ...spec.solver };
-  const workspace = new SolverWorkspace();
   const points: WindowPoint[] = [];
   const warm: Array<WarmStart | undefined> = [];
   let last = seed;
@@ -217,9 +229,7 @@ export function sweepLine(
   let before: WarmStart | undefined;
   let previousFailed = false;
   for (const { i, j } of line) {
-    const [tx, ty] = settingsAt(spec.coordinates ?? 'settings', [xs[i]!, ys[j]!]);
-    const variant = withSettings(chip, [[spec.x.setting, tx], [spec.y.setting, ty]]);
-    const solved = solveChip(variant, solver, last && predictedStart(last, before), workspace);
+    const { point, solved } = solveGridPoint(chip, spec, solver, workspace, { i, j, x: xs[i]!, y: ys[j]! }, last && predictedStart(last, before));
     if (solved.result.converged) {
       before = previousFailed || last === seed ? undefined : last;
       last = warmStartFrom(solved);
@@ -227,12 +237,48 @@ export function sweepLine(
       before = undefined;
     }
     previousFailed = !solved.result.converged;
-    const point = describePoint(variant, solved, { i, j, x: xs[i]!, y: ys[j]! }, solved.raw.starts);
     points.push(point);
     warm.push(last);
     onPoint?.(point, last);
   }
   return { points, warm };
+}
+
+/** The chip solved at one grid point from `start`, and the point's class and figures. */
+function solveGridPoint(chip: Chip, spec: WindowSpec, solver: SolverOptions, workspace: SolverWorkspace, place: GridPlace, start: WarmStart | undefined): { point: WindowPoint; solved: SolvedChip } {
+  const [tx, ty] = settingsAt(spec.coordinates ?? 'settings', [place.x, place.y]);
+  const variant = withSettings(chip, [[spec.x.setting, tx], [spec.y.setting, ty]]);
+  const solved = solveChip(variant, solver, start, workspace);
+  return { point: describePoint(variant, solved, place, solved.raw.starts), solved };
+}
+
+/**
+ * Solves grid points each on its own, from its first seed with every start of the solver; a
+ * point tried again (`retry`) from each of its seeds in turn, warm only, until one settles.
+ * The points share `workspace`: a worker keeps one for all its batches, so that the holdup
+ * tables of etched or trapezoidal contactors are built once per thread, not once per batch
+ * (each solve forgets the factors' pivots, so the answers do not depend on what it solved before).
+ */
+export function solveGridPoints(
+  chip: Chip,
+  spec: WindowSpec,
+  points: readonly PointToSolve[],
+  onPoint: (point: WindowPoint, warm: WarmStart | undefined) => void,
+  workspace = new SolverWorkspace(),
+): void {
+  const xs = axisValues(spec.x);
+  const ys = axisValues(spec.y);
+  const solver = { ...SWEEP_SOLVER, ...spec.solver };
+  for (const { i, j, seeds, retry } of points) {
+    const place = { i, j, x: xs[i]!, y: ys[j]! };
+    let found: { point: WindowPoint; solved: SolvedChip } | undefined;
+    for (const seed of retry ? seeds : [seeds[0]]) {
+      found = solveGridPoint(chip, spec, retry ? { ...solver, maxAttempts: 1 } : solver, workspace, place, seed);
+      if (found.solved.result.converged) break;
+    }
+    if (!found) continue;
+    onPoint(found.point, found.solved.result.converged ? warmStartFrom(found.solved) : undefined);
+  }
 }
 
 export interface WindowOptions {
@@ -241,13 +287,20 @@ export interface WindowOptions {
   /** Warm start for the first grid point (e.g. the chip's solution as given). */
   seed?: WarmStart;
   /**
-   * The grid point the sweep starts from (default 0, 0): a point where the chip works, near the
-   * seed's settings, lets continuation go outward from working states into failing ones, which
-   * the solver follows better than the reverse.
+   * The grid point the sweep starts from (default 0, 0; with `fill`, the nearest coarse one): a
+   * point where the chip works, near the seed's settings, lets continuation go outward from
+   * working states into failing ones, which the solver follows better than the reverse.
    */
   seedColumn?: number;
   seedRow?: number;
-  /** Called after each solved point with the number done and the total. */
+  /**
+   * Solve a coarse grid and refine only where classes meet, a traced boundary passes or the
+   * figures curve, filling the rest (./windowFill.ts); default true. False solves every point.
+   */
+  fill?: boolean;
+  /** Traced boundaries (./windowRegion.ts) in the map's coordinates: every cell they cross is solved down to single steps. */
+  boundaries?: ReadonlyArray<ReadonlyArray<readonly [number, number]>>;
+  /** Called after each solved or filled point with the number done and the total. */
   onProgress?: (done: number, total: number) => void;
 }
 
@@ -257,20 +310,29 @@ export interface SweepWorkerData {
   spec: WindowSpec;
 }
 
-/** Messages to a worker: a line to sweep. */
-export interface SweepJob {
-  id: number;
-  line: LinePoint[];
-  seed?: WarmStart;
-  /** Send each point's warm start back as it is solved (the first column seeds the rows). */
-  stream: boolean;
-}
+/** Messages to a worker: a line to sweep by continuation, or points to solve each from its own seeds. */
+export type SweepJob =
+  | {
+      kind: 'line';
+      id: number;
+      line: LinePoint[];
+      seed?: WarmStart;
+      /** Send each point's warm start back as it is solved (the first column seeds the rows; a filled map seeds its refinement). */
+      stream: boolean;
+    }
+  | { kind: 'points'; id: number; points: PointToSolve[] };
 
 /** Messages from a worker. */
 export type SweepMessage =
   | { kind: 'point'; id: number; point: WindowPoint; warm?: WarmStart }
   | { kind: 'done'; id: number }
   | { kind: 'error'; message: string };
+
+/**
+ * Points per job of a refinement batch: fixed, so that which points share a solver workspace
+ * does not depend on the number of workers; small, so that two workers share a short batch.
+ */
+const POINTS_PER_JOB = 4;
 
 export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOptions = {}): Promise<WindowMap> {
   const plain = (spec.coordinates ?? 'settings') === 'settings';
@@ -280,36 +342,54 @@ export async function windowMap(chip: Chip, spec: WindowSpec, options: WindowOpt
   if (spec.x.setting.node === spec.y.setting.node) throw new StratiflowError('bad-option', `both swept settings act on node "${spec.x.setting.node}"; choose settings of two different nodes`);
   const nx = spec.x.steps;
   const ny = spec.y.steps;
+  const xValues = axisValues(spec.x);
+  const yValues = axisValues(spec.y);
   const total = nx * ny;
-  const grid: WindowPoint[][] = Array.from({ length: ny }, () => new Array<WindowPoint>(nx));
-  let done = 0;
-  const record = (p: WindowPoint) => {
-    grid[p.j]![p.i] = p;
-    options.onProgress?.(++done, total);
+  const refinement = new MapRefinement(xValues, yValues, options.boundaries ?? [], options.fill === false ? 1 : COARSE_STRIDE);
+  const { x: columns, y: rowValues } = refinement.coarse();
+  const seen = new Set<number>();
+  const record = (p: WindowPoint, warm: WarmStart | undefined) => {
+    refinement.record(p, warm);
+    const key = p.j * nx + p.i;
+    if (seen.has(key)) return;
+    seen.add(key);
+    options.onProgress?.(seen.size, total);
   };
   // The seed column is swept from the seed row up and then down; each row from the seed column
-  // right and left.
-  const c = Math.min(nx - 1, Math.max(0, options.seedColumn ?? 0));
-  const r = Math.min(ny - 1, Math.max(0, options.seedRow ?? 0));
-  const up: LinePoint[] = Array.from({ length: ny - r }, (_, k) => ({ i: c, j: r + k }));
-  const down: LinePoint[] = Array.from({ length: r }, (_, k) => ({ i: c, j: r - 1 - k }));
+  // right and left, over the coarse grid's values.
+  const nearest = (values: number[], k: number | undefined) => {
+    const want = Math.min(values.at(-1)!, Math.max(0, k ?? 0));
+    return values.reduce((best, v, n) => (Math.abs(v - want) < Math.abs(values[best]! - want) ? n : best), 0);
+  };
+  const c = nearest(columns, options.seedColumn);
+  const r = nearest(rowValues, options.seedRow);
+  const up: LinePoint[] = rowValues.slice(r).map((j) => ({ i: columns[c]!, j }));
+  const down: LinePoint[] = rowValues.slice(0, r).reverse().map((j) => ({ i: columns[c]!, j }));
   const rows = (j: number): LinePoint[][] =>
-    [Array.from({ length: nx - 1 - c }, (_, k) => ({ i: c + 1 + k, j })), Array.from({ length: c }, (_, k) => ({ i: c - 1 - k, j }))].filter((line) => line.length > 0);
+    [columns.slice(c + 1).map((i) => ({ i, j })), columns.slice(0, c).reverse().map((i) => ({ i, j }))].filter((line) => line.length > 0);
   const workers = Math.max(1, Math.min(options.workers ?? 1, ny));
+  const stream = options.fill !== false;
 
   if (workers === 1) {
-    const upward = sweepLine(chip, spec, up, options.seed, record);
-    const downward = sweepLine(chip, spec, down, upward.warm[0], record);
-    const columnWarm = (j: number) => (j >= r ? upward.warm[j - r] : downward.warm[r - 1 - j]);
-    for (let j = 0; j < ny; j++) for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(j), record);
+    const workspace = new SolverWorkspace();
+    const upward = sweepLine(chip, spec, up, options.seed, record, workspace);
+    const downward = sweepLine(chip, spec, down, upward.warm[0], record, workspace);
+    const columnWarm = (k: number) => (k >= r ? upward.warm[k - r] : downward.warm[r - 1 - k]);
+    rowValues.forEach((j, k) => {
+      for (const line of rows(j)) sweepLine(chip, spec, line, columnWarm(k), record, workspace);
+    });
+    for (let batch = refinement.nextBatch(); batch; batch = refinement.nextBatch()) solveGridPoints(chip, spec, batch, record, workspace);
   } else {
-    await sweepInWorkers(chip, spec, workers, { up, down, rows }, options.seed, record);
+    await sweepInWorkers(chip, spec, workers, { up, down, rows }, options.seed, record, stream, () => refinement.nextBatch());
   }
 
+  const { points: grid, fill } = refinement.finish();
+  let done = seen.size;
+  for (let k = done; k < total; k++) options.onProgress?.(++done, total);
   const counts = Object.fromEntries(POINT_CLASSES.map((c) => [c, 0])) as Record<PointClass, number>;
   for (const p of grid.flat()) counts[p.class]++;
   const splits = chip.nodes.filter((n) => n.kind === 'split').length;
-  return { spec, xValues: axisValues(spec.x), yValues: axisValues(spec.y), points: grid, counts, splits, maxPressure: chip.maxPressure };
+  return { spec, xValues, yValues, points: grid, counts, splits, maxPressure: chip.maxPressure, fill };
 }
 
 function startWorker(data: SweepWorkerData): Worker {
@@ -319,7 +399,8 @@ function startWorker(data: SweepWorkerData): Worker {
 /**
  * The seed column is swept up from the seed row (streaming each point's warm start back), and
  * down from it once the seed point is known; every row's lines are queued as soon as its
- * column point is known and taken by the next idle worker.
+ * column point is known and taken by the next idle worker. Once every line is done, the
+ * refinement's batches (`next`) follow, each in jobs of POINTS_PER_JOB points, until it has none.
  */
 function sweepInWorkers(
   chip: Chip,
@@ -327,17 +408,19 @@ function sweepInWorkers(
   count: number,
   lines: { up: LinePoint[]; down: LinePoint[]; rows: (j: number) => LinePoint[][] },
   seed: WarmStart | undefined,
-  record: (p: WindowPoint) => void,
+  record: (p: WindowPoint, warm: WarmStart | undefined) => void,
+  stream: boolean,
+  next: () => PointToSolve[] | undefined,
 ): Promise<void> {
   const UP = -1;
   const DOWN = -2;
   let pending = 0;
-  let next = 0;
+  let id = 0;
   return runPool<SweepJob, SweepMessage>(
     Array.from({ length: count }, () => startWorker({ chip, spec })),
     (pool) => {
       pending++;
-      pool.submit({ id: UP, line: lines.up, seed, stream: true });
+      pool.submit({ kind: 'line', id: UP, line: lines.up, seed, stream: true });
     },
     (message, pool) => {
       if (message.kind === 'error') {
@@ -345,20 +428,30 @@ function sweepInWorkers(
         return false;
       }
       if (message.kind === 'point') {
-        record(message.point);
+        record(message.point, message.warm);
         if (message.id !== UP && message.id !== DOWN) return false;
         // A column point: its row can start, and the first one also starts the way down.
         if (message.id === UP && message.point.j === lines.up[0]!.j && lines.down.length > 0) {
           pending++;
-          pool.submit({ id: DOWN, line: lines.down, seed: message.warm, stream: true });
+          pool.submit({ kind: 'line', id: DOWN, line: lines.down, seed: message.warm, stream: true });
         }
         for (const line of lines.rows(message.point.j)) {
           pending++;
-          pool.submit({ id: next++, line, seed: message.warm, stream: false });
+          pool.submit({ kind: 'line', id: id++, line, seed: message.warm, stream });
         }
         return false;
       }
-      if (--pending === 0) pool.finish();
+      if (--pending === 0) {
+        const batch = next();
+        if (!batch) {
+          pool.finish();
+          return true;
+        }
+        for (let k = 0; k < batch.length; k += POINTS_PER_JOB) {
+          pending++;
+          pool.submit({ kind: 'points', id: id++, points: batch.slice(k, k + POINTS_PER_JOB) });
+        }
+      }
       return true;
     },
   );

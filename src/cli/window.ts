@@ -214,6 +214,8 @@ export function registerWindow(program: Command, context: CommandContext): void 
           // From the grid point nearest the point as given (a working one, or inside the region).
           seedColumn: nearestStep(spec.x, (current ?? region.inside)?.[0]),
           seedRow: nearestStep(spec.y, (current ?? region.inside)?.[1]),
+          // Every cell the traced boundary crosses is solved down to single grid steps.
+          boundaries: region.pieces.map((piece) => piece.points),
           onProgress: progress.onProgress,
         });
       } finally {

@@ -132,10 +132,12 @@ export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks
         pieces: marks.region.pieces.map((piece) => ({ points: piece.points.map(at), label: pieceLabel(piece.limit, piece.alike) })),
       }
     : undefined;
+  const notes = fillNote(map);
   return regionMap({
     title: `${chipName}: operating window`,
     width: 760,
-    height: 620,
+    height: 620 + (notes.length > 0 ? 36 : 0),
+    notes,
     x: { label: ax.name, unit: ax.symbol, domain: [(x.from - half(x)) * ax.factor, (x.to + half(x)) * ax.factor] },
     y: { label: ay.name, unit: ay.symbol, domain: [(y.from - half(y)) * ay.factor, (y.to + half(y)) * ay.factor] },
     classes: POINT_CLASSES.map((c) => CLASS_LABELS[c]),
@@ -159,12 +161,31 @@ export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks
   });
 }
 
+/**
+ * What the map says of its filled points: how many, that their class is their cell's and their
+ * figures interpolated, and the estimated error of the contoured figures (./../analyses/windowFill.ts).
+ */
+export function fillNote(map: WindowMap): string[] {
+  const { fill } = map;
+  if (fill.filled === 0) return [];
+  const total = fill.solved + fill.filled;
+  const error = [
+    Number.isFinite(fill.throughputError) ? `throughput ${fmt(fill.throughputError * DISPLAY.flow.factor, 2)} ${DISPLAY.flow.symbol}` : undefined,
+    Number.isFinite(fill.flowRatioError) ? `flow ratio ${fmt(fill.flowRatioError, 2)}` : undefined,
+  ].filter(Boolean).join(', ');
+  return [
+    `${fill.solved} of ${total} grid points solved; ${fill.filled} filled with the class their cell's solved corners share (no traced boundary crosses those cells),`,
+    `their throughput and ratio interpolated${error ? ` (estimated error at most ${error}, from second differences of the coarse grid)` : ''}.`,
+  ];
+}
+
 const CSV_COLUMNS: Array<{ name: (map: WindowMap) => string; value: (p: WindowPoint, map: WindowMap) => number | string }> = [
   { name: () => 'i', value: (p) => p.i },
   { name: () => 'j', value: (p) => p.j },
   { name: (m) => axisOf(m, 'x').column, value: (p, m) => p.x * axisOf(m, 'x').factor },
   { name: (m) => axisOf(m, 'y').column, value: (p, m) => p.y * axisOf(m, 'y').factor },
   { name: () => 'class', value: (p) => p.class },
+  { name: () => 'solved', value: (p) => (p.solved ? 'yes' : 'filled') },
   { name: () => 'pinned', value: (p) => p.pinned },
   { name: () => 'leakingAtoB', value: (p) => p.leakingAtoB },
   { name: () => 'leakingBtoA', value: (p) => p.leakingBtoA },
@@ -246,6 +267,7 @@ export function windowText(chipName: string, map: WindowMap, marks: WindowMarks,
   }
   out.push('');
   out.push(`grid: ${total} points, ${map.splits} splits each; ${run.seconds.toFixed(1)} s on ${run.workers} worker${run.workers > 1 ? 's' : ''}`);
+  for (const line of fillNote(map)) out.push(`  ${line}`);
   const width = maxOf(POINT_CLASSES.map((c) => CLASS_LABELS[c].length)) ?? -Infinity;
   for (const c of POINT_CLASSES) {
     if (map.counts[c] === 0) continue;

@@ -14,6 +14,7 @@ import { stringify } from 'yaml';
 import { runCli } from '../support/cli.js';
 import { fileURLToPath } from 'node:url';
 import { A1, A2, HAND, singleContactor } from '../support/handWindow.js';
+import { segmentMeetsBox } from '../../src/analyses/windowFill.js';
 
 describe('stratiflow window', () => {
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-window-'));
@@ -45,6 +46,22 @@ describe('stratiflow window', () => {
       for (const [pA, pB] of piece.points) expect(Math.abs(A1 * pA + A2 * pB - limit) / (HAND.high - HAND.low)).toBeLessThan(1e-6);
     }
     expect(out).toMatch(/working region .* traced exactly: closed/);
+    // Every grid step that the traced boundary crosses has its four corners solved, not filled
+    // (src/analyses/windowFill.ts); the files say which points were solved.
+    expect(rows[0]).toMatch(/,class,solved,/);
+    expect(grid.fill.solved + grid.fill.filled).toBe(13 * 15);
+    const { points, xValues, yValues } = grid as { points: Array<Array<{ solved: boolean }>>; xValues: number[]; yValues: number[] };
+    const polygon = grid.region.polygon as Array<[number, number]>;
+    let crossed = 0;
+    for (let j = 0; j + 1 < yValues.length; j++) {
+      for (let i = 0; i + 1 < xValues.length; i++) {
+        const box = { x: [xValues[i]!, xValues[i + 1]!] as [number, number], y: [yValues[j]!, yValues[j + 1]!] as [number, number] };
+        if (!polygon.some((a, k) => k + 1 < polygon.length && segmentMeetsBox(a, polygon[k + 1]!, box))) continue;
+        crossed++;
+        for (const [a, b] of [[i, j], [i + 1, j], [i, j + 1], [i + 1, j + 1]] as const) expect(points[b]![a]!.solved, `${a},${b}`).toBe(true);
+      }
+    }
+    expect(crossed).toBeGreaterThan(0);
   });
 
   it('draws the enzyme chip\'s working band with no options: mean and difference axes, the band a few pascals wide around the point as given', async () => {

@@ -9,7 +9,7 @@ import {
   FONT_SIZE, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, num, serialise,
   type Frame, type LegendEntry, type SvgNode,
 } from '../svg.js';
-import { axisTitle, beginChart, numericAxis, pixelTicks } from './axes.js';
+import { axisTitle, beginChart, drawNotes, notesRoom, numericAxis, pixelTicks } from './axes.js';
 import { isoSegments, joinSegments } from './contours.js';
 import { LabelPlacer, cellEdges, drawPoints, gridSize } from './grid.js';
 import type { ChartSpec, Grid, GridAxisSpec, MarkedPoint, Point } from './spec.js';
@@ -77,7 +77,9 @@ export function regionMap(spec: RegionMapSpec): string {
     ...(spec.region ? [{ text: spec.region.label, swatch: regionSwatch(spec.region.fillClass) }] : []),
     ...(spec.outlines ?? []).map((o) => ({ text: o.label, swatch: outlineSwatch(o) })),
   ];
-  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label));
+  const notes = spec.notes ?? [];
+  const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label), { bottom: notesRoom(notes) });
+  drawNotes(root, frame, notes);
   hatchDefs(root, spec.classes.length);
   x.scale.range([frame.x0, frame.x1]);
   y.scale.range([frame.y1, frame.y0]);
