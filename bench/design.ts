@@ -4,7 +4,7 @@
  * CV of 0.2 %), and the same channels on the generator's ladder numbered up to 16 and 32
  * contactors (an invented demo: the 8-contactor chip's back-pressure, so that most splits leak
  * and some feeds starve at the start; to a CV of 1 %). Reports time, steps and solves, and
- * whether the design met its targets. Exports `benchDesign`.
+ * whether the design met its targets. Exports `benchDesign` and `dyeLadder`.
  */
 import { ladderLayout } from '../src/layout/generate.js';
 import { layoutToChip, loadLayout } from '../src/layout/load.js';
@@ -16,7 +16,8 @@ import type { Row } from './report.js';
 const um = 1e-6;
 const uLmin = 1e-9 / 60;
 
-function dyeLadder(contactors: number): Chip {
+/** The bundled dye chip's channels and back-pressure on the generator's ladder of `contactors` (also a test case). */
+export function dyeLadder(contactors: number): Chip {
   const layout = ladderLayout({
     contactors,
     pitch: 1.5e-3,

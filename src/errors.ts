@@ -73,6 +73,16 @@ export class StratiflowErrors extends StratiflowError {
 /** Problems printed of one failed load, at most. */
 export const SHOWN_PROBLEMS = 20;
 
+/** Runs `run`; an error it throws without a file is placed in `file` (keeping its element and field). */
+export function inFile<T>(file: string, run: () => T): T {
+  try {
+    return run();
+  } catch (error) {
+    if (error instanceof StratiflowError && !error.place.file) throw new StratiflowError(error.code, error.message, { ...error.place, file });
+    throw error;
+  }
+}
+
 export function optionError(option: string, message: string): StratiflowError {
   return new StratiflowError('bad-option', message, { field: option });
 }

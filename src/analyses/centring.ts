@@ -5,8 +5,8 @@
  * stage of a design from a start where splits leak (a leaking split's sensitivities to widths
  * say little until the chip is near its windows). Exports `centreSplits`. No I/O, no units.
  *
- * Gauss–Newton with a Levenberg–Marquardt weight (Moré, 1978, Lecture Notes in Math. 630:105)
- * on the residuals r_s = (t_s − mid_s)/half_s, with t_s = Δ_s + ℓ_s/κ_s the split law's own
+ * Gauss–Newton with a Levenberg–Marquardt weight (Moré, 1978, "The Levenberg–Marquardt
+ * algorithm: implementation and theory", Numerical Analysis, Springer, pp. 105–116) on the residuals r_s = (t_s − mid_s)/half_s, with t_s = Δ_s + ℓ_s/κ_s the split law's own
  * trial value (Δ while pinned; past a limit, by how much the leak pushes), whose slopes in each
  * setting come from the factored Jacobian (solver/sensitivity.ts). A step is kept where ‖r‖²
  * falls; the weight starts at 0 (Gauss–Newton: Δ is linear in the settings while the splits

@@ -16,8 +16,9 @@
  * Method: a Gauss–Newton SQP on the ℓ∞ exact penalty function (Sℓ∞QP: Fletcher, Practical
  * Methods of Optimization, 1987, §12.3–12.4; Yuan, 1995, Math. Programming 69:49): each step
  * minimises the model ½‖r + R·d‖² + μ·(largest violation of the linearised rows) within the
- * rules' bounds, with a Levenberg–Marquardt term λ‖d‖² as its trust region (Moré, 1978, Lecture
- * Notes in Math. 630:105; elasticQp.ts); the step is taken where the merit ½‖r‖² + μ·(largest
+ * rules' bounds (elasticQp.ts), with a Levenberg–Marquardt term λ‖d‖² as its trust region
+ * (Moré, 1978, "The Levenberg–Marquardt algorithm: implementation and theory", Numerical
+ * Analysis, Springer, pp. 105–116); the step is taken where the merit ½‖r‖² + μ·(largest
  * violation) falls by at least a tenth of what the model predicted, λ falls or rises with that
  * ratio, μ is steered up while violations remain, and a second-order correction follows a step
  * refused because the rows curve. Gauss–Newton because the residual is small at a good design,
@@ -29,14 +30,13 @@
  * segment's conductance, d ln g/d y = d ln k/d ln w (a central difference of the section's
  * conductance in ln w, error about 1e-9 relative), a length as d ln g/d y = −1.
  */
-import { max } from 'd3-array';
-import { conductance, nominalSize, shiftedSection } from '../physics/section.js';
+import { conductance, nominalSize } from '../physics/section.js';
 import { NetworkTangents, plainOutflow, type Tangent } from '../solver/sensitivity.js';
 import type { SolverOptions } from '../solver/defaults.js';
 import type { Chip, PhaseName } from '../network/model.js';
 import { StratiflowError } from '../errors.js';
-import { solveChip, warmStartFrom, type SolvedChip } from './chip.js';
-import { applyDesign, type DesignVariable } from './designSpec.js';
+import { solveChip, spreadOf, warmStartFrom, type SolvedChip } from './chip.js';
+import { applyDesign, sizeOf, withWidth, type DesignVariable } from './designSpec.js';
 import { elasticStep, type LinearRow } from './elasticQp.js';
 import { centreSplits } from './centring.js';
 import { settingName, withSettings, type Setting } from './settings.js';
@@ -148,7 +148,7 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
   const margins = net.splits.map((sp) => {
     const width = sp.window[1] - sp.window[0];
     const m = spec.margin.pressure ?? (spec.margin.fraction ?? 0) * width;
-    if (!(2 * m < width)) throw new StratiflowError('infeasible', `split ${sp.node.id}: a margin of ${m} Pa from both limits does not fit in its window of ${width} Pa`, { field: '--margin' });
+    if (!(2 * m < width)) throw new StratiflowError('bad-option', `split ${sp.node.id}: a margin of ${m} Pa from both limits does not fit in its window of ${width} Pa`, { field: '--margin' });
     return m;
   });
 
@@ -168,8 +168,7 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
   const upper = [...variables.map((v) => v.bounds[1]), ...settings.map((_, k) => (settingBounds[k]![1] - settingBase[k]!) / scales[k]!)];
 
   const settingsHeld = settings.length > 0;
-  const flows = (solved: SolvedChip) => inletFlows(solved);
-  const start = flows(before);
+  const start = inletFlows(before);
   const targets = {
     throughput: spec.throughput ?? (settingsHeld ? start.A + start.B : undefined),
     ratio: spec.ratio ?? (settingsHeld ? start.A / start.B : undefined),
@@ -278,7 +277,7 @@ export function designChip(base: Chip, spec: DesignSpec): DesignResult {
       variable: v,
       factor: Math.exp(y[k]!),
       bounds: [Math.exp(v.bounds[0]), Math.exp(v.bounds[1])],
-      sizes: v.segments.map((i) => ({ segment: base.segments[i]!.id, before: sizeOfSegment(base, i, v), after: sizeOfSegment(after.chip, i, v) })),
+      sizes: v.segments.map((i) => ({ segment: base.segments[i]!.id, before: sizeOf(base.segments[i]!, v.quantity), after: sizeOf(after.chip.segments[i]!, v.quantity) })),
       active: activeBound(y[k]!, v.bounds[0], v.bounds[1]),
     })),
     settings: settings.map((f, k) => ({
@@ -317,16 +316,11 @@ function settingOf(chip: Chip, setting: Setting): number {
   return value;
 }
 
-function sizeOfSegment(chip: Chip, i: number, v: DesignVariable): number {
-  const s = chip.segments[i]!;
-  return v.quantity === 'length' ? s.length : nominalSize(s.section, 'width');
-}
-
 /** d ln k/d ln w of segment i's section, by a central difference in ln w. */
 function widthLogSlope(chip: Chip, i: number): number {
   const section = chip.segments[i]!.section;
   const w = nominalSize(section, 'width');
-  const at = (factor: number) => Math.log(conductance(shiftedSection(section, w * (factor - 1), 0).section, 1));
+  const at = (factor: number) => Math.log(conductance(withWidth(section, w * factor), 1));
   return (at(Math.exp(WIDTH_STEP)) - at(Math.exp(-WIDTH_STEP))) / (2 * WIDTH_STEP);
 }
 
@@ -336,7 +330,7 @@ function scaledTangent(t: Tangent, scale: number): Tangent {
   return { pressure: times(t.pressure), holdup: times(t.holdup), leak: times(t.leak), plainFlow: times(t.plainFlow), laneFlow: times(t.laneFlow), outflow: times(t.outflow), splitDelta: times(t.splitDelta) };
 }
 
-/** What the inlets of each phase deliver (a pressure-set inlet its port's net outflow), and the ports of each phase's inlets. */
+/** What the inlets of each phase deliver (a pressure-set inlet its port's net outflow). */
 function inletFlows(solved: SolvedChip): { A: number; B: number } {
   const outflow = plainOutflow(solved.network, solved.raw.plainFlow);
   const sum = { A: 0, B: 0 };
@@ -346,15 +340,12 @@ function inletFlows(solved: SolvedChip): { A: number; B: number } {
   return sum;
 }
 
+/** The coefficient of variation of each phase's feed flow into the contactors (as the design measures it). */
 function cvOf(solved: SolvedChip, ports: number[], phaseOfPort: (port: number) => PhaseName): { A: number; B: number } {
   const outflow = plainOutflow(solved.network, solved.raw.plainFlow);
   const byPhase = { A: [] as number[], B: [] as number[] };
   for (const port of ports) byPhase[phaseOfPort(port)].push(-outflow[port]!);
-  const cv = (f: number[]) => {
-    const mean = f.reduce((a, b) => a + b, 0) / f.length;
-    return Math.sqrt(f.reduce((a, v) => a + (v - mean) ** 2, 0) / f.length) / Math.abs(mean);
-  };
-  return { A: cv(byPhase.A), B: cv(byPhase.B) };
+  return { A: spreadOf(byPhase.A).cv, B: spreadOf(byPhase.B).cv };
 }
 
 interface MeasureContext {

@@ -2,7 +2,7 @@
  * What a design may change and within which fabrication rules: segment groups (or single
  * segments) whose width or length varies, as one factor for the whole group or one per segment
  * (a tapered manifold), the settings left free, and the bounds each implies. Exports
- * `parseDesignVariable`, `designVariables`, `applyDesign`, `sizeOf`, `DESIGN_DEFAULTS` and the
+ * `parseDesignVariable`, `designVariables`, `applyDesign`, `sizeOf`, `withWidth`, `DESIGN_DEFAULTS` and the
  * types. No solving here; SI units.
  *
  * A geometric variable is the natural logarithm of a factor on its segments' sizes as laid out
@@ -64,7 +64,8 @@ export function sizeOf(segment: ChipSegment, quantity: DesignQuantity): number {
   return quantity === 'length' ? segment.length : nominalSize(segment.section, 'width');
 }
 
-function withWidth(section: Section, width: number): Section {
+/** The section with its width (mask width, bottom width, diameter) set to `width`, its depth kept. */
+export function withWidth(section: Section, width: number): Section {
   return shiftedSection(section, width - nominalSize(section, 'width'), 0).section;
 }
 

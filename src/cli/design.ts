@@ -6,7 +6,6 @@
  * A design that falls short prints what binds, writes nothing and ends with exit status 3.
  * Exports `registerDesign`; the text is render/designText.ts, the search analyses/design.ts.
  */
-import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { loadLayout, readLayoutText } from '../layout/load.js';
 import { designChip, type DesignResult } from '../analyses/design.js';
@@ -17,13 +16,13 @@ import { designHeader, designText } from '../render/designText.js';
 import { parseQuantity } from '../units/quantity.js';
 import { DISPLAY, fmt } from '../units/format.js';
 import { collect, freedomOption, linearOption, numberOption, quantityOption, type LinearSolver } from './options.js';
-import { outputFile, writeOutputs, type Output } from './io.js';
+import { besideLayout, outputFile, writeOutputs, type Output } from './io.js';
 import { liveReport } from './pageScript.js';
 import { chipReport } from '../render/report.js';
 import { designCharts } from '../render/designCharts.js';
 import { findManifolds } from '../analyses/manifolds.js';
 import { jsonNumbers, type CommandContext } from './context.js';
-import { StratiflowError, optionError } from '../errors.js';
+import { StratiflowError, inFile, optionError } from '../errors.js';
 import type { ChipSegment } from '../network/model.js';
 
 interface DesignOptions {
@@ -119,12 +118,10 @@ export function registerDesign(program: Command, context: CommandContext): void 
       const maxLengthFactor = numberOption(o.maxLengthen, '--max-lengthen')!;
       if (!(maxLengthFactor >= 1)) throw optionError('--max-lengthen', 'a factor of 1 or more');
       const rules = { ...DESIGN_DEFAULTS, minWidth, maxWidth, maxLengthFactor };
-      const ext = extname(file);
-      const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-designed${ext || '.yaml'}`), '--out');
+      const out = outputFile(o.out ?? besideLayout(file, 'designed'), '--out');
       const report = o.report === undefined ? undefined : outputFile(o.report, '--report');
-      let result: DesignResult;
-      try {
-        result = designChip(chip, {
+      const result = inFile(file, () =>
+        designChip(chip, {
           variables: designVariables(chip, selectors, rules),
           settings,
           flowCv: fractionOption(o.flowCv, '--flow-cv'),
@@ -132,11 +129,8 @@ export function registerDesign(program: Command, context: CommandContext): void 
           throughput: o.throughput === undefined ? undefined : parseQuantity(o.throughput, 'flow', { field: '--throughput' }),
           ratio: o.ratio === undefined ? undefined : numberOption(o.ratio, '--ratio'),
           solver: { linear: o.linear as LinearSolver },
-        });
-      } catch (error) {
-        if (error instanceof StratiflowError && !error.place.file) throw new StratiflowError(error.code, error.message, { ...error.place, file });
-        throw error;
-      }
+        }),
+      );
       if (result.met) {
         const text = editedLayoutText(readLayoutText(file), out.endsWith('.json'), editsOf(result), designHeader(result));
         const files: Output[] = [{ path: out, option: '--out', content: text }];

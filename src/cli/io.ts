@@ -6,10 +6,10 @@
  * error; at the end every file is written to a temporary name beside its target and only then
  * are all renamed (`writeOutputs`), so a failure leaves no half-written result. Every problem
  * is a StratiflowError('bad-output') naming the path and the option.
- * Exports `outputFile`, `outputFolder`, `writeOutputs`.
+ * Exports `outputFile`, `outputFolder`, `writeOutputs`, `besideLayout` (the default path of a file derived from a layout).
  */
 import { mkdirSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
-import { basename, dirname, join, resolve } from 'node:path';
+import { basename, dirname, extname, join, resolve } from 'node:path';
 import { StratiflowError } from '../errors.js';
 
 /** A file to write, with the option that named it (for messages). */
@@ -116,4 +116,10 @@ export function writeOutputs(outputs: readonly Output[], folders: ReadonlyArray<
     cleanUp();
     throw error;
   }
+}
+
+/** The default path of a file derived from a layout: beside it, with `-suffix` in its name and the same extension. */
+export function besideLayout(layout: string, suffix: string): string {
+  const ext = extname(layout);
+  return join(dirname(layout), `${basename(layout, ext)}-${suffix}${ext || '.yaml'}`);
 }

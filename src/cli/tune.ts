@@ -7,22 +7,21 @@
  * that says why, and exit status 3.
  * Exports `registerTune`; the text is render/tuneText.ts, the tuned file layout/tunedLayout.ts.
  */
-import { basename, dirname, extname, join } from 'node:path';
 import type { Command } from 'commander';
 import { holdTolerances } from '../analyses/hold.js';
 import { loadLayout, readLayoutText } from '../layout/load.js';
-import { defaultFreedoms, tuneChip, type Target, type TargetKind, type TuneResult } from '../analyses/tune.js';
+import { defaultFreedoms, tuneChip, type Target, type TargetKind } from '../analyses/tune.js';
 import { tunedLayoutText } from '../layout/tunedLayout.js';
 import { tuneHeader, tuneText } from '../render/tuneText.js';
 import { parseQuantity } from '../units/quantity.js';
 import { collect, freedomOption, numberOption, linearOption, type LinearSolver } from './options.js';
-import { outputFile, writeOutputs, type Output } from './io.js';
+import { besideLayout, outputFile, writeOutputs, type Output } from './io.js';
 import { liveReport } from './pageScript.js';
 import { chipReport } from '../render/report.js';
 import { findManifolds } from '../analyses/manifolds.js';
 import { jsonNumbers, type CommandContext } from './context.js';
 
-import { StratiflowError, optionError } from '../errors.js';
+import { inFile, optionError } from '../errors.js';
 
 interface TuneOptions {
   flowA?: string;
@@ -72,16 +71,9 @@ export function registerTune(program: Command, context: CommandContext): void {
       const linear = o.linear as LinearSolver;
       const targets = targetsOf(o);
       const vary = o.vary.length > 0 ? o.vary.map((v) => freedomOption(v, chip)) : defaultFreedoms(chip);
-      const ext = extname(file);
-      const out = outputFile(o.out ?? join(dirname(file), `${basename(file, ext)}-tuned${ext || '.yaml'}`), '--out');
+      const out = outputFile(o.out ?? besideLayout(file, 'tuned'), '--out');
       const report = o.report === undefined ? undefined : outputFile(o.report, '--report');
-      let result: TuneResult;
-      try {
-        result = tuneChip(chip, { targets, vary, solver: { linear } });
-      } catch (error) {
-        if (error instanceof StratiflowError && !error.place.file) throw new StratiflowError(error.code, error.message, { file });
-        throw error;
-      }
+      const result = inFile(file, () => tuneChip(chip, { targets, vary, solver: { linear } }));
       const original = readLayoutText(file);
       const tuned = tunedLayoutText(original, out.endsWith('.json'), result, tuneHeader(result));
       // How tightly each tuned setting must be held (src/analyses/hold.ts).

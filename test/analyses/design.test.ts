@@ -12,7 +12,7 @@
 import { describe, expect, it } from 'vitest';
 import { fileURLToPath } from 'node:url';
 import { layoutToChip, loadLayout, parseLayout } from '../../src/layout/load.js';
-import { ladderLayout } from '../../src/layout/generate.js';
+import { dyeLadder } from '../../bench/design.js';
 import { solveChip, warmStartFrom } from '../../src/analyses/chip.js';
 import { designChip, designTangents, type DesignSpec } from '../../src/analyses/design.js';
 import { applyDesign, designVariables, parseDesignVariable, DESIGN_DEFAULTS } from '../../src/analyses/designSpec.js';
@@ -152,23 +152,7 @@ describe('designChip', () => {
 
   it('designs from a start where most splits leak and some feeds starve: the dye geometry numbered up to 16 contactors', () => {
     // The 8-contactor chip's channels and back-pressure on the generator's ladder (an invented demo).
-    const um = 1e-6;
-    const ladder = layoutToChip(
-      ladderLayout({
-        contactors: 16,
-        pitch: 1.5e-3,
-        manifold: { width: 1500 * um, depth: 60 * um },
-        contactor: { width: 300 * um, depth: 60 * um, length: 40e-3, orientation: 'side' },
-        feed: { width: 120 * um, depth: 60 * um, length: 6e-3 },
-        drain: { width: 120 * um, depth: 60 * um, length: 6e-3 },
-        phaseA: { label: '1-octanol', viscosity: 7.29e-3, density: 824 },
-        phaseB: { label: 'water', viscosity: 0.89e-3, density: 997 },
-        interfacialTension: 8.5e-3,
-        drive: { A: { flow: (32e-9) / 60 }, B: { flow: (64e-9) / 60 } },
-        outletPressure: { A: 0, B: 772 },
-      }),
-      'dye geometry, 16 contactors',
-    );
+    const ladder = dyeLadder(16);
     const start = solveChip(ladder).result;
     expect(start.splits.filter((s) => s.state !== 'pinned').length).toBeGreaterThan(8);
     const designed = designChip(ladder, specOf(ladder, ['feed.widths', 'drain.widths'], ['outB.pressure'], 0.01));

@@ -68,6 +68,9 @@ describe('stratiflow design', () => {
       expect(run.err.trim().split('\n')).toHaveLength(1);
       expect(run.err).toMatch(message);
     }
+    const wide = await runCli(['design', file, '--vary', 'feed.widths', '--margin', '60%']);
+    expect(wide.code).toBe(2);
+    expect(wide.err).toMatch(/--margin: split s1: a margin of .* Pa from both limits does not fit in its window/);
     const none = await runCli(['design', file, '--vary', 'outB.pressure']);
     expect(none.code).toBe(2);
     expect(none.err).toMatch(/say which segments may change/);
