@@ -15,7 +15,7 @@
 import { solveCurvedInterface } from '../solver/curvedInterface.js';
 import { summariseContactors, type ContactorSummary } from './chip.js';
 import { assembleNetwork, restampNetwork, type Network } from '../network/assemble.js';
-import { solveNetwork } from '../solver/newton.js';
+import { primeWorkspace, solveNetwork } from '../solver/newton.js';
 import { sampleStream, standardNormal, standardUniform } from './random.js';
 import { SolverWorkspace, type WarmStart } from '../solver/newton.js';
 import type { SolverOptions } from '../solver/defaults.js';
@@ -339,11 +339,15 @@ function nominalNetwork(context: JobContext): Network {
   return network;
 }
 
+/** Workspaces primed at the nominal solution (solver/newton.ts `primeWorkspace`), with the context they were primed for. */
+const primed = new WeakMap<SolverWorkspace, JobContext>();
+
 /**
  * Warm start from the nominal solution (the solver itself falls back to a cold start when that
  * does not settle). `workspace` is shared by the jobs of one thread: the realisations have the
- * nominal chip's pattern, so one symbolic analysis serves them all (numeric factors are never
- * carried from one solve to the next, so the outcome does not depend on the job order). The
+ * nominal chip's pattern, so one symbolic analysis serves them all, and every solve starts from
+ * the pivots of the nominal Jacobians (primed on the workspace's first job; numeric factors are
+ * never carried from one solve to the next, so the outcome does not depend on the job order). The
  * network is the nominal one restamped with the realised sizes and fluids, and only the
  * contactors are summarised: the same numbers as `solveChip`, without its fixed costs.
  */
@@ -360,6 +364,10 @@ export function runJob(context: JobContext, job: Job, workspace = new SolverWork
   const realised = realiseChip(context.chip, context.plan, z, scale);
   if (!realised.chip) return { problem: realised.problem };
   try {
+    if (primed.get(workspace) !== context) {
+      primeWorkspace(nominalNetwork(context), context.warm, workspace);
+      primed.set(workspace, context);
+    }
     const network = restampNetwork(nominalNetwork(context), realised.chip);
     const chip = realised.chip;
     const raw = chip.interface === 'curved' ? solveCurvedInterface(network, chip.interfacialTension!, context.solver, context.warm, workspace).raw : solveNetwork(network, context.solver, context.warm, workspace);

@@ -4,8 +4,9 @@
  * sequence of solves) and `linearStep`. Knows nothing of networks.
  *
  * Each Newton matrix is factored: the ordering of its pattern is kept from one solve to the
- * next, and within a solve the pivots too where the search would choose them again (a
- * refactorisation, sparseLu.ts: the same factors to the bit, at about a third of the cost).
+ * next, and within a solve the pivots too while they pass the threshold test (a
+ * refactorisation, sparseLu.ts, at about a third of the cost of a search); a sweep may prime
+ * the pivots each solve starts from (`FactorCache.keepPivotsAsStart`).
  * Refinement sweeps against the last factors were tried before factoring: with
  * refactorisation they no longer pay (one step of a 64-contactor tolerance realisation and of
  * a 4096-contactor solve cost as much or more with them, measured).
@@ -15,18 +16,28 @@ import { factorize, SparseLuSymbolic, type LinearFactor, type SparseMatrix } fro
 /** The symbolic analyses (by pattern) of a sequence of solves, with the pivots of the current one. */
 export class FactorCache {
   private readonly symbolics: Array<{ pattern: SparseMatrix; symbolic: SparseLuSymbolic }> = [];
-  /** Patterns kept: a sweep alternates between at most a few (with and without compositions). */
+  /** Patterns kept besides the primed ones: a sweep alternates between a few (with and without compositions). */
   private static readonly PATTERNS = 4;
 
   /**
-   * Forgets the pivot sequences, keeps the orderings. Results do not depend on it (a
-   * refactorisation gives the factors of a search, to the bit); cost does: the matrices of a new
-   * solve are further from the last solve's than from each other, and pivots kept from one
-   * tolerance realisation to the next failed more often than they served (422 failures for 20
-   * searches saved in 200 realisations, measured).
+   * Every pattern starts again from its primed pivots (`keepPivotsAsStart`), or searches when it
+   * has none; the orderings are kept. A solve's result therefore does not depend on the solves
+   * before it (its factors are those of its own sequence from fixed starting pivots), and its
+   * cost does: a solve's first factorisation refactors from the primed pivots where they pass
+   * the threshold test. Pivots carried from one tolerance realisation to the next would make a
+   * realisation's rounding depend on the one solved before it.
    */
   startSolve(): void {
-    for (const { symbolic } of this.symbolics) symbolic.forgetPivots();
+    for (const { symbolic } of this.symbolics) symbolic.restartPivots();
+  }
+
+  /**
+   * The pivots of the last factorisation of every pattern become the ones each later solve
+   * starts from (`startSolve`), and those patterns are never dropped from the cache (dropping
+   * one would make later solves' starting pivots depend on which patterns came in between).
+   */
+  keepPivotsAsStart(): void {
+    for (const { symbolic } of this.symbolics) symbolic.keepPivotsForRestart();
   }
 
   solve(matrix: SparseMatrix, rhs: Float64Array): Float64Array {
@@ -51,7 +62,8 @@ export class FactorCache {
     if (found) return found.symbolic;
     const symbolic = new SparseLuSymbolic(matrix);
     this.symbolics.unshift({ pattern: matrix, symbolic });
-    if (this.symbolics.length > FactorCache.PATTERNS) this.symbolics.pop();
+    const unprimed = this.symbolics.filter((s) => !s.symbolic.hasRestartPivots);
+    if (unprimed.length > FactorCache.PATTERNS) this.symbolics.splice(this.symbolics.indexOf(unprimed[unprimed.length - 1]!), 1);
     return symbolic;
   }
 }

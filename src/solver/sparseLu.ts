@@ -41,10 +41,11 @@ export function factorizeSparse(a: SparseMatrix, options: SparseLuOptions = {}):
  * What depends only on the nonzero pattern: the column order, and the pivot sequence of the last
  * factorisation. `factor` accepts any matrix with exactly the pattern given to the constructor.
  * After a first factorisation it refactors: the same row pivots, so L and U have the patterns
- * they had and no search is needed (as KLU's refactorisation does; Davis & Palamadai Natarajan,
- * 2010, ACM TOMS 37(3):36), as long as the search would choose every pivot again; otherwise the
- * pivots are chosen afresh. Either way the factors are the search's, to the bit.
- * `forgetPivots` makes the next factorisation search (a cost choice, not a result's).
+ * they had and no search is needed, as long as every kept pivot passes the threshold test;
+ * otherwise the pivots are chosen afresh. The factors therefore depend on the last
+ * factorisation (in rounding only); `forgetPivots` makes the next factorisation search, and
+ * `restartPivots` returns to pivots kept once (`keepPivotsForRestart`), which a sequence of
+ * solves uses so that each solve's result is independent of the solves before it.
  */
 export class SparseLuSymbolic {
   readonly n: number;
@@ -58,6 +59,8 @@ export class SparseLuSymbolic {
   private scratch: Scratch | undefined;
   /** The last factorisation whose pivots a refactorisation keeps. */
   private pivots: TriangularFactors | undefined;
+  /** The pivots `restartPivots` returns to (`keepPivotsForRestart`). */
+  private startPivots: TriangularFactors | undefined;
 
   constructor(pattern: SparseMatrix, options: SparseLuOptions = {}) {
     const { n } = pattern;
@@ -88,6 +91,21 @@ export class SparseLuSymbolic {
 
   forgetPivots(): void {
     this.pivots = undefined;
+  }
+
+  /** The pivots of the last factorisation become those that `restartPivots` returns to. */
+  keepPivotsForRestart(): void {
+    this.startPivots = this.pivots;
+  }
+
+  /** The next factorisation refactors from the pivots kept by `keepPivotsForRestart` (searches when none were kept). */
+  restartPivots(): void {
+    this.pivots = this.startPivots;
+  }
+
+  /** Whether `keepPivotsForRestart` has kept pivots. */
+  get hasRestartPivots(): boolean {
+    return this.startPivots !== undefined;
   }
 }
 
@@ -141,20 +159,29 @@ function leftLookingLu(
 }
 
 /**
+ * A kept pivot off its column's diagonal must be at least this share of the column's largest
+ * candidate: the search took it as the largest, so its multipliers were at most 1; kept at half
+ * the largest they stay at most 2, the growth of partial pivoting within a factor 2 per step
+ * (Higham, 2002, §9.3). At pivotThreshold instead (multipliers up to 10) a window trace of the
+ * enzyme chip lost a boundary point that did not settle (measured).
+ */
+const OFF_DIAGONAL_KEPT = 0.5;
+
+/**
  * P·A·Q = L·U with the row pivots and the L and U patterns of `previous` (a factorisation of a
- * matrix with A's pattern), or undefined when the pivot search would now choose another pivot
- * in some column. Each column is the same left-looking triangular solve as in the search, in
- * the topological order that the search stored in U, without the depth-first search; each
- * pivot is kept only where the search's rule (the diagonal when it is at least `pivotThreshold`
- * of the largest candidate, else the first in reach order of those within NEAR_TIE of the
- * largest, candidates above their cancellation noise) picks it again. The factors are then
- * those of a factorisation with search, to the bit, at about a third of its cost (hand-written:
- * no maintained JavaScript library offers a sparse LU, and this one must match the
- * factorisation it refactors).
+ * matrix with A's pattern), or undefined when a kept pivot fails its test: the column's
+ * diagonal at least `pivotThreshold` of the largest candidate (the search's own rule), another
+ * row at least OFF_DIAGONAL_KEPT of it, and above its own cancellation noise. Each column is the same left-looking triangular solve as in the search,
+ * in the topological order that the search stored in U, without the depth-first search, as
+ * KLU's refactorisation does (Davis & Palamadai Natarajan, 2010, ACM TOMS 37(3):36), with the
+ * threshold test added so that a stale pivot cannot grow the factors. A kept pivot need not be
+ * the one the search would choose now (a near tie may fall the other way), so the factors may
+ * differ from the search's in rounding; both are threshold-pivoted LU factors of A, equally
+ * stable. Hand-written: no maintained JavaScript library offers a sparse LU.
  */
 function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: number, singularTolerance: number, scratch: Scratch): TriangularFactors | undefined {
   const { n, colPtr: Ap, rowIdx: Ai, values: Ax } = a;
-  const { q, pinv, pivotAt } = previous;
+  const { q, pinv } = previous;
   const { start: Lp, index: Li } = previous.L;
   const { start: Up, index: Ui } = previous.U;
   const L = previous.L.withValues();
@@ -186,21 +213,15 @@ function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: 
         magnitude[Li[r]] += Math.abs(update);
       }
     }
-    // The search's rule replayed: the diagonal when it is within the threshold of the largest
-    // candidate, else the first in reach order within NEAR_TIE of the largest; the kept pivot
-    // row stood just before the L entry at `before`.
-    const diagonal = pinv[col];
-    const before = pivotAt[k];
-    let largest = isCandidate(x, magnitude, k, singularTolerance) ? Math.abs(x[k]) : 0;
-    let diagonalInReach = diagonal === k;
+    // The kept pivot (row k in pivot-step numbering) stays while it passes the test: the
+    // column's diagonal as the search keeps it (pivotThreshold of the largest candidate), any
+    // other row within OFF_DIAGONAL_KEPT of the largest.
+    let largest = 0;
     for (let p = Lp[k], end = Lp[k + 1]; p < end; p++) {
       const i = Li[p];
-      if (i === diagonal) diagonalInReach = true;
       if (Math.abs(x[i]) > largest && isCandidate(x, magnitude, i, singularTolerance)) largest = Math.abs(x[i]);
     }
-    const diagonalWins = diagonalInReach && largest > 0 && Math.abs(x[diagonal]) >= pivotThreshold * largest && isCandidate(x, magnitude, diagonal, singularTolerance);
-    let kept = diagonal === k ? diagonalWins : !diagonalWins && isNearLargest(x, magnitude, k, largest, singularTolerance);
-    for (let p = Lp[k]; kept && diagonal !== k && p < before; p++) if (isNearLargest(x, magnitude, Li[p], largest, singularTolerance)) kept = false;
+    const kept = isCandidate(x, magnitude, k, singularTolerance) && Math.abs(x[k]) >= (pinv[col] === k ? pivotThreshold : OFF_DIAGONAL_KEPT) * largest;
     const pivot = x[k];
     x[k] = 0;
     magnitude[k] = 0;
@@ -231,11 +252,10 @@ function scratchOf(n: number): Scratch {
 }
 
 /**
- * Candidates within this relative distance of the largest count as tied, and the first in reach
- * order wins: two entries of one size (a leak's ±1 into the balances at both ends of a split)
- * otherwise change places with the last bits of the elimination from one Newton matrix to the
- * next, and the refactorisation must search again (200 realisations of a 64-contactor tolerance
- * study: 61 against 220 refactorisations sent back to the search, measured).
+ * Candidates within this relative distance of the largest count as tied in the search, and the
+ * first in reach order wins: two entries of one size (a leak's ±1 into the balances at both ends
+ * of a split) then get the same pivot whichever the last bits of the elimination favour, so the
+ * search's choice does not flicker from one Newton matrix to the next.
  */
 const NEAR_TIE = 1e-6;
 

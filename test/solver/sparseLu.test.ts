@@ -444,9 +444,10 @@ describe('SparseLuSymbolic', () => {
     expect(symbolic.columnOrder).toBe(order);
   });
 
-  it('a refactorisation (pivots kept from the last factorisation) gives the factors of a factorisation with pivot search, to the bit, as values drift and pivots change', () => {
-    // Kept pivots are used only where the search would choose them again, so the arithmetic is
-    // the same; a column where the choice changes sends the whole matrix back to the search.
+  it('a refactorisation (pivots kept from the last factorisation) solves as accurately as a factorisation with pivot search, as values drift and pivots change', () => {
+    // Kept pivots pass the search's threshold test, so the factors are threshold-pivoted LU
+    // factors of the new matrix like the search's, with the same bound on growth: residual and
+    // agreement with the dense LU are held to the bounds of a fresh factorisation.
     for (const [a, seed] of [[randomUnsymmetric(300, 3, 7), 8], [saddle(200, 80, [0, 120], 5), 6], [gridLaplacian(12), 4]] as const) {
       const symbolic = new SparseLuSymbolic(a);
       const b = rightHandSide(a.n, seed);
@@ -457,8 +458,11 @@ describe('SparseLuSymbolic', () => {
         const next: SparseMatrix = { ...a, values: a.values.map((v) => v * (1 + spread * (random() - 0.5))) };
         const kept = symbolic.factor(next).solve(b);
         const searched = new SparseLuSymbolic(next).factor(next).solve(b);
-        // Bit for bit: how accurate the searched factors are is the business of the tests above.
-        expect(Array.from(kept)).toEqual(Array.from(searched));
+        const dense = factorizeDense(next).solve(b);
+        // Within RESIDUAL and AGREEMENT, or within 10 times the search's own figure where the
+        // drift made the matrix badly conditioned (the saddle's last round: 2.8e-12 for both).
+        expect(relativeResidual(next, kept, b)).toBeLessThanOrEqual(Math.max(RESIDUAL, 10 * relativeResidual(next, searched, b)));
+        expect(relativeDifference(kept, dense)).toBeLessThanOrEqual(Math.max(AGREEMENT, 10 * relativeDifference(searched, dense)));
       }
     }
   });
