@@ -6,8 +6,8 @@
  * below what a controller of that setting resolves. Exports `holdTolerances`,
  * `CONTROL_RESOLUTION` and the types. No I/O, no units.
  *
- * First order: with the sensitivities dΔ_s/dθ of every split's p_B − p_A (solver/sensitivity.ts,
- * one solve with the factored Jacobian per setting), a split s allows θ to rise by
+ * First order: with the sensitivities dΔ_s/dθ of every split's p_B − p_A (solver/sensitivity.ts
+ * `settingResponse`, one solve with the factored Jacobian per setting), a split s allows θ to rise by
  * (high_s − Δ_s)/(dΔ_s/dθ) when dΔ_s/dθ > 0 and by (Δ_s − low_s)/(−dΔ_s/dθ) when it is
  * negative (and falls likewise); the setting's excursion is the smallest over the splits. On a
  * chip whose splits are all pinned Δ is linear in the settings but for the holdups' response,
@@ -93,20 +93,22 @@ export function holdTolerances(solved: SolvedChip, options: HoldOptions = {}): H
   const ratio = qA / qB;
 
   const settings: HoldTolerance[] = [];
+  const inlets = net.ports.flatMap((p, i) => (p.node.kind === 'inlet' ? [i] : []));
   for (const [port, { node, fixed, injection }] of net.ports.entries()) {
     if (node.kind !== 'inlet' && node.kind !== 'outlet') continue;
     const portSetting: PortSetting = { port, quantity: fixed !== undefined ? 'pressure' : 'flow' };
-    const t = tangents.tangent(portSetting);
+    const t = tangents.settingResponse(portSetting, inlets);
     const splitDelta = Array.from(t.splitDelta);
 
     // What the inlets deliver and its change (a pressure-set inlet delivers its port's net outflow).
     const delivered = { A: 0, B: 0 };
-    for (const [i, p] of net.ports.entries()) {
-      if (p.node.kind !== 'inlet') continue;
+    inlets.forEach((i, k) => {
+      const p = net.ports[i]!;
+      if (p.node.kind !== 'inlet') return;
       const flow = p.fixed === undefined ? p.injection : outflow[i]!;
-      const slope = p.fixed === undefined ? (i === port ? 1 : 0) : t.outflow[i]!;
+      const slope = p.fixed === undefined ? (i === port ? 1 : 0) : t.outflow[k]!;
       if (flow > 0) delivered[p.node.phase] += slope;
-    }
+    });
     const dRatio = (delivered.A - ratio * delivered.B) / qB;
 
     let down = Infinity;

@@ -73,6 +73,10 @@ export class NetworkTangents {
   private readonly plainFlowAt: Float64Array;
   /** F at the solution, with the options of the differences. */
   private readonly atSolution: Float64Array;
+  /** Each plain element's upstream composition at the solution. */
+  private readonly plainCompositionAt: Float64Array;
+  /** Ports that a contactor or a split touches (their rows are not those of plain elements alone). */
+  private touched: Set<number> | undefined;
 
   /**
    * Factors the Jacobian at `solution` (a settled solve of `net`). With the workspace of that
@@ -85,13 +89,16 @@ export class NetworkTangents {
     const { x, withComposition } = unknownsOf(this.eq, solution);
     this.x = x;
     // The equations the solve settled: full viscosity coupling, no frozen holdups, the
-    // composition pull of its last stage (anchored at the solution itself).
-    this.eq.evaluate(x, { jacobian: false, freezeHoldup: false, withComposition, anchor: x, compositionPull: 0 });
+    // composition pull of its last stage (anchored at the solution itself). The pull scales
+    // with the flows, so with compositions the flows are evaluated first; without, the pull is
+    // not read and one evaluation gives both.
+    this.eq.evaluate(x, { jacobian: !withComposition, freezeHoldup: false, withComposition, anchor: x, compositionPull: 0 });
     this.flowScale = this.eq.flowReference();
     this.options = { jacobian: true, freezeHoldup: false, withComposition, anchor: x.slice(), compositionPull: COMPOSITION_PULL * this.flowScale };
-    this.eq.evaluate(x, this.options);
+    if (withComposition) this.eq.evaluate(x, this.options);
     this.atSolution = this.eq.F.slice();
     this.plainFlowAt = this.eq.plainFlow.slice();
+    this.plainCompositionAt = this.eq.plainComposition.slice();
     const jacobian = this.eq.builder.toCsc();
     this.factor = workspace ? workspace.factors.factor(jacobian) : factorize(jacobian, 'sparse');
     this.options = { ...this.options, jacobian: false };
@@ -101,9 +108,92 @@ export class NetworkTangents {
   tangent(setting: PortSetting): Tangent {
     const port = this.eq.net.ports[setting.port]!;
     if (setting.quantity === 'pressure' && port.fixed === undefined) throw new RangeError(`port ${setting.port} has no fixed pressure`);
-    const h = STEP * (setting.quantity === 'pressure' ? this.eq.pressureScale : Math.max(Math.abs(port.injection), this.flowScale));
     const fixedPort = setting.quantity === 'pressure' ? setting.port : undefined;
+    const exact = this.settingSlope(setting);
+    if (exact) return this.along(() => exact, 1, fixedPort, true);
+    const h = STEP * (setting.quantity === 'pressure' ? this.eq.pressureScale : Math.max(Math.abs(port.injection), this.flowScale));
     return this.along(() => this.evaluateAt(this.x, setting, h).F, h, fixedPort);
+  }
+
+  /**
+   * Along one setting: the change of every split's p_B − p_A, and of the net outflow through the
+   * plain elements at each of `ports`, per SI unit of the setting. What the hold tolerances
+   * need, at one linear solve per setting: `tangent` also evaluates the whole chip for the
+   * flow of every element. Falls back to `tangent` where the setting or one of `ports` is a
+   * contactor's or a split's port.
+   */
+  settingResponse(setting: PortSetting, ports: ReadonlyArray<number>): { splitDelta: Float64Array; outflow: Float64Array } {
+    const slope = this.settingSlope(setting);
+    if (!slope || ports.some((p) => this.touchedPorts().has(p))) {
+      const t = this.tangent(setting);
+      return { splitDelta: t.splitDelta, outflow: Float64Array.from(ports, (p) => t.outflow[p]!) };
+    }
+    const { net, map } = this.eq;
+    const dx = this.factor.solve(slope.map((v) => -v));
+    const fixedPort = setting.quantity === 'pressure' ? setting.port : undefined;
+    const dPressure = (i: number) => (map.unknownOf[i]! >= 0 ? dx[map.unknownOf[i]!]! : i === fixedPort ? 1 : 0);
+    const dComposition = (i: number) => (this.options.withComposition && map.unknownOf[i]! >= 0 ? dx[map.compAt + map.unknownOf[i]!]! : 0);
+    const muA = net.chip.phases.A.viscosity;
+    const muB = net.chip.phases.B.viscosity;
+    const at = new Map(ports.map((p, k) => [p, k]));
+    const outflow = new Float64Array(ports.length);
+    net.plains.forEach((el, e) => {
+      const from = at.get(el.from);
+      const to = at.get(el.to);
+      if (from === undefined && to === undefined) return;
+      // The plain law's slopes (elements.ts plainLaw): g in the end pressures, −Q·(μA − μB)/μ in the upstream composition.
+      const x = this.plainCompositionAt[e]!;
+      const mu = x * muA + (1 - x) * muB;
+      const q = this.plainFlowAt[e]!;
+      const up = q >= 0 ? el.from : el.to;
+      const dq = (dPressure(el.from) - dPressure(el.to)) / (el.r0 * mu) - ((q * (muA - muB)) / mu) * dComposition(up);
+      if (from !== undefined) outflow[from] += dq;
+      if (to !== undefined) outflow[to] -= dq;
+    });
+    const splitDelta = Float64Array.from(net.splits, (sp) => (sp.nearPhase === 'A' ? 1 : -1) * (dPressure(sp.far) - dPressure(sp.near)));
+    return { splitDelta, outflow };
+  }
+
+  private touchedPorts(): Set<number> {
+    const { net } = this.eq;
+    return (this.touched ??= new Set([...net.contactors.flatMap((c) => [c.nearIn, c.nearOut, c.farIn, c.farOut]), ...net.splits.flatMap((s) => [s.near, s.far])]));
+  }
+
+  /**
+   * ∂F/∂θ of a setting θ at the solution, from the element laws, or undefined where a contactor
+   * or a split touches the port (then by the difference of `tangent`). An injected flow enters
+   * its port's balances as a source (1 into the volume row, the supplied fraction of A into the
+   * phase-A row). A set pressure p enters only the plain elements at its port, each carrying
+   * Q = g·(p_from − p_to) with g = 1/(r0·μ(x_up)) (elements.ts plainLaw), so the rows at each
+   * element's other end gain g and g·x_up per unit p. Exact, where the difference quotient
+   * cost one evaluation of the whole chip per setting.
+   */
+  private settingSlope(setting: PortSetting): Float64Array | undefined {
+    const { eq } = this;
+    const { net, map } = eq;
+    if (this.touchedPorts().has(setting.port)) return undefined;
+    const slope = new Float64Array(this.x.length);
+    const withComposition = this.options.withComposition;
+    const add = (port: number, volume: number, phaseA: number) => {
+      const u = map.unknownOf[port]!;
+      if (u < 0) return;
+      slope[u] += volume;
+      if (withComposition) slope[map.compAt + u] += phaseA;
+    };
+    if (setting.quantity === 'flow') {
+      const port = net.ports[setting.port]!;
+      add(setting.port, 1, port.supplies ?? 1);
+      return slope;
+    }
+    const muA = net.chip.phases.A.viscosity;
+    const muB = net.chip.phases.B.viscosity;
+    net.plains.forEach((el, e) => {
+      if (el.from !== setting.port && el.to !== setting.port) return;
+      const x = this.plainCompositionAt[e]!;
+      const g = 1 / (el.r0 * (x * muA + (1 - x) * muB));
+      add(el.from === setting.port ? el.to : el.from, g, g * x);
+    });
+    return slope;
   }
 
   /**
@@ -132,13 +222,16 @@ export class NetworkTangents {
     return tangent;
   }
 
-  /** dv = −J⁻¹·∂F/∂θ from F evaluated with θ moved by h (`moved`), and the tangent it gives. */
-  private along(moved: () => Float64Array, h: number, fixedPort?: number): Tangent {
+  /**
+   * dv = −J⁻¹·∂F/∂θ, with ∂F/∂θ from F evaluated with θ moved by h (`moved`), or given by
+   * `moved` itself when `slope`, and the tangent it gives.
+   */
+  private along(moved: () => Float64Array, h: number, fixedPort?: number, slope = false): Tangent {
     const { eq, x } = this;
     // ∂F/∂θ by a forward difference in θ at fixed unknowns (exact for these linear entries).
     const plus = moved();
     const rhs = new Float64Array(x.length);
-    for (let i = 0; i < rhs.length; i++) rhs[i] = -(plus[i]! - this.atSolution[i]!) / h;
+    for (let i = 0; i < rhs.length; i++) rhs[i] = slope ? -plus[i]! : -(plus[i]! - this.atSolution[i]!) / h;
     const dx = this.factor.solve(rhs);
 
     // The flows along the tangent, from the element laws' own slopes (a difference of flows
