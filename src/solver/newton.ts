@@ -592,9 +592,14 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     let jumped = false;
     let bestMerit = Infinity;
     let improvedAt = 0;
+    /** The line search's evaluation of the step taken holds F and J at x, anchored at x (`evaluateBeforeStep`'s). */
+    let evaluatedHere = false;
     while (iterations < opt.maxIterations) {
-      anchor.set(x);
-      evaluateBeforeStep(false);
+      if (!evaluatedHere) {
+        anchor.set(x);
+        evaluateBeforeStep(false);
+      }
+      evaluatedHere = false;
       reference = eq.flowReference();
       // In the Picard attempts the last stage (coupling 1) may fall back too; the plain attempt
       // keeps its last stage to the end, which settles the default 16-contactor ladder in 86 steps
@@ -697,15 +702,26 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
         if (tau >= opt.maxPseudoStep) tau = Infinity;
         continue;
       }
-      // Backtracking on the row-equilibrated merit (Armijo).
+      // Backtracking on the row-equilibrated merit (Armijo). Without compositions the full step
+      // is evaluated as the next step would start (Jacobian assembled, anchored at the trial
+      // point), so a step taken whole needs no evaluation of its own at the top of the loop; the
+      // anchor moves only the lane rows' pull of 1e-12 of a row's scale per unit z, which no
+      // merit comparison resolves, and leaves stagnant rows alone (their z does not move).
       let t = 1;
       let after = Infinity;
       let descended = false;
       for (;;) {
         apply(start, delta, t);
-        eq.evaluate(x, settings(false));
+        const whole = t === 1 && !withComposition;
+        if (whole) anchor.set(x);
+        eq.evaluate(x, settings(whole));
         after = merit();
         descended = Number.isFinite(after) && after <= (1 - 1e-4 * t) * before;
+        if (whole && descended) {
+          heldJacobian = false;
+          evaluatedHere = true;
+        }
+        if (whole && !descended) anchor.set(start);
         if (descended || t <= opt.minStep) break;
         t /= 2;
       }
