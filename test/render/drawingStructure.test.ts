@@ -3,7 +3,7 @@ import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip, loadLayout } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
-import { chipDrawing } from '../../src/render/chipDrawing.js';
+import { chipDrawing, type ChipDrawingOptions } from '../../src/render/chipDrawing.js';
 import { textWidth } from '../../src/render/svg.js';
 import { segmentDistance } from '../../src/render/chipDrawing/routes.js';
 import { planWidth } from '../../src/render/chipDrawing/placement.js';
@@ -27,9 +27,12 @@ function leaky(contactors: number): LayoutFile {
   return layout;
 }
 
-const CHIPS: Array<[string, () => SolvedChip]> = [
+const CHIPS: Array<[string, () => SolvedChip, ChipDrawingOptions?]> = [
   ['the enzyme demo layout', () => solveChip(loadLayout('layouts/enzyme-atps-16.yaml'))],
   ['the dye demo layout', () => solveChip(loadLayout('layouts/dye-octanol-8.yaml'))],
+  // Both demo layouts are drawn ×2 by default: these are twice as wide again.
+  ['the enzyme demo layout with channels drawn ×4', () => solveChip(loadLayout('layouts/enzyme-atps-16.yaml')), { widthScale: 4 }],
+  ['the dye demo layout with channels drawn ×4', () => solveChip(loadLayout('layouts/dye-octanol-8.yaml')), { widthScale: 4 }],
   ['a leaking 64-contactor ladder', () => solveChip(layoutToChip(leaky(64), 'ladder.yaml'))],
   ['a 16-contactor tree', () => solveChip(layoutToChip(treeLayout({ drive }), 'tree.yaml'))],
   ['a 4-contactor ladder without coordinates', () => solveChip(layoutToChip(bare(ladderLayout({ contactors: 4, drive })), 'bare.yaml'))],
@@ -57,8 +60,15 @@ function contactorStroke(g: Element): Stroke {
 const ROUNDING = 0.02;
 
 const apart = (s: Stroke, t: Stroke) => segmentDistance(s.a, s.b, t.a, t.b) >= (s.width + t.width) / 2 - ROUNDING;
-/** A crossing: the centre line of one passes through the body of the other. */
-const crossing = (s: Stroke, t: Stroke) => segmentDistance(s.a, s.b, t.a, t.b) < Math.max(s.width, t.width) / 2;
+/**
+ * A crossing on the chip itself: the centre lines cross, or the centre line of one passes through
+ * the body the other has at its true width. (By the drawn widths, a channel drawn far wider than
+ * it is would "cross" every neighbour it covers.)
+ */
+const crossing = (s: Piece, t: Piece) => {
+  const d = segmentDistance(s.a, s.b, t.a, t.b);
+  return d === 0 || d < Math.max(s.trueWidth, t.trueWidth) / 2;
+};
 
 interface Piece extends Stroke {
   id: string;
@@ -72,8 +82,8 @@ interface Piece extends Stroke {
  * of its own, named by its segment), with its phase from the solution and its true width from the
  * layout at the scale of the scale bar.
  */
-function plainChannels(solved: SolvedChip): Piece[] {
-  const root = parse(chipDrawing(solved, { colourBy: 'pressure' }));
+function plainChannels(solved: SolvedChip, options: ChipDrawingOptions = {}): Piece[] {
+  const root = parse(chipDrawing(solved, { ...options, colourBy: 'pressure' }));
   const bars = all(root, hasClass('scale-bar'));
   let pxPerMetre = 0;
   if (bars.length > 0) {
@@ -98,9 +108,9 @@ function plainChannels(solved: SolvedChip): Piece[] {
   });
 }
 
-describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
+describe.each(CHIPS)('the drawing of %s', (_name, solve, options = {}) => {
   const solved = solve();
-  const root = parse(chipDrawing(solved));
+  const root = parse(chipDrawing(solved, options));
 
   it('draws every contactor exactly once', () => {
     const drawn = all(root, hasClass('contactor')).map((g) => g.attrs['data-segment']).sort();
@@ -113,7 +123,7 @@ describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
   });
 
   it('keeps every phase-A channel off every phase-B channel, except where one crosses the other or the layout itself overlaps them', () => {
-    const pieces = plainChannels(solved);
+    const pieces = plainChannels(solved, options);
     const { A, B } = { A: pieces.filter((p) => p.phase === 'A'), B: pieces.filter((p) => p.phase === 'B') };
     expect(A.length).toBeGreaterThan(0);
     expect(B.length).toBeGreaterThan(0);
@@ -129,7 +139,7 @@ describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
   });
 
   it('draws the two inlets of every merge and the two outlets of every split side by side, apart', () => {
-    const stroke = new Map(plainChannels(solved).map((p) => [p.id, p]));
+    const stroke = new Map(plainChannels(solved, options).map((p) => [p.id, p]));
     const pairs = solved.chip.nodes.flatMap((n) => (n.kind === 'merge' ? [n.inlets] : n.kind === 'split' ? [n.outlets] : []));
     expect(pairs).toHaveLength(2 * solved.network.contactors.length);
     for (const [near, far] of pairs) expect(apart(stroke.get(near)!, stroke.get(far)!), `${near} and ${far}`).toBe(true);
