@@ -242,13 +242,16 @@ export function registerWindow(program: Command, context: CommandContext): void 
       if (csvFile) outputs.push({ path: csvFile, option: '--csv', content: windowCsv(map) });
       const text = windowText(chip.name, map, marks, { seconds, workers, current: currentClass, coordinatesReason, traceSeconds, spans, hold: holdResult });
       if (reportFile) {
+        const live = base.result.converged ? liveReport({ file }, base.result) : undefined;
         const analysis = {
           title: 'Operating window',
           text,
-          charts: [{ id: 'window-map', svg: mapSvg }],
-          note: 'The map sweeps the two settings; the chip below is the layout at its own settings, and its live operating point solves that chip again in the page (a changed setting does not redraw the map).',
+          charts: [{ id: 'window-map', svg: live ? windowChart(chip.name, map, marks, { live: true }) : mapSvg }],
+          note: live
+            ? 'The map sweeps the two settings; the chip below is the layout at its own settings, and its live operating point solves that chip again in the page and marks where its two swept settings lie on the map, as long as no other setting is changed (the map holds the others as in the layout and is not swept again).'
+            : 'The map sweeps the two settings; the chip below is the layout at its own settings.',
         };
-        outputs.push({ path: reportFile, option: '--report', content: chipReport(base, findManifolds(base), { analysis, live: base.result.converged ? liveReport({ file }, base.result) : undefined }) });
+        outputs.push({ path: reportFile, option: '--report', content: chipReport(base, findManifolds(base), { analysis, live }) });
       }
       writeOutputs(outputs);
       context.out(text);

@@ -69,10 +69,18 @@ describe('--report', () => {
     expect(err).toBe('');
     expect(code).toBe(0);
     const html = expectReport(report, 'Operating window');
-    // The map as the --svg file has it (with the traced region), and the summary as printed.
+    // The map as the --svg file has it (with the traced region), live with the point the page
+    // moves (hidden until a setting changes, tested in ./windowReport.test.ts), and the summary as printed.
     const map = readFileSync(join(dir, 'map.svg'), 'utf8');
-    expect(html).toContain(`<figure class="chart" id="analysis-window-map">${map}</figure>`);
     expect(map).toContain('working region (traced)');
+    expect(map).not.toContain('movable-point');
+    const shown = html.match(/<figure class="chart" id="analysis-window-map">(<svg.*?<\/svg>)<\/figure>/s)![1]!;
+    if (live) {
+      expect(shown).toContain('<g class="movable-point" visibility="hidden"');
+      expect(shown).toContain('live: the settings of the page');
+    } else {
+      expect(shown).toBe(map);
+    }
     expect(html).toContain(out.split('\n')[0]!.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;'));
     // The live part starts from the layout as given: inA at 7 kPa (test/support/handWindow.ts).
     if (live) expect(html).toMatch(/data-setting="inA\.pressure" value="7000"/);

@@ -16,8 +16,8 @@ import { singleContactor } from '../support/handWindow.js';
 /**
  * `window --report` as a user opens it: Debian's chromium through playwright-core (the reference
  * browser, as in test/render/liveReport.test.ts), on the hand-worked single contactor of
- * test/support/handWindow.ts. The page shows the map and answers a changed setting by solving
- * the chip again, as the library does. Needs the built page script (`npm run build`), which the
+ * test/support/handWindow.ts. The page shows the map, answers a changed setting by solving the
+ * chip again, as the library does, and moves its live point on the map to the new settings. Needs the built page script (`npm run build`), which the
  * command inlines; screenshots go to out/ for a person to look at.
  */
 const CHROMIUM = '/usr/bin/chromium';
@@ -32,7 +32,7 @@ describe.skipIf(!ready)('the report of stratiflow window in headless chromium', 
     rmSync(profile, { recursive: true, force: true });
   });
 
-  it('shows the map and solves the chip again when inA.pressure is raised by 10 Pa, as the library does', async () => {
+  it('shows the map and solves the chip again when inA.pressure is raised by 10 Pa, as the library does, and marks the new point on the map', async () => {
     const layout = singleContactor();
     const file = join(dir, 'one.yaml');
     writeFileSync(file, stringify(layout));
@@ -54,12 +54,27 @@ describe.skipIf(!ready)('the report of stratiflow window in headless chromium', 
       expect(await page.locator('#analysis-window-map > svg').count()).toBe(1);
       expect(await page.locator('#analysis-window-map > svg').evaluate((s) => s.getBoundingClientRect().width)).toBeGreaterThan(0);
 
+      const live = page.locator('#analysis-window-map g.movable-point');
+      expect(await live.getAttribute('visibility')).toBe('hidden');
+
       const field = page.locator('input[data-setting="inA.pressure"]');
       const shown = Number(await field.inputValue());
       expect(shown).toBe(7000);
       await field.fill(String(shown + 10));
       await field.dispatchEvent('change');
       await page.waitForFunction(() => Number(document.body.dataset.solves ?? '0') > 0, undefined, { timeout: 60_000 });
+
+      // The live point stands 10 Pa to the right of the point as given, at its height: the map's
+      // axes are inA.pressure and inB.pressure (the ranges were given), linear from domain to
+      // frame; transforms are written to 0.01 px (src/render/svg.ts), hence the tolerance.
+      expect(await live.getAttribute('visibility')).toBe('visible');
+      const translate = (t: string | null) => t!.match(/^translate\(([-\d.]+),([-\d.]+)\)$/)!.slice(1).map(Number);
+      const [lx, ly] = translate(await live.getAttribute('transform'));
+      const [gx, gy] = translate(await page.locator('#analysis-window-map g.points path.marker').first().getAttribute('transform'));
+      const [x0, , x1] = (await live.getAttribute('data-frame'))!.split(' ').map(Number);
+      const [kPaFrom, kPaTo] = (await live.getAttribute('data-x-domain'))!.split(' ').map(Number);
+      expect(Math.abs(ly! - gy!)).toBeLessThanOrEqual(0.02);
+      expect(Math.abs(lx! - gx! - (0.01 / (kPaTo! - kPaFrom!)) * (x1! - x0!))).toBeLessThanOrEqual(0.02);
       const solution = (await page.evaluate(() => globalThis.stratiflowSolution)) as ChipSolution;
       mkdirSync('out', { recursive: true });
       await page.screenshot({ path: join('out', 'window-report-after.png'), fullPage: true });
