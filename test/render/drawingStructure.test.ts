@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
-import { layoutToChip, loadLayout } from '../../src/layout/load.js';
+import { layoutToChip, loadLayout, readLayoutText } from '../../src/layout/load.js';
+import { parseDataText } from '../../src/files.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
 import { chipDrawing, type ChipDrawingOptions } from '../../src/render/chipDrawing.js';
@@ -173,6 +174,29 @@ describe('the chip drawing, read as a person would', () => {
     const entries = swatches.slice(0, -1).map(look);
     expect(entries.length).toBe(legend.children.filter((c) => c.name === 'text').length);
     expect(new Set(entries).size, entries.join('\n')).toBe(entries.length);
+  });
+
+  /** Where a leak triangle (M tip L base L base Z) points, rad on screen. */
+  const pointing = (d: string) => {
+    const [tx, ty, ax, ay, bx, by] = d.match(/[-\d.]+/g)!.map(Number);
+    return Math.atan2(ty! - (ay! + by!) / 2, tx! - (ax! + bx!) / 2);
+  };
+  const sameDirection = (a: number, b: number) => Math.abs(Math.atan2(Math.sin(a - b), Math.cos(a - b))) < 0.01;
+
+  it('draws every leak mark pointing as its legend entry points, for leaks both ways and on the demo chip', () => {
+    const demo = parseDataText(readLayoutText('layouts/enzyme-atps-16.yaml'), 'demo.yaml', 'layout file') as LayoutFile;
+    const inB = demo.nodes.find((n) => n.id === 'inB') as { flow?: unknown; pressure?: unknown };
+    delete inB.flow;
+    inB.pressure = 14470; // 100 Pa above its solved pressure: every split leaks B into A
+    for (const solved of [solveChip(layoutToChip(leaky(16), 'ladder.yaml')), solveChip(layoutToChip(demo, 'demo.yaml'))]) {
+      const root = parse(chipDrawing(solved));
+      const legend = all(all(root, hasClass('legend'))[0]!, (e) => e.name === 'path' && e.attrs['stroke-width'] === '1.4');
+      const legendAngle = new Map(legend.map((e) => [e.attrs.fill!, pointing(e.attrs.d!)]));
+      expect(legendAngle.size).toBe(2);
+      const marks = all(root, (e) => hasClass('split')(e) && !hasClass('pinned')(e)).map((g) => g.children.find((c) => c.name === 'path')!);
+      expect(marks.length).toBeGreaterThan(0);
+      for (const m of marks) expect(sameDirection(pointing(m.attrs.d!), legendAngle.get(m.attrs.fill!)!), m.attrs.fill).toBe(true);
+    }
   });
 
   it('marks inlets, outlets and pinned splits with three different shapes', () => {
