@@ -18,6 +18,7 @@ import { parseSetting, settingValue, withSettings, type Setting } from '../analy
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
 import type { WarmStart } from '../solver/newton.js';
 import { reportResults } from '../render/report.js';
+import { useDomMarkup } from '../render/svg.js';
 import { liveMapPoint, type LiveMapData } from '../render/windowMap.js';
 import { FIELD_UNITS, LIVE_IDS, settingToField, type LiveData } from '../render/liveReport.js';
 import type { Chip } from '../network/model.js';
@@ -67,6 +68,8 @@ function extractionOf(solved: SolvedChip): ExtractionResult | undefined {
 }
 
 function start(): void {
+  // The redrawn results go straight back into this page: the browser's own serialiser will do.
+  useDomMarkup();
   const data = readData();
   const base = layoutToChip(data.layout, data.source);
   const results = document.getElementById(LIVE_IDS.results)!;

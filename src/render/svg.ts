@@ -3,14 +3,15 @@
  * text, markers, hatch fills, legends and axes in pixel space. Exports `fixed`, `num`,
  * `escapeXml`, `serialise`, `textWidth`, `createDocument`, `resizeDocument`, `el`, `label`,
  * `clipTo`, `marker`, `hatchDefs`, `hatchFill`, `drawLegend`, `legendSize`, `lineSwatch`,
- * `fillSwatch`, `drawAxisBottom`, `drawAxisLeft`, the sizes (`DIGITS`, `FONT_SIZE`, …),
+ * `fillSwatch`, `drawAxisBottom`, `drawAxisLeft`, `useDomMarkup`, the sizes (`DIGITS`, `FONT_SIZE`, …),
  * `TEXT_HALO`, and the `SvgNode`, `Attrs`, `Frame`, `PixelTick`, `LegendEntry` types.
  * Knows nothing about data or scales (./chart.ts maps values to pixels) and measures no fonts:
  * text widths are estimates, so the output depends on the input alone.
  *
  * Elements are built with svg.js on an svgdom window; the text is written by `serialise` here,
  * not by svgdom, so that every user string is escaped in exactly one place (all five XML
- * characters, & < > " ') and every number attribute passes through `fixed`.
+ * characters, & < > " ') and every number attribute passes through `fixed`. A browser page that
+ * only puts the text back into itself may switch to the DOM's own serialiser (`useDomMarkup`).
  */
 import { createSVGWindow } from 'svgdom';
 import { SVG, registerWindow, type Dom } from '@svgdotjs/svg.js';
@@ -70,7 +71,20 @@ export function textWidth(s: string, size = FONT_SIZE): number {
 
 /** XML text of an element tree; attributes in the order they were set. */
 export function serialise(node: SvgNode): string {
-  return serialiseNode(node.node);
+  return markup(node.node);
+}
+
+/** How element trees become text: our own XML serialiser, byte-identical run to run, unless `useDomMarkup`. */
+let markup: (node: Node) => string = serialiseNode;
+
+/**
+ * Serialise element trees by the DOM's own `outerHTML` from now on: for a browser page that puts
+ * the text straight back into itself (the live report's redraw, as innerHTML), where the text
+ * need not be byte-stable XML, and the browser's serialiser takes a fraction of the time that
+ * ours spends reading attributes through the DOM.
+ */
+export function useDomMarkup(): void {
+  markup = (node) => (node as Element).outerHTML;
 }
 
 function serialiseNode(node: Node): string {
