@@ -1,7 +1,8 @@
 /**
  * The live report in headless chromium (playwright-core, as the browser tests): the time from a
  * changed setting to the redrawn page, for the well-designed ladder of bench/network.ts (invented
- * demo values) at 64 and 1024 contactors. Each size opens its report, makes one change to warm up
+ * demo values, DESIGN_TEXT) at 64 and 1024 contactors, named in the report and in each row with
+ * how many of its splits are pinned after the changes (all, where the chip works). Each size opens its report, makes one change to warm up
  * (the page builds its holdup tables then), and times CHANGES more changes of outB.pressure by a
  * few pascals up and down: the page's own split of solve and redraw (performance.now around
  * each; the redraw is the new results in the DOM), the time until the browser has laid them out
@@ -17,7 +18,7 @@ import { solveChip } from '../src/analyses/chip.js';
 import { findManifolds } from '../src/analyses/manifolds.js';
 import { chipReport } from '../src/render/report.js';
 import { jsonNumbers } from '../src/cli/context.js';
-import { designedLadderLayout } from './network.js';
+import { DESIGN_TEXT, designedLadderLayout } from './network.js';
 import type { Row } from './report.js';
 
 const CHROMIUM = '/usr/bin/chromium';
@@ -41,9 +42,11 @@ export async function benchLiveReport(): Promise<Row[]> {
       args: ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
     });
     try {
+      console.error(`live-report: ${DESIGN_TEXT}`);
       for (const n of [64, 1024]) {
-        const layout = designedLadderLayout(n);
-        const solved = solveChip(layoutToChip(layout, `ladder of ${n}`));
+        const name = `bench ladder of ${n} contactors`;
+        const layout = { ...designedLadderLayout(n), name };
+        const solved = solveChip(layoutToChip(layout, name));
         const file = join(folder, `ladder-${n}.html`);
         writeFileSync(file, chipReport(solved, findManifolds(solved), { live: { scriptBase64, layout, solution: JSON.parse(JSON.stringify(solved.result, jsonNumbers)) } }));
         const page = await context.newPage();
@@ -55,6 +58,7 @@ export async function benchLiveReport(): Promise<Row[]> {
         const wall: number[] = [];
         const painted: number[] = [];
         let converged = true;
+        let pinned = n;
         for (let k = 0; k <= CHANGES; k++) {
           const before = Number(await page.evaluate(() => document.body.dataset.solves ?? '0'));
           const t0 = performance.now();
@@ -64,9 +68,12 @@ export async function benchLiveReport(): Promise<Row[]> {
           const t1 = performance.now();
           const figures = await page.evaluate(() => ({
             solve: Number(document.body.dataset.solveMs), redraw: Number(document.body.dataset.redrawMs), painted: Number(document.body.dataset.paintedMs),
-            converged: (globalThis.stratiflowSolution as { converged: boolean }).converged,
+            ...(({ converged, splits }) => ({ converged, pinned: splits.filter((sp) => sp.state === 'pinned').length }))(
+              globalThis.stratiflowSolution as { converged: boolean; splits: Array<{ state: string }> },
+            ),
           }));
           converged &&= figures.converged;
+          pinned = Math.min(pinned, figures.pinned);
           if (k === 0) continue;
           solve.push(figures.solve / 1000);
           redraw.push(figures.redraw / 1000);
@@ -75,11 +82,11 @@ export async function benchLiveReport(): Promise<Row[]> {
         }
         await page.close();
         rows.push(
-          { name: `live report, ${n} contactors: re-solve in the page (warm start), converged: ${converged ? 'yes' : 'NO'}`, value: median(solve), unit: 's' },
-          { name: `live report, ${n} contactors: redraw of the results`, value: median(redraw), unit: 's' },
-          { name: `live report, ${n} contactors: re-solve and redraw`, value: median(solve.map((s, i) => s + redraw[i]!)), unit: 's', target: TARGET[n] },
-          { name: `live report, ${n} contactors: until the browser has laid out and painted the new page`, value: median(painted), unit: 's' },
-          { name: `live report, ${n} contactors: change to painted page, seen from the test side`, value: median(wall), unit: 's' },
+          { name: `live report, ${name}: re-solve in the page (warm start), converged: ${converged ? 'yes' : 'NO'}, splits pinned: ${pinned} of ${n}`, value: median(solve), unit: 's' },
+          { name: `live report, ${name}: redraw of the results`, value: median(redraw), unit: 's' },
+          { name: `live report, ${name}: re-solve and redraw`, value: median(solve.map((s, i) => s + redraw[i]!)), unit: 's', target: TARGET[n] },
+          { name: `live report, ${name}: until the browser has laid out and painted the new page`, value: median(painted), unit: 's' },
+          { name: `live report, ${name}: change to painted page, seen from the test side`, value: median(wall), unit: 's' },
         );
       }
     } finally {

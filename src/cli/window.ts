@@ -20,6 +20,9 @@ import { coordinatesOf, polygonArea, regionIn, regionSpans, traceWindow, type Wi
 import { holdTolerances, type HoldResult } from '../analyses/hold.js';
 import { settingName, settingValue, withSettings, type Setting } from '../analyses/settings.js';
 import { windowChart, windowCsv, windowText, type WindowMarks } from '../render/windowMap.js';
+import { chipReport } from '../render/report.js';
+import { findManifolds } from '../analyses/manifolds.js';
+import { liveReport } from './pageScript.js';
 import type { Point } from '../render/chart.js';
 import { parseQuantity, parseRange } from '../units/quantity.js';
 import { numberOption, settingOption, wholeNumberOption, MAX_WORKERS, linearOption, type LinearSolver } from './options.js';
@@ -53,6 +56,7 @@ interface WindowOptions {
   svg: string;
   json?: string;
   csv?: string;
+  report?: string;
   workers?: string;
   coordinates: string;
   linear: string;
@@ -117,6 +121,7 @@ export function registerWindow(program: Command, context: CommandContext): void 
     .option('--svg <file>', 'the map', 'window.svg')
     .option('--json <file>', 'write the grid as JSON (SI units)')
     .option('--csv <file>', 'write the grid as CSV, one row per point')
+    .option('--report <file>', 'write an HTML report: the map and its summary, and the chip at the layout\'s settings with its live operating point')
     .option('--workers <n>', 'worker threads (default: one per processor core)')
     .option('--coordinates <kind>', `axes: the two settings, their mean and difference, or auto (mean and difference where the working region is a thin band along the diagonal of two settings of one quantity): ${COORDINATES.join(', ')}`, 'auto')
     .addOption(linearOption())
@@ -136,6 +141,7 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const svgFile = outputFile(o.svg, '--svg');
       const jsonFile = o.json === undefined ? undefined : outputFile(o.json, '--json');
       const csvFile = o.csv === undefined ? undefined : outputFile(o.csv, '--csv');
+      const reportFile = o.report === undefined ? undefined : outputFile(o.report, '--report');
 
       if (!(COORDINATES as readonly string[]).includes(o.coordinates)) throw optionError('--coordinates', `must be one of ${COORDINATES.join(', ')}`);
       if (o.coordinates === 'mean-difference' && xs.quantity !== ys.quantity) throw optionError('--coordinates', 'mean and difference need two settings of one quantity (two pressures or two flows)');
@@ -226,14 +232,28 @@ export function registerWindow(program: Command, context: CommandContext): void 
       const marks: WindowMarks = { current, target, crossings: target ? targetCrossings(map, target) : [], region, hold, searched };
       const currentClass = current ? describePoint(chip, base, { i: -1, j: -1, x: current[0], y: current[1] }).class : undefined;
       const spans = current && region.closed ? regionSpans(region.polygon, current) : undefined;
-      const outputs: Output[] = [{ path: svgFile, option: '--svg', content: windowChart(chip.name, map, marks) }];
+      const mapSvg = windowChart(chip.name, map, marks);
+      const outputs: Output[] = [{ path: svgFile, option: '--svg', content: mapSvg }];
       if (jsonFile) {
         const { search, ...traced } = region;
         const json = { layout: file, chip: chip.name, ...map, current, target, crossings: marks.crossings, region: { searchedIn: search.coordinates, searchBox: search.box, ...traced }, holdSegments: hold, hold: holdResult };
         outputs.push({ path: jsonFile, option: '--json', content: JSON.stringify(json, jsonNumbers, 2) + '\n' });
       }
       if (csvFile) outputs.push({ path: csvFile, option: '--csv', content: windowCsv(map) });
+      const text = windowText(chip.name, map, marks, { seconds, workers, current: currentClass, coordinatesReason, traceSeconds, spans, hold: holdResult });
+      if (reportFile) {
+        const live = base.result.converged ? liveReport({ file }, base.result) : undefined;
+        const analysis = {
+          title: 'Operating window',
+          text,
+          charts: [{ id: 'window-map', svg: live ? windowChart(chip.name, map, marks, { live: true }) : mapSvg }],
+          note: live
+            ? 'The map sweeps the two settings; the chip below is the layout at its own settings, and its live operating point solves that chip again in the page and marks where its two swept settings lie on the map, as long as no other setting is changed (the map holds the others as in the layout and is not swept again).'
+            : 'The map sweeps the two settings; the chip below is the layout at its own settings.',
+        };
+        outputs.push({ path: reportFile, option: '--report', content: chipReport(base, findManifolds(base), { analysis, live }) });
+      }
       writeOutputs(outputs);
-      context.out(windowText(chip.name, map, marks, { seconds, workers, current: currentClass, coordinatesReason, traceSeconds, spans, hold: holdResult }));
+      context.out(text);
     });
 }

@@ -4,8 +4,9 @@
  * the page carries (render/liveReport.ts writes them), and whenever a setting field or slider
  * changes, solves the chip again from the current point and redraws the results part of the
  * page with the same renderers as the report itself. It also resets the settings, downloads the
- * layout with the new settings as YAML, shows a contactor's values where the pointer rests, and
- * exposes the current solution as `globalThis.stratiflowSolution` (the object of `solve --json`).
+ * layout with the new settings as YAML, shows a contactor's values where the pointer rests,
+ * moves the live point of a window map in the page (`window --report`) to the current settings,
+ * and exposes the current solution as `globalThis.stratiflowSolution` (the object of `solve --json`).
  * The page's edge, like a command of src/cli: it parses the fields, calls the library and
  * writes the DOM; it computes no physics.
  */
@@ -13,10 +14,12 @@ import { stringify } from 'yaml';
 import { layoutToChip } from '../layout/load.js';
 import { solveChip, warmStartFrom, type SolvedChip } from '../analyses/chip.js';
 import { findManifolds } from '../analyses/manifolds.js';
-import { parseSetting, withSettings, type Setting } from '../analyses/settings.js';
+import { parseSetting, settingValue, withSettings, type Setting } from '../analyses/settings.js';
 import { analyseExtraction, soluteSetup, type ExtractionResult } from '../analyses/extraction.js';
 import type { WarmStart } from '../solver/newton.js';
 import { reportResults } from '../render/report.js';
+import { useDomMarkup } from '../render/svg.js';
+import { liveMapPoint, type LiveMapData } from '../render/windowMap.js';
 import { FIELD_UNITS, LIVE_IDS, settingToField, type LiveData } from '../render/liveReport.js';
 import type { Chip } from '../network/model.js';
 import { jsonNumbers } from '../units/format.js';
@@ -65,6 +68,8 @@ function extractionOf(solved: SolvedChip): ExtractionResult | undefined {
 }
 
 function start(): void {
+  // The redrawn results go straight back into this page: the browser's own serialiser will do.
+  useDomMarkup();
   const data = readData();
   const base = layoutToChip(data.layout, data.source);
   const results = document.getElementById(LIVE_IDS.results)!;
@@ -93,6 +98,21 @@ function start(): void {
     }
   };
 
+  // The live points of window maps on the page, outside the redrawn results: each follows its two
+  // settings, and is hidden while a setting of any other node differs from the layout (the map
+  // holds those as in the layout, so it does not describe that chip).
+  const mapPoints = [...document.querySelectorAll<SVGGElement>('g.movable-point[data-x-setting]')];
+  const placeMapPoints = (solved: SolvedChip) => {
+    for (const g of mapPoints) {
+      const data = g.dataset as LiveMapData;
+      const axes = [parseSetting(data.xSetting!, solved.chip), parseSetting(data.ySetting!, solved.chip)];
+      const onMap = solved.result.converged && [...set.keys()].every((node) => axes.some((a) => a.node === node));
+      const at = onMap ? liveMapPoint(data, [settingValue(solved, axes[0]!), settingValue(solved, axes[1]!)]) : undefined;
+      if (at) g.setAttribute('transform', at);
+      g.setAttribute('visibility', at ? 'visible' : 'hidden');
+    }
+  };
+
   const setStatus = (text: string, bad = false) => {
     status.textContent = text;
     status.className = bad ? 'live-status bad' : 'live-status';
@@ -114,6 +134,7 @@ function start(): void {
     const html = reportResults(solved, findManifolds(solved), { extraction });
     const renderedAt = performance.now();
     results.innerHTML = html;
+    placeMapPoints(solved);
     globalThis.stratiflowSolution = JSON.parse(JSON.stringify(extraction ? { ...solved.result, extraction } : solved.result, jsonNumbers));
     for (const f of fields) {
       const name = f.dataset.setting!;

@@ -25,5 +25,5 @@ export type { ColourBarSpec } from './chart/colourBar.js';
 export { barChart, dotChart, type BarChartSpec, type DotChartSpec, type IndexedChartSpec, type IndexedGroup } from './chart/indexed.js';
 export { histogram, type HistogramSpec } from './chart/histogram.js';
 export { histogramBins, type Bin } from './chart/bins.js';
-export { regionMap, type ContourSpec, type RegionMapSpec } from './chart/regionMap.js';
+export { movableAt, regionMap, type ContourSpec, type MovableFrame, type RegionMapSpec } from './chart/regionMap.js';
 export { isoSegments, joinSegments } from './chart/contours.js';

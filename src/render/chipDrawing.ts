@@ -38,7 +38,7 @@ import { extractionCaption, keyFigures, wrap } from './chipDrawing/captions.js';
 import { drawChannels, drawUnderlays } from './chipDrawing/channels.js';
 import { drawContactors } from './chipDrawing/contactors.js';
 import { defs, legendEntries } from './chipDrawing/legend.js';
-import { drawArrows, drawPorts, drawSplits } from './chipDrawing/marks.js';
+import { drawArrows, drawPorts, drawSplits, legendLeakAngle } from './chipDrawing/marks.js';
 import { placeAutomatically, placeToScale, planWidth, type Placement } from './chipDrawing/placement.js';
 import { clearWidths, sideBySide } from './chipDrawing/routes.js';
 import type { Point } from './chipDrawing/common.js';
@@ -130,7 +130,7 @@ export function chipDrawing(solved: SolvedChip, options: ChipDrawingOptions = {}
 
   // Header lines and the legend decide where the chip starts.
   const heads = keyFigures(solved);
-  const legend = legendEntries(chip.phases.A.label, chip.phases.B.label, byPressure, extraction !== undefined);
+  const legend = legendEntries(chip.phases.A.label, chip.phases.B.label, byPressure, extraction !== undefined, legendLeakAngle(solved, place.at));
   const barTitles = [...(byPressure ? [PRESSURE_TITLE] : []), ...(extraction ? [extraction.title] : [])];
   const barRoom = barTitles.reduce((sum, title) => sum + colourBarRoom(title), 0);
   const headWidth = Math.max(textWidth(chip.name, TITLE_SIZE), ...heads.map((h) => textWidth(h.text)));

@@ -9,7 +9,7 @@
 import { max as maxOf, min as minOf } from 'd3-array';
 import type { SolvedChip } from '../analyses/chip.js';
 import { DISPLAY, fmt } from '../units/format.js';
-import { relativeSpan, uniformValue, UNIFORM_TO } from './chart/axes.js';
+import { nearlyUniformValue, relativeSpan, uniformValue, UNIFORM_TO } from './chart/axes.js';
 import { INK, viridis } from './palette.js';
 import { FONT_SIZE, TEXT_HALO, TITLE_SIZE, createDocument, el, label, serialise, textWidth } from './svg.js';
 
@@ -59,6 +59,8 @@ export function overviewStrip(solved: SolvedChip): string {
     label(g, `${strip.title} (${strip.unit})`, { x: PAD, y: y + ROW.height / 2, dy: '0.32em' });
     const finite = strip.values.filter(Number.isFinite);
     const uniform = finite.length > 0 && (minOf(finite) ?? 0) === (maxOf(finite) ?? 0) ? finite[0] : uniformValue(finite);
+    // Nearly uniform (a symmetric chip solved to the solver's tolerance): said in words as well, the colours cannot show it.
+    const nearly = uniform === undefined ? nearlyUniformValue(finite) : undefined;
     const smallest = minOf(finite) ?? 0;
     const largest = maxOf(finite) ?? 1;
     const [lo, hi] = relativeSpan([smallest, largest]).domain;
@@ -75,8 +77,9 @@ export function overviewStrip(solved: SolvedChip): string {
     el(g, 'rect', { x: x0, y, width: x1 - x0, height: ROW.height, fill: 'none', stroke: INK.axis, 'stroke-width': 0.8 });
     if (finite.length === 0) {
       label(g, 'none', { x: x1 + 6, y: y + ROW.height / 2, dy: '0.32em' });
-    } else if (uniform !== undefined) {
-      label(g, `every contactor ${fmt(uniform)} ${strip.unit}, uniform to ${UNIFORM_TO.toExponential(0)}`, { ...TEXT_HALO, x: (x0 + x1) / 2, y: y + ROW.height / 2, dy: '0.32em', 'text-anchor': 'middle' });
+    } else if (uniform !== undefined || nearly !== undefined) {
+      const how = uniform !== undefined ? `uniform to ${UNIFORM_TO.toExponential(0)}` : `within ${nearly!.relative.toExponential(1)} of it`;
+      label(g, `every contactor ${fmt(uniform ?? nearly!.value)} ${strip.unit}, ${how}`, { ...TEXT_HALO, x: (x0 + x1) / 2, y: y + ROW.height / 2, dy: '0.32em', 'text-anchor': 'middle' });
     } else {
       label(g, fmt(smallest), { x: x0 - 6, y: y + ROW.height / 2, dy: '0.32em', 'text-anchor': 'end' });
       label(g, fmt(largest), { x: x1 + 6, y: y + ROW.height / 2, dy: '0.32em' });

@@ -1,13 +1,14 @@
 /**
  * Pictures and text of a window map: the region map with throughput and ratio contours and the
- * marked points (`windowChart`), the grid as CSV (`windowCsv`), the summary (`windowText`), and
+ * marked points (`windowChart`; in a live report with the page's operating point, which the
+ * page places by `liveMapPoint`), the grid as CSV (`windowCsv`), the summary (`windowText`), and
  * where a target's two contours cross (`targetCrossings`). Pure: data in, text out.
  */
 import { scaleLinear } from 'd3-scale';
 import { POINT_CLASSES, type MapTarget, type PointClass, type SweepAxis, type WindowMap, type WindowPoint } from '../analyses/window.js';
-import { limitName, type WindowCoordinates, type WindowLimit, type WindowRegion } from '../analyses/windowRegion.js';
+import { coordinatesOf, limitName, type WindowCoordinates, type WindowLimit, type WindowRegion } from '../analyses/windowRegion.js';
 import { settingName, type Setting } from '../analyses/settings.js';
-import { regionMap, type MarkedPoint, type Point } from './chart.js';
+import { movableAt, regionMap, type MarkedPoint, type MovableFrame, type Point } from './chart.js';
 import { cautionLines, holdLines } from './text.js';
 import type { HoldResult } from '../analyses/hold.js';
 import { DISPLAY, fmt } from '../units/format.js';
@@ -104,8 +105,29 @@ export interface WindowMarks {
   searched?: Point[];
 }
 
-/** The SVG map: regions by class, contours of throughput and flow ratio, marked points. */
-export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks): string {
+/** What the live point of a map carries besides its frame: the two settings, the coordinates and the display factors. */
+export interface LiveMapData extends MovableFrame {
+  xSetting?: string;
+  ySetting?: string;
+  coordinates?: string;
+  xFactor?: string;
+  yFactor?: string;
+}
+
+/**
+ * Where the live point of a map (`windowChart` with `live`) goes when its two settings have
+ * the values `settings` (SI), as its group's transform, or undefined off the map.
+ */
+export function liveMapPoint(data: LiveMapData, settings: readonly [number, number]): string | undefined {
+  const [u, v] = coordinatesOf(data.coordinates === 'mean-difference' ? 'mean-difference' : 'settings', settings);
+  return movableAt(data, [u * Number(data.xFactor), v * Number(data.yFactor)]);
+}
+
+/**
+ * The SVG map: regions by class, contours of throughput and flow ratio, marked points; with
+ * `live`, also the point a live report's page moves to its current settings (hidden until then).
+ */
+export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks, options: { live?: boolean } = {}): string {
   const { x, y } = map.spec;
   const ax = axisDisplay(x.setting, y.setting, map.spec.coordinates, 'x');
   const ay = axisDisplay(x.setting, y.setting, map.spec.coordinates, 'y');
@@ -158,6 +180,17 @@ export function windowChart(chipName: string, map: WindowMap, marks: WindowMarks
       ...(marks.searched ? [{ label: 'range searched for the region', lines: [marks.searched.map(at)], closed: true, dash: '2 3' }] : []),
       ...(marks.hold ? [{ label: 'hold: how far each setting may move alone', lines: marks.hold.map((line) => line.map(at)), closed: false, dash: '6 3' }] : []),
     ],
+    ...(options.live
+      ? {
+          movable: {
+            label: 'live: the settings of the page (while no other is changed)',
+            attrs: {
+              'data-x-setting': settingName(x.setting), 'data-y-setting': settingName(y.setting), 'data-coordinates': map.spec.coordinates ?? 'settings',
+              'data-x-factor': String(ax.factor), 'data-y-factor': String(ay.factor),
+            },
+          },
+        }
+      : {}),
   });
 }
 

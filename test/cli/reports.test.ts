@@ -1,9 +1,10 @@
 /**
- * `--report FILE` of tune, tolerance and extract, as a user runs them: each writes one
+ * `--report FILE` of tune, tolerance, extract and window, as a user runs them: each writes one
  * self-contained, well-formed HTML page with the analysis as the command prints it, the chip
  * report, and (where the page script is built, `npm run build`) the live operating point; a
  * report path in a missing folder is refused before the work starts. Layouts: generated ladders
- * and the bundled dye demo (invented demo values).
+ * the bundled dye demo and the hand-worked single contactor of test/support/handWindow.ts
+ * (invented demo values).
  */
 import { describe, expect, it } from 'vitest';
 import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
@@ -14,6 +15,7 @@ import { XMLValidator } from 'fast-xml-parser';
 import { ladderLayout } from '../../src/layout/generate.js';
 import { pageScript } from '../../src/cli/pageScript.js';
 import { runCli } from '../support/cli.js';
+import { singleContactor } from '../support/handWindow.js';
 
 const live = pageScript() !== undefined;
 if (!live) console.warn('report tests: dist/page/live.js is not built (npm run build); the live part is not checked');
@@ -33,6 +35,9 @@ describe('--report', () => {
   const dir = mkdtempSync(join(tmpdir(), 'stratiflow-reports-'));
   const ladder = join(dir, 'ladder.yaml');
   writeFileSync(ladder, stringify(ladderLayout({ contactors: 4 })));
+  const one = join(dir, 'one.yaml');
+  writeFileSync(one, stringify(singleContactor()));
+  const windowArgs = ['window', one, '--x-range', '6:9kPa', '--x-steps', '7', '--y-range', '6kPa:9.5kPa', '--y-steps', '7', '--workers', '1', '--svg', join(dir, 'map.svg')];
 
   it('tune writes the tuning beside the tuned chip, live from the tuned settings', async () => {
     const report = join(dir, 'tune.html');
@@ -58,9 +63,32 @@ describe('--report', () => {
     expectReport(report, 'Extraction');
   });
 
+  it('window writes the map and its summary beside the chip at the layout\'s settings, live from them', async () => {
+    const report = join(dir, 'window.html');
+    const { code, err, out } = await runCli([...windowArgs, '--report', report]);
+    expect(err).toBe('');
+    expect(code).toBe(0);
+    const html = expectReport(report, 'Operating window');
+    // The map as the --svg file has it (with the traced region), live with the point the page
+    // moves (hidden until a setting changes, tested in ./windowReport.test.ts), and the summary as printed.
+    const map = readFileSync(join(dir, 'map.svg'), 'utf8');
+    expect(map).toContain('working region (traced)');
+    expect(map).not.toContain('movable-point');
+    const shown = html.match(/<figure class="chart" id="analysis-window-map">(<svg.*?<\/svg>)<\/figure>/s)![1]!;
+    if (live) {
+      expect(shown).toContain('<g class="movable-point" visibility="hidden"');
+      expect(shown).toContain('live: the settings of the page');
+    } else {
+      expect(shown).toBe(map);
+    }
+    expect(html).toContain(out.split('\n')[0]!.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;'));
+    // The live part starts from the layout as given: inA at 7 kPa (test/support/handWindow.ts).
+    if (live) expect(html).toMatch(/data-setting="inA\.pressure" value="7000"/);
+  });
+
   it('refuses a report in a missing folder before the work starts, with one line and exit status 5', async () => {
     const missing = join(dir, 'no-such-folder', 'r.html');
-    for (const args of [['tune', ladder, '--throughput', '16uL/min', '--report', missing], ['tolerance', ladder, '--depth', '1%', '--report', missing], ['extract', 'layouts/dye-octanol-8.yaml', '--report', missing]]) {
+    for (const args of [['tune', ladder, '--throughput', '16uL/min', '--report', missing], ['tolerance', ladder, '--depth', '1%', '--report', missing], ['extract', 'layouts/dye-octanol-8.yaml', '--report', missing], [...windowArgs, '--report', missing]]) {
       const { code, err } = await runCli(args);
       expect(code).toBe(5);
       expect(err.trim().split('\n')).toHaveLength(1);

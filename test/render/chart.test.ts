@@ -257,6 +257,15 @@ describe('axes of data uniform up to rounding', () => {
     expect(texts(line)).toContain('pressure: every value 2 kPa, uniform to 1e-12 of its size.');
   });
 
+  it('says in words how little nearly uniform data spread, as the even 1024-contactor tree of make tree --levels 10 solves (2.4e-12 measured)', () => {
+    const nearly = values.map((v, k) => v * (1 + (k % 2) * 2.4e-12));
+    expect(texts(dotChart(spec(nearly)))).toContain('phase A: every value 2 µL/min, within 2.4e-12 of its size.');
+    const line = lineChart({ x: { label: 'x' }, y: { label: 'pressure', unit: 'kPa' }, series: [{ name: 's', points: nearly.map((v, k) => [k, v] as const) }] });
+    expect(texts(line)).toContain('pressure: every value 2 kPa, within 2.4e-12 of its size.');
+    // Spread over 1 % of the widened axis (NOTED_SPREAD, 1e-5 of the size): the dots show it, no words.
+    expect(texts(dotChart(spec(values.map((v, k) => v * (1 + (k % 2) * 2e-5))))).some((t) => t.includes('every value'))).toBe(false);
+  });
+
   it('says nothing of uniform data where the values spread wider than 1e-12', () => {
     const spread = values.map((v, k) => v * (1 + k * 1e-9));
     expect(texts(dotChart(spec(spread))).some((t) => t.includes('uniform'))).toBe(false);

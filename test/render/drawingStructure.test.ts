@@ -1,9 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
-import { layoutToChip, loadLayout } from '../../src/layout/load.js';
+import { layoutToChip, loadLayout, readLayoutText } from '../../src/layout/load.js';
+import { parseDataText } from '../../src/files.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip, type SolvedChip } from '../../src/analyses/chip.js';
-import { chipDrawing } from '../../src/render/chipDrawing.js';
+import { chipDrawing, type ChipDrawingOptions } from '../../src/render/chipDrawing.js';
 import { textWidth } from '../../src/render/svg.js';
 import { segmentDistance } from '../../src/render/chipDrawing/routes.js';
 import { planWidth } from '../../src/render/chipDrawing/placement.js';
@@ -27,9 +28,12 @@ function leaky(contactors: number): LayoutFile {
   return layout;
 }
 
-const CHIPS: Array<[string, () => SolvedChip]> = [
+const CHIPS: Array<[string, () => SolvedChip, ChipDrawingOptions?]> = [
   ['the enzyme demo layout', () => solveChip(loadLayout('layouts/enzyme-atps-16.yaml'))],
   ['the dye demo layout', () => solveChip(loadLayout('layouts/dye-octanol-8.yaml'))],
+  // Both demo layouts are drawn ×2 by default: these are twice as wide again.
+  ['the enzyme demo layout with channels drawn ×4', () => solveChip(loadLayout('layouts/enzyme-atps-16.yaml')), { widthScale: 4 }],
+  ['the dye demo layout with channels drawn ×4', () => solveChip(loadLayout('layouts/dye-octanol-8.yaml')), { widthScale: 4 }],
   ['a leaking 64-contactor ladder', () => solveChip(layoutToChip(leaky(64), 'ladder.yaml'))],
   ['a 16-contactor tree', () => solveChip(layoutToChip(treeLayout({ drive }), 'tree.yaml'))],
   ['a 4-contactor ladder without coordinates', () => solveChip(layoutToChip(bare(ladderLayout({ contactors: 4, drive })), 'bare.yaml'))],
@@ -57,8 +61,15 @@ function contactorStroke(g: Element): Stroke {
 const ROUNDING = 0.02;
 
 const apart = (s: Stroke, t: Stroke) => segmentDistance(s.a, s.b, t.a, t.b) >= (s.width + t.width) / 2 - ROUNDING;
-/** A crossing: the centre line of one passes through the body of the other. */
-const crossing = (s: Stroke, t: Stroke) => segmentDistance(s.a, s.b, t.a, t.b) < Math.max(s.width, t.width) / 2;
+/**
+ * A crossing on the chip itself: the centre lines cross, or the centre line of one passes through
+ * the body the other has at its true width. (By the drawn widths, a channel drawn far wider than
+ * it is would "cross" every neighbour it covers.)
+ */
+const crossing = (s: Piece, t: Piece) => {
+  const d = segmentDistance(s.a, s.b, t.a, t.b);
+  return d === 0 || d < Math.max(s.trueWidth, t.trueWidth) / 2;
+};
 
 interface Piece extends Stroke {
   id: string;
@@ -72,8 +83,8 @@ interface Piece extends Stroke {
  * of its own, named by its segment), with its phase from the solution and its true width from the
  * layout at the scale of the scale bar.
  */
-function plainChannels(solved: SolvedChip): Piece[] {
-  const root = parse(chipDrawing(solved, { colourBy: 'pressure' }));
+function plainChannels(solved: SolvedChip, options: ChipDrawingOptions = {}): Piece[] {
+  const root = parse(chipDrawing(solved, { ...options, colourBy: 'pressure' }));
   const bars = all(root, hasClass('scale-bar'));
   let pxPerMetre = 0;
   if (bars.length > 0) {
@@ -98,9 +109,9 @@ function plainChannels(solved: SolvedChip): Piece[] {
   });
 }
 
-describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
+describe.each(CHIPS)('the drawing of %s', (_name, solve, options = {}) => {
   const solved = solve();
-  const root = parse(chipDrawing(solved));
+  const root = parse(chipDrawing(solved, options));
 
   it('draws every contactor exactly once', () => {
     const drawn = all(root, hasClass('contactor')).map((g) => g.attrs['data-segment']).sort();
@@ -113,7 +124,7 @@ describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
   });
 
   it('keeps every phase-A channel off every phase-B channel, except where one crosses the other or the layout itself overlaps them', () => {
-    const pieces = plainChannels(solved);
+    const pieces = plainChannels(solved, options);
     const { A, B } = { A: pieces.filter((p) => p.phase === 'A'), B: pieces.filter((p) => p.phase === 'B') };
     expect(A.length).toBeGreaterThan(0);
     expect(B.length).toBeGreaterThan(0);
@@ -129,7 +140,7 @@ describe.each(CHIPS)('the drawing of %s', (_name, solve) => {
   });
 
   it('draws the two inlets of every merge and the two outlets of every split side by side, apart', () => {
-    const stroke = new Map(plainChannels(solved).map((p) => [p.id, p]));
+    const stroke = new Map(plainChannels(solved, options).map((p) => [p.id, p]));
     const pairs = solved.chip.nodes.flatMap((n) => (n.kind === 'merge' ? [n.inlets] : n.kind === 'split' ? [n.outlets] : []));
     expect(pairs).toHaveLength(2 * solved.network.contactors.length);
     for (const [near, far] of pairs) expect(apart(stroke.get(near)!, stroke.get(far)!), `${near} and ${far}`).toBe(true);
@@ -163,6 +174,29 @@ describe('the chip drawing, read as a person would', () => {
     const entries = swatches.slice(0, -1).map(look);
     expect(entries.length).toBe(legend.children.filter((c) => c.name === 'text').length);
     expect(new Set(entries).size, entries.join('\n')).toBe(entries.length);
+  });
+
+  /** Where a leak triangle (M tip L base L base Z) points, rad on screen. */
+  const pointing = (d: string) => {
+    const [tx, ty, ax, ay, bx, by] = d.match(/[-\d.]+/g)!.map(Number);
+    return Math.atan2(ty! - (ay! + by!) / 2, tx! - (ax! + bx!) / 2);
+  };
+  const sameDirection = (a: number, b: number) => Math.abs(Math.atan2(Math.sin(a - b), Math.cos(a - b))) < 0.01;
+
+  it('draws every leak mark pointing as its legend entry points, for leaks both ways and on the demo chip', () => {
+    const demo = parseDataText(readLayoutText('layouts/enzyme-atps-16.yaml'), 'demo.yaml', 'layout file') as LayoutFile;
+    const inB = demo.nodes.find((n) => n.id === 'inB') as { flow?: unknown; pressure?: unknown };
+    delete inB.flow;
+    inB.pressure = 14470; // 100 Pa above its solved pressure: every split leaks B into A
+    for (const solved of [solveChip(layoutToChip(leaky(16), 'ladder.yaml')), solveChip(layoutToChip(demo, 'demo.yaml'))]) {
+      const root = parse(chipDrawing(solved));
+      const legend = all(all(root, hasClass('legend'))[0]!, (e) => e.name === 'path' && e.attrs['stroke-width'] === '1.4');
+      const legendAngle = new Map(legend.map((e) => [e.attrs.fill!, pointing(e.attrs.d!)]));
+      expect(legendAngle.size).toBe(2);
+      const marks = all(root, (e) => hasClass('split')(e) && !hasClass('pinned')(e)).map((g) => g.children.find((c) => c.name === 'path')!);
+      expect(marks.length).toBeGreaterThan(0);
+      for (const m of marks) expect(sameDirection(pointing(m.attrs.d!), legendAngle.get(m.attrs.fill!)!), m.attrs.fill).toBe(true);
+    }
   });
 
   it('marks inlets, outlets and pinned splits with three different shapes', () => {

@@ -11,6 +11,7 @@ import { findManifolds } from '../../src/analyses/manifolds.js';
 import { chipReport } from '../../src/render/report.js';
 import { jsonNumbers } from '../../src/cli/context.js';
 import { fmt } from '../../src/units/format.js';
+import { watchProblems } from '../support/pageProblems.js';
 
 /**
  * The live report in a real browser: Debian's chromium driven by playwright-core (the reference
@@ -88,13 +89,7 @@ describe.skipIf(!haveChromium)('the live report in headless chromium', () => {
 
   async function open(): Promise<Page> {
     const page = await context.newPage();
-    page.on('console', (m) => {
-      if (m.type() === 'error' || m.type() === 'warning') problems.push(`console ${m.type()}: ${m.text()}`);
-    });
-    page.on('pageerror', (e) => problems.push(`page error: ${e.message}`));
-    page.on('request', (r) => {
-      if (!r.url().startsWith('file:') && !r.url().startsWith('blob:')) problems.push(`request: ${r.url()}`);
-    });
+    watchProblems(page, problems);
     await page.goto(`file://${file}`, { waitUntil: 'load' });
     return page;
   }

@@ -47,6 +47,15 @@ describe('overviewStrip', () => {
     expect(textOf(strips[3]!)).toMatch(/every contactor 0 Pa/);
   });
 
+  it('says how little a strip spreads where the contactors are equal only to the solver\'s tolerance', () => {
+    // The flows of A spread by 2.4e-12 of their size, as those of the even 1024-contactor tree of
+    // make tree --levels 10 (measured): above 1e-12, so not called uniform, yet no colour could show it.
+    const tree = solveChip(layoutToChip(treeLayout({ levels: 4, drive }), 'tree.yaml'));
+    const contactors = tree.result.contactors.map((c, k) => ({ ...c, flowA: c.flowA * (1 + (k % 2) * 2.4e-12) }));
+    const strips = all(parse(overviewStrip({ ...tree, result: { ...tree.result, contactors } })), hasClass('strip'));
+    expect(textOf(strips[0]!)).toMatch(/every contactor [\d.]+ µL\/min, within 2\.4e-12 of it/);
+  });
+
   it('fits 4096 contactors in its fixed width', () => {
     // Only the renderer is exercised: the rows of a 64-contactor ladder repeated (not a solved chip of that size).
     const rows = Array.from({ length: 4096 }, (_, i) => ({ ...ladder.result.contactors[i % 64]!, index: i + 1, id: `k${i + 1}` }));

@@ -30,6 +30,18 @@ export interface NumericAxis {
    * axis alone (widened to MIN_RELATIVE_SPAN) cannot tell "equal" from "close".
    */
   uniform?: number;
+  /**
+   * Set when the data spread wider than UNIFORM_TO but less than NOTED_SPREAD of their size (a
+   * symmetric chip solved to the solver's tolerance): their middle and relative spread, which
+   * charts also say in words, since on the widened axis the points cannot be told apart.
+   */
+  nearlyUniform?: NearlyUniform;
+}
+
+export interface NearlyUniform {
+  value: number;
+  /** (largest − smallest) / largest magnitude. */
+  relative: number;
 }
 
 /**
@@ -40,15 +52,22 @@ export interface NumericAxis {
 export const MIN_RELATIVE_SPAN = 1e-3;
 /** Data within this share of their largest magnitude are called uniform: a few ulps of double precision times the size of a network solve. */
 export const UNIFORM_TO = 1e-12;
+/**
+ * Data spread less than this share of their size are told in words as well: on an axis of
+ * MIN_RELATIVE_SPAN they differ by under 1 % of its height, less than a dot's size.
+ */
+export const NOTED_SPREAD = MIN_RELATIVE_SPAN / 100;
 
 /** `[lo, hi]` widened to at least MIN_RELATIVE_SPAN of its largest magnitude, about its middle; `uniform` when it spans at most UNIFORM_TO of it. */
-export function relativeSpan([lo, hi]: readonly [number, number]): { domain: [number, number]; uniform?: number } {
+export function relativeSpan([lo, hi]: readonly [number, number]): { domain: [number, number]; uniform?: number; nearlyUniform?: NearlyUniform } {
   const size = Math.max(Math.abs(lo), Math.abs(hi));
   const span = hi - lo;
   if (size === 0 || span >= MIN_RELATIVE_SPAN * size) return { domain: [lo, hi] };
   const mid = (lo + hi) / 2;
   const half = (MIN_RELATIVE_SPAN * size) / 2;
-  return { domain: [mid - half, mid + half], ...(span <= UNIFORM_TO * size ? { uniform: mid } : {}) };
+  const domain: [number, number] = [mid - half, mid + half];
+  if (span <= UNIFORM_TO * size) return { domain, uniform: mid };
+  return span < NOTED_SPREAD * size ? { domain, nearlyUniform: { value: mid, relative: span / size } } : { domain };
 }
 
 export function axisTitle(axis: { label: string; unit?: string }): string {
@@ -80,6 +99,7 @@ export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTic
   const count = spec.ticks ?? defaultTicks;
   let scale: NumericScale;
   let uniform: number | undefined;
+  let nearlyUniform: NearlyUniform | undefined;
   if (spec.domain) {
     if (!spec.domain.every(Number.isFinite)) throw new RangeError(`axis "${spec.label}" needs a finite domain`);
     if (log && !(spec.domain[0] > 0 && spec.domain[1] > 0)) throw new RangeError(`log axis "${spec.label}" needs a positive domain`);
@@ -93,6 +113,7 @@ export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTic
       const relative = relativeSpan(data);
       if (data[0] !== data[1]) domain = relative.domain;
       if (data[0] !== 0 || data[1] !== 0) uniform = data[0] === data[1] ? data[0] : relative.uniform;
+      nearlyUniform = relative.nearlyUniform;
     }
     scale = log ? scaleLog().domain(domain).nice() : scaleLinear().domain(domain).nice(count);
   }
@@ -102,7 +123,7 @@ export function numericAxis(spec: AxisSpec, values: Iterable<number>, defaultTic
     const auto = format(value);
     return { value, label: auto !== '' && spec.format ? spec.format(value) : auto };
   });
-  return { scale, ticks, usable, ...(uniform !== undefined ? { uniform } : {}) };
+  return { scale, ticks, usable, ...(uniform !== undefined ? { uniform } : {}), ...(nearlyUniform ? { nearlyUniform } : {}) };
 }
 
 /** The value finite `values` share when they are uniform to UNIFORM_TO of their largest magnitude (not all zero), else undefined. */
@@ -111,9 +132,20 @@ export function uniformValue(values: Iterable<number>): number | undefined {
   return range ? relativeSpan(range).uniform : undefined;
 }
 
-/** The sentence a chart writes under its plot about data that are uniform (`uniformValue`). */
-export function uniformNote(name: string, value: number, unit: string | undefined): string {
-  return `${name}: every value ${Number(value.toPrecision(6))}${unit ? ` ${unit}` : ''}, uniform to ${UNIFORM_TO.toExponential(0)} of its size.`;
+/** The middle and relative spread of finite `values` that are nearly uniform (see NumericAxis.nearlyUniform), else undefined. */
+export function nearlyUniformValue(values: Iterable<number>): NearlyUniform | undefined {
+  const range = extentOf(values, Number.isFinite);
+  return range ? relativeSpan(range).nearlyUniform : undefined;
+}
+
+/**
+ * The sentence a chart writes under its plot about data that are uniform (`uniformValue`), or
+ * nearly so (`nearlyUniformValue`: then with their relative spread).
+ */
+export function uniformNote(name: string, value: number | NearlyUniform, unit: string | undefined): string {
+  const shared = typeof value === 'number' ? value : value.value;
+  const how = typeof value === 'number' ? `uniform to ${UNIFORM_TO.toExponential(0)} of its size` : `within ${value.relative.toExponential(1)} of its size`;
+  return `${name}: every value ${Number(shared.toPrecision(6))}${unit ? ` ${unit}` : ''}, ${how}.`;
 }
 
 export function pixelTicks(axis: NumericAxis): PixelTick[] {

@@ -10,7 +10,7 @@ import {
   TEXT_HALO, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, label, marker, markerRun, serialise, textWidth,
   type LegendEntry,
 } from '../svg.js';
-import { axisTitle, beginChart, drawNotes, inside, markerSwatch, notesRoom, numericAxis, pixelTicks, uniformNote, uniformValue } from './axes.js';
+import { axisTitle, beginChart, drawNotes, inside, markerSwatch, notesRoom, numericAxis, pixelTicks, nearlyUniformValue, uniformNote, uniformValue } from './axes.js';
 import type { AxisSpec, ChartSpec, LinearAxisSpec, ReferenceLine } from './spec.js';
 
 export interface IndexedGroup {
@@ -59,7 +59,7 @@ function indexedChart(spec: IndexedChartSpec & { y: AxisSpec }, kind: 'bar' | 'd
   // Each group says in words when it is uniform: the axis is widened to its minimum relative span, so the dots alone cannot tell.
   const notes: string[] = [];
   for (const g of spec.groups) {
-    const value = uniformValue(g.values);
+    const value = uniformValue(g.values) ?? nearlyUniformValue(g.values);
     if (value !== undefined) notes.push(uniformNote(g.name, value, spec.y.unit));
   }
   notes.push(...(spec.notes ?? []));

@@ -42,7 +42,8 @@ export function lineChart(spec: LineChartSpec): string {
     const { colour, marker: shape } = seriesStyle(i);
     return { text: s.name, swatch: s.show === 'points' ? markerSwatch(shape, colour) : lineSwatch(colour, s.dashed === true, shape) };
   });
-  const notes = [...(y.uniform !== undefined ? [uniformNote(spec.y.label, y.uniform, spec.y.unit)] : []), ...(spec.notes ?? [])];
+  const shared = y.uniform ?? y.nearlyUniform;
+  const notes = [...(shared !== undefined ? [uniformNote(spec.y.label, shared, spec.y.unit)] : []), ...(spec.notes ?? [])];
   const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label), { bottom: notesRoom(notes) });
   drawNotes(root, frame, notes);
   x.scale.range([frame.x0, frame.x1]);

@@ -2,14 +2,15 @@
  * The region map: a grid of classified cells (e.g. pinned, leaking, backflow) in category colours
  * and hatches, with labelled contour lines of other quantities over it, a traced region (its
  * outline drawn piece by piece, each piece labelled), outlined boxes and marked points; no two
- * labels overlap. Exports `regionMap` and its spec types.
+ * labels overlap; optionally a point a page script moves (`movable`, placed by `movableAt`).
+ * Exports `regionMap`, `movableAt` and the spec types.
  */
 import { INK, categoryColour } from '../palette.js';
 import {
   FONT_SIZE, clipTo, drawAxisBottom, drawAxisLeft, el, fillSwatch, hatchDefs, hatchFill, num, serialise,
   type Frame, type LegendEntry, type SvgNode,
 } from '../svg.js';
-import { axisTitle, beginChart, drawNotes, notesRoom, numericAxis, pixelTicks } from './axes.js';
+import { axisTitle, beginChart, drawNotes, inside, notesRoom, numericAxis, pixelTicks } from './axes.js';
 import { isoSegments, joinSegments } from './contours.js';
 import { LabelPlacer, cellEdges, drawPoints, gridSize } from './grid.js';
 import type { ChartSpec, Grid, GridAxisSpec, MarkedPoint, Point } from './spec.js';
@@ -59,6 +60,41 @@ export interface RegionMapSpec extends ChartSpec {
   region?: TracedRegion;
   /** Dashed marks (e.g. the box searched, how far the settings may move), each with a legend entry. */
   outlines?: readonly DashedMark[];
+  /**
+   * A point a page script moves (a live report's operating point), with its legend entry: drawn
+   * hidden at the origin, in a group (class `movable-point`) that carries `attrs` and what
+   * `movableAt` needs to place it: the plot frame (`data-frame`, px) and the axis domains
+   * (`data-x-domain`, `data-y-domain`, axis units).
+   */
+  movable?: { label: string; attrs: Readonly<Record<string, string>> };
+}
+
+/** What a movable point's group says of the plot: the frame and the axes' domains. */
+export interface MovableFrame {
+  frame?: string;
+  xDomain?: string;
+  yDomain?: string;
+}
+
+/**
+ * Where a movable point goes for `at` (axis units), as the transform of its group, or undefined
+ * outside the plot: the axes are linear, from domain to frame.
+ */
+export function movableAt(data: MovableFrame, at: Point): string | undefined {
+  const numbers = (text: string | undefined) => (text ?? '').split(' ').map(Number);
+  const [x0, y0, x1, y1] = numbers(data.frame);
+  const [xa, xb] = numbers(data.xDomain);
+  const [ya, yb] = numbers(data.yDomain);
+  const px = x0! + ((at[0] - xa!) / (xb! - xa!)) * (x1! - x0!);
+  const py = y1! - ((at[1] - ya!) / (yb! - ya!)) * (y1! - y0!);
+  if (!(Number.isFinite(px) && Number.isFinite(py) && inside({ x0: x0!, y0: y0!, x1: x1!, y1: y1! }, px, py))) return undefined;
+  return `translate(${num(px)},${num(py)})`;
+}
+
+/** The movable point's symbol about (cx, cy): a ring with a cross, unlike the filled dots of marked points. */
+function movableSymbol(parent: SvgNode, cx: number, cy: number): void {
+  el(parent, 'circle', { cx, cy, r: 6, fill: INK.halo, 'fill-opacity': 0.6, stroke: INK.text, 'stroke-width': 2 });
+  el(parent, 'path', { d: `M${num(cx - 9)},${num(cy)}H${num(cx + 9)}M${num(cx)},${num(cy - 9)}V${num(cy + 9)}`, stroke: INK.text, 'stroke-width': 1.4 });
 }
 
 const CONTOUR_DASHES = [undefined, '5 3', '2 2'] as const;
@@ -76,6 +112,7 @@ export function regionMap(spec: RegionMapSpec): string {
     ...contours.map((c, m) => ({ text: axisTitle(c), swatch: contourSwatch(m) })),
     ...(spec.region ? [{ text: spec.region.label, swatch: regionSwatch(spec.region.fillClass) }] : []),
     ...(spec.outlines ?? []).map((o) => ({ text: o.label, swatch: outlineSwatch(o) })),
+    ...(spec.movable ? [{ text: spec.movable.label, swatch: (parent: SvgNode, cx: number, cy: number) => movableSymbol(parent, cx, cy) }] : []),
   ];
   const notes = spec.notes ?? [];
   const { root, frame, yTitleX } = beginChart(spec, legend, y.ticks.map((t) => t.label), { bottom: notesRoom(notes) });
@@ -127,6 +164,15 @@ export function regionMap(spec: RegionMapSpec): string {
   const outlines = el(lines, 'g', { class: 'outlines', fill: 'none', stroke: INK.text, 'stroke-width': 1.4 });
   for (const o of spec.outlines ?? []) for (const line of o.lines) el(outlines, 'path', { class: 'outline', d: path(line, o.closed), 'stroke-dasharray': o.dash });
   drawPoints(root, frame, spec.points ?? [], x.scale, y.scale, placer);
+  if (spec.movable) {
+    const [xa, xb] = x.scale.domain();
+    const [ya, yb] = y.scale.domain();
+    const g = el(root, 'g', {
+      class: 'movable-point', visibility: 'hidden', 'data-frame': [frame.x0, frame.y0, frame.x1, frame.y1].map(num).join(' '),
+      'data-x-domain': `${xa} ${xb}`, 'data-y-domain': `${ya} ${yb}`, ...spec.movable.attrs,
+    });
+    movableSymbol(g, 0, 0);
+  }
   if (region) {
     const labels = el(root, 'g', { class: 'region-labels', 'font-size': FONT_SIZE - 1 });
     for (const piece of region.pieces) if (piece.label) placer.place(labels, piece.label, pieceAnchors(piece.points.map(px)));

@@ -17,7 +17,8 @@ export function defs(root: SvgNode): void {
   el(p, 'rect', { x: 4, width: 4, height: 8, fill: PHASE_COLOURS.B });
 }
 
-export function legendEntries(labelA: string, labelB: string, byPressure: boolean, byApproach: boolean): LegendEntry[] {
+/** `leakA`: the screen direction of phase A's leak mark in the drawing (./marks.ts legendLeakAngle); B's points the other way. */
+export function legendEntries(labelA: string, labelB: string, byPressure: boolean, byApproach: boolean, leakA = 0): LegendEntry[] {
   const band = (colour: string, hatch = false): LegendEntry['swatch'] => (g, cx, cy) => {
     el(g, 'rect', { x: cx - 10, y: cy - 5, width: 20, height: 10, fill: colour, stroke: INK.axis, 'stroke-width': 0.8 });
     if (hatch) el(g, 'rect', { x: cx - 10, y: cy - 5, width: 20, height: 10, fill: PHASE_B_HATCH });
@@ -54,8 +55,8 @@ export function legendEntries(labelA: string, labelB: string, byPressure: boolea
       },
     },
     { text: 'outlet split pinned', swatch: (g, cx, cy) => void el(g, 'path', { d: pinnedDiamond({ x: cx, y: cy }, 6), fill: INK.text, stroke: INK.halo, 'stroke-width': 1.2 }) },
-    { text: 'split leaking A into the B outlet (purity of that outlet)', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, 0, 6), fill: PHASE_COLOURS.A, stroke: INK.text, 'stroke-width': 1.4 }) },
-    { text: 'split leaking B into the A outlet', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, Math.PI, 6), fill: PHASE_COLOURS.B, stroke: INK.text, 'stroke-width': 1.4 }) },
+    { text: 'split leaking A into the B outlet (purity of that outlet)', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, leakA, 6), fill: PHASE_COLOURS.A, stroke: INK.text, 'stroke-width': 1.4 }) },
+    { text: 'split leaking B into the A outlet', swatch: (g, cx, cy) => void el(g, 'path', { d: leakTriangle({ x: cx, y: cy }, leakA + Math.PI, 6), fill: PHASE_COLOURS.B, stroke: INK.text, 'stroke-width': 1.4 }) },
     { text: 'above the pressure rating', swatch: (g, cx, cy) => void el(g, 'line', { x1: cx - 11, y1: cy, x2: cx + 11, y2: cy, stroke: INK.text, 'stroke-width': 9, 'stroke-dasharray': '5 3' }) },
     { text: 'inlet (in its phase\'s colour)', swatch: (g, cx, cy) => void el(g, 'circle', { cx, cy, r: 5, fill: PHASE_COLOURS.A, stroke: INK.text, 'stroke-width': 1.6 }) },
     { text: 'outlet (in its phase\'s colour)', swatch: (g, cx, cy) => void el(g, 'rect', { x: cx - 5, y: cy - 5, width: 10, height: 10, fill: PHASE_COLOURS.B, stroke: INK.text, 'stroke-width': 1.6 }) },

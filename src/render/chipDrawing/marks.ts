@@ -72,6 +72,29 @@ export function drawArrows(root: SvgNode, solved: SolvedChip, drawable: ChipSegm
   if (normal.length > 0) el(g, 'path', { d: normal.join(''), fill: INK.halo, stroke: INK.text, 'stroke-width': 1 });
 }
 
+/**
+ * The direction of a leak mark, rad on screen: across the channel end, from the side of the
+ * invading phase to the other one, for a contactor running at `along` whose near side (the
+ * left looking downstream) holds `nearPhase`.
+ */
+export function leakAngle(along: number, invader: PhaseName, nearPhase: PhaseName): number {
+  return along + (invader === nearPhase ? Math.PI / 2 : -Math.PI / 2);
+}
+
+/**
+ * The direction of phase A's leak mark at the first contactor that ends in a split (0 without
+ * one), for the legend: so that its triangles point as the drawing's do, where the contactors
+ * run one way (B's points the other way round).
+ */
+export function legendLeakAngle(solved: SolvedChip, at: Map<string, Point>): number {
+  const byId = new Map(solved.result.splits.map((s) => [s.id, s]));
+  const c = solved.network.contactors.find((k) => k.split);
+  if (!c) return 0;
+  const a = at.get(c.segment.from)!;
+  const p = at.get(c.segment.to)!;
+  return leakAngle(Math.atan2(p.y - a.y, p.x - a.x), 'A', byId.get(c.split!.node.id)!.nearPhase);
+}
+
 /** Marks every outlet split; returns how many leak labels found no room. */
 export function drawSplits(root: SvgNode, solved: SolvedChip, at: Map<string, Point>, drawnWidth: (s: ChipSegment) => number, canvasWidth: number): number {
   const { network, result } = solved;
@@ -94,10 +117,8 @@ export function drawSplits(root: SvgNode, solved: SolvedChip, at: Map<string, Po
       el(mark, 'path', { d: pinnedDiamond(p, Math.max(5.5, Math.min(w * 0.5, 9))), fill: INK.text, stroke: INK.halo, 'stroke-width': 1.2 });
       continue;
     }
-    // The triangle points across the channel end from the invading phase's side to the other one.
     const invader: PhaseName = s.state === 'leaking-A-to-B' ? 'A' : 'B';
-    const towardFar = invader === s.nearPhase;
-    const theta = along + (towardFar ? Math.PI / 2 : -Math.PI / 2);
+    const theta = leakAngle(along, invader, s.nearPhase);
     el(mark, 'path', { d: leakTriangle(p, theta, Math.max(7, Math.min(w * 0.8, 14))), fill: PHASE_COLOURS[invader], stroke: INK.text, 'stroke-width': 1.4 });
     const purity = invader === 'A' ? (s.nearPhase === 'B' ? s.purityNear : s.purityFar) : s.nearPhase === 'A' ? s.purityNear : s.purityFar;
     texts.push({ p, room: Math.max(7, Math.min(w * 0.8, 14)) + 3, text: `${invader}→${invader === 'A' ? 'B' : 'A'} ${(100 * purity).toFixed(1)} %` });

@@ -40,9 +40,10 @@ export function segmentDistance(p1: Point, p2: Point, q1: Point, q2: Point): num
  * shows a channel narrower than it is). Two channels that would touch share the room between
  * their centre lines in proportion to their widths: w_a/2 + w_b/2 ≤ d − channelGap. Channels of
  * one phase may run together (they hold the same fluid). A crossing keeps its widths: where the
- * centre line of one passes through the body of the other (d < max(w_a, w_b)/2) one channel is
- * drawn over the other. Narrowing can turn a crossing into a
- * touch, so the pairs are looked at again until nothing changes. Candidate pairs come from a grid
+ * centre line of one passes through the body the other has at its floor width
+ * (d < max(floor_a, floor_b)/2: they cross on the chip itself) one channel is drawn over the
+ * other. Narrowing one pair can leave another still touching, so the pairs are looked at again
+ * until nothing changes. Candidate pairs come from a grid
  * of cells, so large chips do not compare every pair.
  */
 export function clearWidths(
@@ -108,6 +109,10 @@ export function clearWidths(
   }
   const drawn = Float64Array.from(want);
   const floors = segments.map(floor);
+  // A crossing by the true widths: the centre line of one runs through the body the other has on
+  // the chip. By the drawn widths instead, a channel drawn many times wider than it is would
+  // "cross" every neighbour its exaggeration reaches, and cover it.
+  const crossing = (k: number) => close[k + 2]! < Math.max(floors[close[k]!]!, floors[close[k + 1]!]!) / 2;
   for (let changed = true, round = 0; changed && round < 8; round++) {
     changed = false;
     for (let k = 0; k < close.length; k += 3) {
@@ -116,7 +121,7 @@ export function clearWidths(
       const distance = close[k + 2]!;
       const ws = drawn[i]!;
       const wt = drawn[j]!;
-      if (distance < Math.max(ws, wt) / 2 || (ws + wt) / 2 + channelGap <= distance) continue;
+      if (crossing(k) || (ws + wt) / 2 + channelGap <= distance) continue;
       const room = 2 * Math.max(0, distance - channelGap);
       const narrowS = Math.max(floors[i]!, (room * ws) / (ws + wt));
       const narrowT = Math.max(floors[j]!, (room * wt) / (ws + wt));
