@@ -2,7 +2,8 @@
  * Two immiscible liquids side by side in a channel of any wall profile flat at the cover
  * (wallProfile.ts): fully developed Stokes flow by Chebyshev collocation on vertical strips.
  * Exports `spectralTwoLayer` (flow of each phase per unit pressure gradient at one interface
- * position) and `SpectralField` (the nodal velocities, for drawings). SI units; no I/O.
+ * position), `SpectralField` (the nodal velocities, for drawings), `solveStrips` and
+ * `stripGeometry` (for curvedSection.ts) and `forgetCondensedStrips`. SI units; no I/O.
  *
  * Equations (G = −dp/dz = 1): μ_i ∇²u = −1 in layer i, u = 0 on the walls and the cover, and
  * at the interface x = x_I: u continuous and μ_A ∂u/∂x = μ_B ∂u/∂x (Bird, Stewart & Lightfoot,
@@ -235,20 +236,88 @@ interface Condensed {
 /**
  * Condensed strips by geometry: a strip that the interface does not bound is the same for every
  * holdup, and the condensation does not depend on the viscosity (the source column is −1 for
- * μ = 1 and scales as 1/μ), so it is made once per wall piece, span and degree.
+ * μ = 1 and scales as 1/μ), so it is made once per shape, degree and sides. An arc strip's
+ * collocation depends only on its two end angles and its radius (not on where its centre lies),
+ * so it is kept by the angles, for the radius of the first one made, and read for any other
+ * radius r by the scale s = r/r₀ (∇² scales as 1/s²: the source column as s², the flux rows'
+ * constants as s and their cut coefficients as 1/s) and for the mirror image (angles π − φ: the
+ * same strip read right to left, ∂u/∂x of opposite sign): the two quarter-round walls of an
+ * etched section, and those of every etched section on a chip, share one condensation.
  */
-const CONDENSED = new Map<string, Condensed>();
+const CONDENSED = new Map<string, { condensed: Condensed; radius: number }>();
 const CONDENSED_LIMIT = 256;
 
+/** Drops every kept condensation (what a fresh process starts from; for the benchmarks). */
+export function forgetCondensedStrips(): void {
+  CONDENSED.clear();
+}
+
 function condensedStrip(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean): Condensed {
-  const key = `${strip.mappedKey ?? ''}|${JSON.stringify(strip.piece)}|${strip.xa}|${strip.xb}|${strip.nx}|${ny}|${hasLeft}|${hasRight}`;
-  let c = CONDENSED.get(key);
-  if (!c) {
-    c = condense(strip, ny, hasLeft, hasRight);
-    if (CONDENSED.size >= CONDENSED_LIMIT) CONDENSED.clear();
-    CONDENSED.set(key, c);
+  const sides = (left: boolean, right: boolean) => `${strip.nx}|${ny}|${left}|${right}`;
+  const p = strip.piece;
+  let key: string;
+  let radius = 1;
+  let mirrored = false;
+  if (strip.mappedKey === undefined && p.kind === 'arc') {
+    const [fa, fb] = arcAngles(p, strip.xa, strip.xb);
+    // The orientation with the larger leading angle is the one kept (a strip that is its own mirror image keeps its own).
+    mirrored = Math.PI - fb > fa || (Math.PI - fb === fa && Math.PI - fa > fb);
+    key = mirrored ? `arc|${Math.PI - fb}|${Math.PI - fa}|${sides(hasRight, hasLeft)}` : `arc|${fa}|${fb}|${sides(hasLeft, hasRight)}`;
+    radius = p.radius;
+  } else {
+    key = `${strip.mappedKey ?? ''}|${JSON.stringify(p)}|${strip.xa}|${strip.xb}|${sides(hasLeft, hasRight)}`;
   }
-  return c;
+  let kept = CONDENSED.get(key);
+  if (!kept) {
+    // Made in the kept orientation: the mirror image of a mirrored strip is condensed.
+    const made = mirrored ? condense(mirroredStrip(strip, ny), ny, hasRight, hasLeft) : condense(strip, ny, hasLeft, hasRight);
+    kept = { condensed: made, radius };
+    if (CONDENSED.size >= CONDENSED_LIMIT) CONDENSED.clear();
+    CONDENSED.set(key, kept);
+  }
+  const scale = radius / kept.radius;
+  return scale === 1 && !mirrored ? kept.condensed : transformed(kept.condensed, scale, mirrored, strip.nx, ny);
+}
+
+/** The end angles of an arc strip between abscissae xa < xb, as pieceCurve parametrises it. */
+function arcAngles(p: Extract<WallPiece, { kind: 'arc' }>, xa: number, xb: number): [number, number] {
+  const angle = (x: number) => Math.acos(Math.max(-1, Math.min(1, (x - p.cx) / p.radius)));
+  return [xa <= pieceStart(p) ? p.phi0 : angle(xa), xb >= pieceEnd(p) ? p.phi1 : angle(xb)];
+}
+
+/** The mirror image of an arc strip about the vertical through its centre (angles π − φ). */
+function mirroredStrip(strip: Strip, ny: number): Strip {
+  const p = strip.piece as Extract<WallPiece, { kind: 'arc' }>;
+  const [fa, fb] = arcAngles(p, strip.xa, strip.xb);
+  const piece: WallPiece = { kind: 'arc', cx: p.cx, radius: p.radius, phi0: Math.PI - fb, phi1: Math.PI - fa };
+  const xa = pieceStart(piece);
+  const xb = pieceEnd(piece);
+  return { ...strip, piece, xa, xb, geometry: stripGeometry(pieceCurve(piece, xa, xb), strip.nx, ny) };
+}
+
+/** A kept condensation read for a strip `scale` times as large, and mirrored (left and right sides exchanged) if asked. */
+function transformed(kept: Condensed, scale: number, mirrored: boolean, nx: number, ny: number): Condensed {
+  const sign = mirrored ? -1 : 1;
+  const row = (r: FluxRow): FluxRow => {
+    const [left, right] = mirrored ? [r.right, r.left] : [r.left, r.right];
+    const cut = (v?: Float64Array) => (v ? v.map((c) => (sign * c) / scale) : undefined);
+    return { constant: sign * scale * r.constant, left: cut(left), right: cut(right) };
+  };
+  const [fluxLeft, fluxRight] = mirrored ? [kept.fluxRight, kept.fluxLeft] : [kept.fluxLeft, kept.fluxRight];
+  const h = ny + 1;
+  return {
+    left: mirrored ? kept.right : kept.left,
+    right: mirrored ? kept.left : kept.right,
+    fluxLeft: fluxLeft?.map(row),
+    fluxRight: fluxRight?.map(row),
+    nodal(fluidity, left, right) {
+      const u = mirrored ? kept.nodal(fluidity * scale * scale, right, left) : kept.nodal(fluidity * scale * scale, left, right);
+      if (!mirrored) return u;
+      const out = new Float64Array(u.length);
+      for (let k = 0; k <= nx; k++) out.set(u.subarray((nx - k) * h, (nx - k + 1) * h), k * h);
+      return out;
+    },
+  };
 }
 
 /**

@@ -7,7 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { chebyshevGrid } from '../../src/physics/chebyshev.js';
 import { spectralTwoLayer } from '../../src/physics/spectralSection.js';
-import { shapedConductance, shapedTwoLayerFlow, wallProfileOf, type ShapedSection } from '../../src/physics/shapedSection.js';
+import { forgetShapedSolves, shapedConductance, shapedFlows, shapedTwoLayerFlow, wallProfileOf, type ShapedSection } from '../../src/physics/shapedSection.js';
 import { areaLeftOf, interfacePosition, type WallProfile } from '../../src/physics/wallProfile.js';
 import { twoLayerFlow } from '../../src/physics/twoLayer.js';
 import { rectConductance } from '../../src/physics/singlePhase.js';
@@ -177,7 +177,63 @@ describe('flowFractionAt and holdupForFlowFraction on shaped sections', () => {
   });
 });
 
+describe('kept strip condensations', () => {
+  it('give the flows of a solve from none when kept from a section of another size (scale) and the other wall (mirror)', () => {
+    // The quarter-round walls of a 30 × 70 µm section, kept, stand in scaled and mirrored for
+    // those of the 100 × 40 µm one; the same collocation either way, so they agree to rounding
+    // (measured 1.1e-14 of the total flow; bound 1e-12). A wrong scale of the flux rows or of the
+    // source, or a side mirrored wrongly, would be off at order one.
+    const other: ShapedSection = { shape: 'etched', maskWidth: 30e-6, depth: 70e-6 };
+    for (const holdup of [0.1, 0.5, 0.93]) {
+      forgetShapedSolves();
+      const fresh = shapedFlows(ETCHED, holdup, 3e-3, 1e-3);
+      forgetShapedSolves();
+      shapedFlows(other, 0.5, 1e-3, 1e-3);
+      const kept = shapedFlows(ETCHED, holdup, 3e-3, 1e-3);
+      const total = fresh.kA + fresh.kB;
+      expect(Math.abs(kept.kA - fresh.kA), `k_A at ${holdup}`).toBeLessThan(1e-12 * total);
+      expect(Math.abs(kept.kB - fresh.kB), `k_B at ${holdup}`).toBeLessThan(1e-12 * total);
+    }
+  });
+});
+
 describe('HoldupTable on shaped sections', () => {
+  it('builds only the stretches it is asked about, and answers there as the table built whole', () => {
+    // Holdups and flow fractions over the flat bottom (joints at 0.19 and 0.81 here) need the
+    // middle stretch alone; its nodes are the same solves either way, so the answers are equal
+    // to the bit.
+    const lazy = new HoldupTable(ETCHED, 6.5e-3, 1.9e-3);
+    const whole = new HoldupTable(ETCHED, 6.5e-3, 1.9e-3).complete();
+    for (const alpha of [0.3, 0.5, 0.7]) expect(lazy.flowsAt(alpha)).toEqual(whole.flowsAt(alpha));
+    expect(lazy.solve(0.5)).toEqual(whole.solve(0.5));
+    expect(lazy.stretches).toEqual({ count: 3, built: 1 });
+    expect(whole.stretches).toEqual({ count: 3, built: 3 });
+  });
+
+  it('holds the mirror image of its lower half in its upper half: k_A(α; μ_A, μ_B) = k_B(1 − α; μ_B, μ_A)', () => {
+    // Identity of a symmetric section (mirroring it exchanges the layers). The upper half of a
+    // table is solved that way, from the lower half's interfaces with the viscosities exchanged,
+    // so it is the lower half of the table of exchanged viscosities but for the node at α = 0.5,
+    // which each solves itself (the solver is mirror-symmetric to 3e-9 there, its rounding in the
+    // flat strips' eigenbases), and the rounding of the interpolation: measured 6.4e-12 of the
+    // total flow and 5.1e-10 of |dk_A| + |dk_B|; bounds 1e-10 and 1e-8. A mirrored node put in
+    // the wrong place would be off by the change of k from one node to the next (1e-2 or more).
+    for (const section of [ETCHED, TRAPEZOID]) {
+      const table = new HoldupTable(section, 0.56e-3, 0.89e-3);
+      const exchanged = new HoldupTable(section, 0.89e-3, 0.56e-3);
+      for (const alpha of [0.6, 0.8, 0.95, 0.999]) {
+        const k = table.flowsAt(alpha);
+        const m = exchanged.flowsAt(1 - alpha);
+        const total = k.kA + k.kB;
+        const slopes = Math.abs(k.dkA) + Math.abs(k.dkB);
+        expect(Math.abs(k.kA - m.kB), `${section.shape} k_A at ${alpha}`).toBeLessThan(1e-10 * total);
+        expect(Math.abs(k.kB - m.kA), `${section.shape} k_B at ${alpha}`).toBeLessThan(1e-10 * total);
+        expect(Math.abs(k.dkA + m.dkB), `${section.shape} dk_A at ${alpha}`).toBeLessThan(1e-8 * slopes);
+        expect(Math.abs(k.dkB + m.dkA), `${section.shape} dk_B at ${alpha}`).toBeLessThan(1e-8 * slopes);
+      }
+    }
+  });
+
   it('inverts flow fractions to within 2e-5 of the direct inversion, with flows to 1e-5', () => {
     // The table is the answer for shaped sections (no polish): its interpolation and its coarser
     // solver degree, measured at most 1e-5 in the holdup (at φ = 0.001) and 3e-6 in k elsewhere.
