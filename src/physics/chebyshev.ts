@@ -1,8 +1,9 @@
 /**
  * Chebyshev–Lobatto building blocks of the spectral cross-section solver: nodes, the first
  * derivative matrix and the Clenshaw–Curtis weights on [−1, 1], and a small dense LU for the
- * per-strip systems, and the separable solver of a rectangle. Exports `chebyshevGrid`, `DenseLu`,
- * `separableDirichlet`, `interpolateWithSlope`. Knows nothing about channels.
+ * per-strip systems, and the separable solver of a rectangle and the partly separable one of a
+ * quarter disc in polar coordinates. Exports `chebyshevGrid`, `DenseLu`, `separableDirichlet`,
+ * `partlySeparableDirichlet`, `interpolateWithSlope`. Knows nothing about channels.
  */
 import { EigenvalueDecomposition, inverse, Matrix } from 'ml-matrix';
 
@@ -220,8 +221,11 @@ function dirichletEigenbasis(n: number): Eigenbasis {
  * u = 0 on the edges, unknown (i, j) at row (i − 1)(ny − 1) + (j − 1): with D²_x = V Λ V⁻¹ and
  * D²_y = W M W⁻¹, U = V [(V⁻¹ F W⁻ᵀ) ./ (aλ_i + cμ_j)] Wᵀ (fast diagonalisation; Lynch, Rice &
  * Thomas, 1964, Numer. Math. 6:185). Cost O(nx·ny·(nx + ny)) per right-hand side.
+ * `solveSide` solves the ny − 1 right-hand sides g ⊗ e_l (g over i, e_l the l-th unit vector
+ * over j) of one side of a strip together: U_l(i, j) = Σ_q W_jq W⁻¹_ql Z_iq with
+ * Z_iq = Σ_p V_ip (V⁻¹g)_p/(aλ_p + cμ_q), O(nx·ny³) for all of them instead of O(nx·ny²·(nx + ny)).
  */
-export function separableDirichlet(nx: number, ny: number, a: number, c: number): { solveInPlace(b: Float64Array, k: number): void } {
+export function separableDirichlet(nx: number, ny: number, a: number, c: number): SeparableSolver {
   const X = dirichletEigenbasis(nx);
   const Y = dirichletEigenbasis(ny);
   const mx = nx - 1;
@@ -239,6 +243,87 @@ export function separableDirichlet(nx: number, ny: number, a: number, c: number)
         rightProductTransposed(T, Y.vectors, F, mx, my);
         for (let r = 0; r < mx * my; r++) b[r * k + col] = F[r]!;
       }
+    },
+    solveSide(g, b, k, first) {
+      const gHat = new Float64Array(mx);
+      for (let p = 0; p < mx; p++) {
+        let sum = 0;
+        for (let i = 0; i < mx; i++) sum += X.inverse[p * mx + i]! * g[i]!;
+        gHat[p] = sum;
+      }
+      // Z into T (row i, column q).
+      const scaled = new Float64Array(mx);
+      for (let q = 0; q < my; q++) {
+        for (let p = 0; p < mx; p++) scaled[p] = gHat[p]! / (a * X.values[p]! + c * Y.values[q]!);
+        for (let i = 0; i < mx; i++) {
+          let sum = 0;
+          for (let p = 0; p < mx; p++) sum += X.vectors[i * mx + p]! * scaled[p]!;
+          T[i * my + q] = sum;
+        }
+      }
+      const row = new Float64Array(my);
+      for (let i = 0; i < mx; i++) {
+        for (let j = 0; j < my; j++) {
+          row.fill(0);
+          for (let q = 0; q < my; q++) {
+            const v = Y.vectors[j * my + q]! * T[i * my + q]!;
+            for (let l = 0; l < my; l++) row[l]! += v * Y.inverse[q * my + l]!;
+          }
+          const at = (i * my + j) * k + first;
+          for (let l = 0; l < my; l++) b[at + l] = row[l]!;
+        }
+      }
+    },
+  };
+}
+
+export interface SeparableSolver {
+  /** Overwrites the k right-hand sides stored as the columns of b (row-major, interior node (i, j) at row (i − 1)(ny − 1) + j − 1) with their solutions. */
+  solveInPlace(b: Float64Array, k: number): void;
+  /** Writes into columns first … first + ny − 2 of b (k columns) the solutions for the right-hand sides g ⊗ e_l, l = 0 … ny − 2. */
+  solveSide(g: Float64Array, b: Float64Array, k: number, first: number): void;
+}
+
+/**
+ * Solver of a·∂²u/∂ξ² + p(η)·∂²u/∂η² + q(η)·∂u/∂η = f at the interior Chebyshev nodes of an
+ * nx × ny grid with u = 0 on the edges (p, q given at the ny + 1 nodes in η; numbering as
+ * separableDirichlet): diagonalised in ξ only (D²_ξ = V Λ V⁻¹), then one dense system
+ * aλ_i + p D²_η + q D_η in η per eigenvalue (partial diagonalisation; Haidvogel & Zang, 1979,
+ * J. Comput. Phys. 30:167). Cost O(nx·ny·(nx + k)) per column block of k right-hand sides
+ * after O(nx·ny³) to factor.
+ */
+export function partlySeparableDirichlet(nx: number, ny: number, a: number, p: Float64Array, q: Float64Array): { solveInPlace(b: Float64Array, k: number): void } {
+  const X = dirichletEigenbasis(nx);
+  const { d1, d2 } = chebyshevGrid(ny);
+  const mx = nx - 1;
+  const my = ny - 1;
+  const h = ny + 1;
+  const modes: DenseLu[] = [];
+  for (let i = 0; i < mx; i++) {
+    const L = new Float64Array(my * my);
+    for (let j = 0; j < my; j++) {
+      for (let l = 0; l < my; l++) L[j * my + l] = p[j + 1]! * d2[(j + 1) * h + l + 1]! + q[j + 1]! * d1[(j + 1) * h + l + 1]!;
+      L[j * my + j]! += a * X.values[i]!;
+    }
+    modes.push(new DenseLu(L, my));
+  }
+  // into[(i, j), c] = Σ_r M[i, r]·from[(r, j), c] for the k columns at once.
+  const alongXi = (M: Float64Array, from: Float64Array, into: Float64Array, k: number) => {
+    into.fill(0);
+    const block = my * k;
+    for (let i = 0; i < mx; i++) {
+      for (let r = 0; r < mx; r++) {
+        const v = M[i * mx + r]!;
+        for (let e = 0; e < block; e++) into[i * block + e]! += v * from[r * block + e]!;
+      }
+    }
+  };
+  return {
+    solveInPlace(b, k) {
+      const modal = new Float64Array(mx * my * k);
+      alongXi(X.inverse, b, modal, k);
+      for (let i = 0; i < mx; i++) modes[i]!.solveInPlace(modal.subarray(i * my * k, (i + 1) * my * k), k);
+      alongXi(X.vectors, modal, b, k);
     },
   };
 }
