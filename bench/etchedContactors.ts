@@ -3,10 +3,10 @@
  * HoldupTable of the shape at the viscosity ratio, section.ts) — its build time with every
  * stretch built, one lane evaluation, and its largest error against the direct spectral solve —
  * and the 256-contactor ladder of bench/network.ts with every channel etched (contactors 100 µm
- * mask × 50 µm deep) against its rectangular twin (timed after one solve of the twin): a first
- * solve from no kept strip condensation (as in a fresh process: the conductances and the tables
- * built inside it, a table only in the stretches the solve asks for), and a solve with the
- * tables already built. Exports `benchEtchedContactors`. Fluids as in bench/network.ts.
+ * mask × 50 µm deep) against its rectangular twin (after one solve of each, medians of three
+ * solves): a first solve from no kept strip condensation (as in a fresh process: the
+ * conductances and the tables built inside it, a table only in the stretches the solve asks
+ * for), and a solve with the tables already built. Exports `benchEtchedContactors`. Fluids as in bench/network.ts.
  */
 import { forgetShapedSolves, shapedFlows, type ShapedSection } from '../src/physics/shapedSection.js';
 import { SectionTables } from '../src/solver/sectionTables.js';
@@ -42,14 +42,21 @@ export function benchEtchedContactors(): Row[] {
   }
   rows.push({ name: 'lane interpolant error against the direct solve (largest of 9 holdups, 0.002 to 0.998, share of the total flow)', value: worst, unit: 'relative' });
 
-  // One solve of each before timing, so that neither pays for compiling the solver.
+  // One solve of each before timing, so that neither pays for compiling the solver; then the
+  // median of three solves of each (every etched first solve from no kept condensation, in a
+  // new workspace), since one solve on this shared machine varies by up to 2×.
   solveChip(rect);
-  const rectSeconds = timeOnce(() => solveChip(rect));
-  const workspace = new SolverWorkspace();
-  forgetShapedSolves();
-  const firstSeconds = timeOnce(() => solveChip(etched, {}, undefined, workspace));
+  solveChip(etched);
+  const three = { warmupCalls: 0, samples: 3, minBatchMs: 0 };
+  const rectSeconds = medianSecondsPerCall(() => solveChip(rect).result.iterations, three);
+  let workspace = new SolverWorkspace();
+  const firstSeconds = medianSecondsPerCall(() => {
+    forgetShapedSolves();
+    workspace = new SolverWorkspace();
+    return solveChip(etched, {}, undefined, workspace).result.iterations;
+  }, three);
   const first = solveChip(etched, {}, undefined, workspace).result;
-  const warmSeconds = timeOnce(() => solveChip(etched, {}, undefined, workspace));
+  const warmSeconds = medianSecondsPerCall(() => solveChip(etched, {}, undefined, workspace).result.iterations, three);
   const built = workspace.tables.holdup(contactor, muA, muB).stretches!;
   rows.push({ name: '256-contactor ladder, rectangular: solve', value: rectSeconds * MILLI, unit: 'ms' });
   rows.push({
