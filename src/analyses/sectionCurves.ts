@@ -1,7 +1,8 @@
 /**
  * The data behind the pictures of one cross-section: flow fraction against holdup for the given
- * channel and for comparison channels (other aspect ratios of a rectangle, or the rectangle as
- * wide as an etched or trapezoidal channel's bottom), and the limit of infinitely deep plates;
+ * channel (with the interface an arc of given curvature, beside the flat one, where asked) and
+ * for comparison channels (other aspect ratios of a rectangle, or the rectangle as wide as an
+ * etched or trapezoidal channel's bottom), and the limit of infinitely deep plates;
  * and the velocity over the cross-section with its maximum, interface and outline. Exports
  * `flowFractionCurves`, `sectionVelocity` and their types. Computes (SI units);
  * render/sectionCharts.ts draws.
@@ -11,10 +12,14 @@ import { twoLayerPlates } from '../physics/twoLayer.js';
 import { velocityField, velocityMaximum, type VelocityMaximum } from '../physics/field.js';
 import { shapedFlowFraction, wallProfileOf, type ShapedSection } from '../physics/shapedSection.js';
 import { shapedVelocityField, shapedVelocityMaximum } from '../physics/shapedField.js';
+import { arcChord } from '../physics/interfaceArc.js';
+import { curvedFlowsAtChord, sectionProfile } from '../physics/curvedSection.js';
 
 const HOLDUPS = Array.from({ length: 49 }, (_, i) => (i + 1) / 50);
 /** A shaped section costs a spectral solve per point: 24 holdups draw its curve. */
 const SHAPED_HOLDUPS = Array.from({ length: 24 }, (_, i) => (i + 1) / 25);
+/** Holdups of the curve with a curved interface: each costs a solve with the arc (tenths of a second). */
+const ARC_HOLDUPS = Array.from({ length: 11 }, (_, i) => 0.05 + 0.09 * i);
 /** Ratios of the interface span to the layer thickness direction (along/across) drawn besides the given one. */
 const ASPECTS = [0.25, 1, 4];
 
@@ -24,6 +29,8 @@ export interface FlowFractionCurve {
   /** What the curve is, when not a rectangle's aspect ratio or the plates: 'etched', 'trapezoid' or 'rectangle of the bottom width'. */
   kind?: 'etched' | 'trapezoid' | 'bottom-rectangle';
   given: boolean;
+  /** For the given channel's curves when the interface is curved: which interface the curve is of. */
+  interface?: 'arc' | 'flat';
   points: Array<[number, number]>;
 }
 
@@ -44,7 +51,37 @@ const platesCurve = (muA: number, muB: number): FlowFractionCurve => ({
   }),
 });
 
-export function flowFractionCurves(section: TwoLayerSection, muA: number, muB: number, holdup: number): FlowFractionCurves {
+/**
+ * The curves of the section at the operating holdup; with `curvature` κ ≠ 0 (1/m, side-by-side
+ * layers) the given channel's curve is that of the arc of curvature κ (physics/curvedSection.ts,
+ * at ARC_HOLDUPS; a holdup whose arc does not fit in the section is left out), its flat curve
+ * beside it, and the operating point on the arc's curve.
+ */
+export function flowFractionCurves(section: TwoLayerSection, muA: number, muB: number, holdup: number, curvature = 0): FlowFractionCurves {
+  const flat = flatCurves(section, muA, muB, holdup);
+  if (curvature === 0) return flat;
+  const profile = sectionProfile(section);
+  const onArc = (alpha: number) => {
+    const k = curvedFlowsAtChord(profile, arcChord(profile, alpha, curvature), curvature, muA, muB);
+    return k.qA / (k.qA + k.qB);
+  };
+  const points = ARC_HOLDUPS.flatMap((alpha): Array<[number, number]> => {
+    try {
+      return [[alpha, onArc(alpha)]];
+    } catch (error) {
+      if (error instanceof RangeError) return [];
+      throw error;
+    }
+  });
+  const own = flat.curves.find((c) => c.given)!;
+  return {
+    ...flat,
+    curves: [{ ...own, interface: 'arc', points }, { ...own, given: false, interface: 'flat' }, ...flat.curves.filter((c) => !c.given)],
+    operatingPoint: [holdup, onArc(holdup)],
+  };
+}
+
+function flatCurves(section: TwoLayerSection, muA: number, muB: number, holdup: number): FlowFractionCurves {
   if (section.shape !== 'rect') return shapedCurves(section, muA, muB, holdup);
   const { across, along } = layerAxes(section);
   const curve = (alongOverAcross: number): Array<[number, number]> =>

@@ -86,8 +86,8 @@ export function registerSection(program: Command, context: CommandContext): void
         delta: quantityOption(options.delta, '--delta', 'pressure', true),
         tension: quantityOption(options.tension, '--tension', 'tension', true),
       };
-      if (query.delta !== undefined && (plot || field)) {
-        throw new StratiflowError('bad-option', 'the charts draw the flat interface only; leave out --delta to draw them', { field: plot ? '--plot' : '--field' });
+      if (query.delta !== undefined && field) {
+        throw new StratiflowError('bad-option', 'the velocity map draws the flat interface only; leave out --delta to draw it', { field: '--field' });
       }
       let summary: SectionSummary;
       try {
@@ -98,7 +98,7 @@ export function registerSection(program: Command, context: CommandContext): void
         throw error;
       }
       const outputs: Output[] = [];
-      if (plot) outputs.push({ path: plot, option: '--plot', content: flowFractionChart(flowFractionCurves(section, query.muA, query.muB, summary.holdup)) });
+      if (plot) outputs.push({ path: plot, option: '--plot', content: flowFractionChart(flowFractionCurves(section, query.muA, query.muB, summary.holdup, summary.curvedInterface?.curvature)) });
       if (field) outputs.push({ path: field, option: '--field', content: velocityFieldChart(sectionVelocity(section, query.muA, query.muB, summary.holdup)) });
       writeOutputs(outputs);
       context.out(options.json ? JSON.stringify(summary, null, 2) + '\n' : describeSection(section, summary));

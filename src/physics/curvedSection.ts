@@ -24,7 +24,7 @@
  * spectralSection.ts, so κ = 0 gives the flat result to the bit.
  */
 import { chebyshevGrid } from './chebyshev.js';
-import { solveStrips, spectralTwoLayer, stripGeometry, SPECTRAL_DEGREE, type Strip } from './spectralSection.js';
+import { solveStrips, spectralTwoLayer, wallStrip, SPECTRAL_DEGREE, type Strip } from './spectralSection.js';
 import { arcCurve, arcChord, holdupOfChord, sagitta, usedCurvature } from './interfaceArc.js';
 import { areaLeftOf, depthAt, pieceCurve, pieceEnd, pieceStart, segmentCurve, type Curve, type WallProfile } from './wallProfile.js';
 import { wallProfileOf } from './shapedSection.js';
@@ -204,8 +204,8 @@ export function curvedFlowsAtChord(profile: WallProfile, xe: number, curvature: 
     const nx = Math.min(2 * degree, Math.max(degree, Math.ceil((degree * width) / profile.depth)));
     const curve = pieceCurve(piece, xa, xb);
     const mapped = left.curve !== undefined || right.curve !== undefined;
-    const geometry = mapped ? coonsGeometry(curve, left, right, profile, nx, degree) : stripGeometry(curve, nx, degree);
-    strips.push({ xa, xb, mu: phase === 'A' ? muA : muB, phase, nx, piece, geometry, mappedKey: mapped ? `${left.key}|${right.key}` : undefined });
+    const shape = mapped ? { geometry: coonsGeometry(curve, left, right, profile, nx, degree) } : wallStrip(piece, xa, xb, nx, degree, true);
+    strips.push({ xa, xb, mu: phase === 'A' ? muA : muB, phase, nx, piece, ...shape, mappedKey: mapped ? `${left.key}|${right.key}` : undefined });
   }
   const r = solveStrips(strips, degree);
   return { qA: r.qA, qB: r.qB };

@@ -9,7 +9,7 @@
  *
  * Coordinates: between wall joints (and the taper's breaks, interfaceArc.ts) the flows are
  * smooth in (α_c, θ), because the chord, not the holdup, fixes the strips; so the table's
- * α_c stretches are those of the flat table (section.ts stretchMap: linear between joints,
+ * α_c stretches are those of the flat table (shapedTable.ts stretchMap: linear between joints,
  * quadratic toward an edge) and θ runs over THETA_STRETCHES equal stretches of
  * [−asin 0.9, asin 0.9], each built only when a curvature in it is first asked for. A holdup α
  * at curvature κ is turned into α_c by the arc's geometry (arcChord), and
@@ -21,7 +21,8 @@ import { CURVATURE_LIMIT, arcChord, holdupOfChord, taperHoldup } from './interfa
 import { curvedFlowsAtChord, sectionProfile, type CurvedFlows } from './curvedSection.js';
 import { chebyshevGrid, interpolateWithSlope } from './chebyshev.js';
 import { spectralTwoLayer } from './spectralSection.js';
-import { stretchMap, type TwoLayerSection } from './section.js';
+import type { TwoLayerSection } from './section.js';
+import { stretchMap } from './shapedTable.js';
 import { areaLeftOf, interfacePosition, pieceEnd, type WallProfile } from './wallProfile.js';
 
 export type { CurvedFlows } from './curvedSection.js';

@@ -84,8 +84,16 @@ export function sagitta(depth: number, curvature: number): number {
  * largest sagitta (D/2) in any section that is at least as wide as deep.
  */
 export function taperHoldup(profile: WallProfile): number {
-  return areaLeftOf(profile, Math.min(profile.depth, 0.25 * profile.topWidth)) / profile.area;
+  let share = TAPER_HOLDUPS.get(profile);
+  if (share === undefined) {
+    share = areaLeftOf(profile, Math.min(profile.depth, 0.25 * profile.topWidth)) / profile.area;
+    TAPER_HOLDUPS.set(profile, share);
+  }
+  return share;
 }
+
+/** taperHoldup by profile (a table asks for it at every evaluation). */
+const TAPER_HOLDUPS = new WeakMap<WallProfile, number>();
 
 /**
  * The factor on κ for a chord whose flat holdup (the area share left of x_e) is α_c (see the
@@ -109,40 +117,42 @@ export function usedCurvature(profile: WallProfile, xe: number, curvature: numbe
 
 /** The holdup left of the arc of chord x_e at contactor curvature κ (tapered as above). */
 export function holdupOfChord(profile: WallProfile, xe: number, curvature: number): number {
-  const k = usedCurvature(profile, xe, curvature);
-  return (areaLeftOf(profile, xe) - Math.sign(k) * segmentArea(depthAt(profile, xe), k)) / profile.area;
+  const left = areaLeftOf(profile, xe);
+  const k = curvature === 0 ? 0 : curvature * curvatureTaper(profile, left / profile.area).factor;
+  return (left - Math.sign(k) * segmentArea(depthAt(profile, xe), k)) / profile.area;
 }
 
 /**
  * The chord abscissa x_e whose arc at contactor curvature κ leaves the share α of the area on
- * its left: the root of holdupOfChord(x) = α, by secant steps kept in a bisection bracket (the
- * holdup grows with x wherever the arc fits).
+ * its left: the root of holdupOfChord(x) = α (the holdup grows with x wherever the arc fits,
+ * from 0 at x = 0 to 1 at x = W), kept in a bisection bracket. From x = αW the first step is Newton's with the flat slope
+ * d(x)/A (exact where the depth does not change, as over a flat bottom, since the segment then
+ * does not change either), the next ones secant steps; a step that leaves the bracket bisects.
  */
 export function arcChord(profile: WallProfile, holdup: number, curvature: number): number {
+  // The taper takes the curvature to zero at both ends, where the holdup is 0 and 1.
+  if (!(holdup >= 0 && holdup <= 1)) throw new RangeError(`no arc of curvature ${curvature} 1/m leaves holdup ${holdup} on its side`);
+  const width = profile.topWidth;
+  if (holdup === 0) return 0;
+  if (holdup === 1) return width;
   const f = (x: number) => holdupOfChord(profile, x, curvature) - holdup;
   let lo = 0;
-  let hi = profile.topWidth;
-  let flo = f(lo);
-  let fhi = f(hi);
-  if (!(flo <= 0 && fhi >= 0)) throw new RangeError(`no arc of curvature ${curvature} 1/m leaves holdup ${holdup} on its side`);
-  if (flo === 0) return lo;
-  if (fhi === 0) return hi;
-  let x = lo - (flo * (hi - lo)) / (fhi - flo);
-  for (let i = 0; i < 200; i++) {
-    const fx = f(x);
-    if (fx === 0) return x;
-    if (fx < 0) {
-      lo = x;
-      flo = fx;
-    } else {
-      hi = x;
-      fhi = fx;
-    }
-    let next = lo - (flo * (hi - lo)) / (fhi - flo);
-    // A secant stuck at one end of the bracket: every fourth step bisects.
-    if (!(next > lo && next < hi) || i % 4 === 3) next = 0.5 * (lo + hi);
-    if (hi - lo <= 4 * Number.EPSILON * profile.topWidth) return next;
+  let hi = width;
+  let x = holdup * width;
+  let fx = f(x);
+  let previous = Number.NaN;
+  let fPrevious = Number.NaN;
+  for (let i = 0; i < 200 && fx !== 0; i++) {
+    if (fx < 0) lo = x;
+    else hi = x;
+    const slope = Number.isNaN(previous) || fx === fPrevious ? depthAt(profile, x) / profile.area : (fx - fPrevious) / (x - previous);
+    let next = slope > 0 ? x - fx / slope : Number.NaN;
+    if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
+    if (Math.abs(next - x) <= 4 * Number.EPSILON * width || hi - lo <= 4 * Number.EPSILON * width) return next;
+    previous = x;
+    fPrevious = fx;
     x = next;
+    fx = f(x);
   }
   return x;
 }

@@ -3,8 +3,8 @@
  * two-layer flow in them. Exports the section types `EtchedSection`, `TrapezoidSection`,
  * `ShapedSection`, `SILICON_WALL_ANGLE`, `wallProfileOf`, `shapedTwoLayerFlow` (flows per unit
  * gradient with their derivatives in the holdup and both viscosities), `shapedConductance`
- * (single phase), `shapedFlows` and `shapedFlowFraction` (no slopes), `jointHoldups` and
- * `interfaceSpan`. SI units; no I/O.
+ * (single phase), `shapedFlows` and `shapedFlowFraction` (no slopes), `jointHoldups`,
+ * `interfaceSpan` and `forgetShapedSolves` (for the benchmarks). SI units; no I/O.
  *
  * Shapes (the cover flat on top, y the depth below it):
  * - `etched`: an isotropic wet etch under a mask opening of width w to depth d: a flat bottom of
@@ -13,7 +13,7 @@
  * - `trapezoid`: an anisotropic etch: a flat bottom of width b at depth d and straight walls at
  *   angle θ to it, top width b + 2d/tan θ; b = 0 is a triangle with its apex down.
  */
-import { spectralTwoLayer, SPECTRAL_DEGREE } from './spectralSection.js';
+import { forgetCondensedStrips, spectralTwoLayer, SPECTRAL_DEGREE } from './spectralSection.js';
 import { areaLeftOf, depthAt, interfacePosition, pieceEnd, pieceLength, type WallPiece, type WallProfile } from './wallProfile.js';
 
 export interface EtchedSection {
@@ -151,6 +151,12 @@ export function jointHoldups(section: ShapedSection): number[] {
  */
 const UNIT_CONDUCTANCE = new Map<string, number>();
 const UNIT_CONDUCTANCE_LIMIT = 1024;
+
+/** Drops the kept single-phase conductances and strip condensations: what a fresh process pays (for the benchmarks). */
+export function forgetShapedSolves(): void {
+  UNIT_CONDUCTANCE.clear();
+  forgetCondensedStrips();
+}
 
 /** Single-phase conductance k (Q = k·G), m⁴/(Pa·s): the two-layer solve with one viscosity. */
 export function shapedConductance(section: ShapedSection, mu: number, degree = SPECTRAL_DEGREE): number {

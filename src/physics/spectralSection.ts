@@ -2,7 +2,8 @@
  * Two immiscible liquids side by side in a channel of any wall profile flat at the cover
  * (wallProfile.ts): fully developed Stokes flow by Chebyshev collocation on vertical strips.
  * Exports `spectralTwoLayer` (flow of each phase per unit pressure gradient at one interface
- * position) and `SpectralField` (the nodal velocities, for drawings). SI units; no I/O.
+ * position), `SpectralField` (the nodal velocities, for drawings), `solveStrips`, `wallStrip`
+ * and `stripGeometry` (for curvedSection.ts) and `forgetCondensedStrips`. SI units; no I/O.
  *
  * Equations (G = −dp/dz = 1): μ_i ∇²u = −1 in layer i, u = 0 on the walls and the cover, and
  * at the interface x = x_I: u continuous and μ_A ∂u/∂x = μ_B ∂u/∂x (Bird, Stewart & Lightfoot,
@@ -19,19 +20,27 @@
  * Chebyshev–Lobatto nodes; the strips meet with one shared value per node of each cut and the
  * balance of μ∂u/∂x there (a continuous flux for a joint, the stress condition at the
  * interface). Each strip's interior is eliminated (static condensation), leaving a small dense
- * system on the cuts. Q is the Clenshaw–Curtis quadrature of u·|J|.
+ * system on the cuts. Q is the Clenshaw–Curtis quadrature of u·|J|. A whole quarter-round wall
+ * (from the cover down to the vertical through its centre, as both walls of an etched section)
+ * is instead the rectangle of polar coordinates about its centre, ρ ∈ [0, r] by φ over the
+ * quarter: ρ²∇²u = ρ²u_ρρ + ρu_ρ + u_φφ, separable, solved by diagonalising in φ (its nodes on
+ * the vertical side are ρ = y, those of the neighbouring strip); drawings keep the transfinite
+ * strips, whose nodes they interpolate.
  *
  * Convergence: spectral where the solution is smooth; near the corners of the section u is
  * singular (r² log r at a right-angled wall corner and where the interface meets a wall at right
  * angles, r^λ with λ = π/θ at a wall corner of angle θ, and r^λ with λ from
  * μ_A cot(λθ_A) + μ_B cot(λθ_B) = 0 where the interface meets an inclined wall), and the error of
  * Q falls algebraically: as about N⁻⁸ on rectangles (the Lobatto nodes cluster as N⁻² at every
- * corner), N⁻⁴ in the etched and trapezoidal sections of the tests. At the default degree Q
+ * corner), N⁻⁴ in the etched and trapezoidal sections of the tests (with the polar walls, one
+ * phase in an etched 100 × 50 µm section is within 1.8e-8 of degree 40 at degree 16 and 6e-10
+ * at 24, a half-disc within 2.9e-8 and 9e-10; 6.5e-8 and 6.6e-9, 3.4e-7 and 2.8e-8 with the
+ * transfinite walls). At the default degree Q
  * agrees with the exact rectangle series to better than 1e-8 (width ≥ depth) and with FreeFem++
  * to better than 1e-6, except for a less viscous layer meeting a 54.74° wall, where λ = 0.77
  * and the agreement is 6e-6 (test/physics/shapedSection.test.ts, freefemReference.test.ts).
  */
-import { chebyshevGrid, DenseLu, separableDirichlet } from './chebyshev.js';
+import { chebyshevGrid, DenseLu, partlySeparableDirichlet, separableDirichlet } from './chebyshev.js';
 import { pieceCurve, pieceEnd, pieceStart, type Curve, type WallPiece, type WallProfile } from './wallProfile.js';
 
 /** Polynomial degree across the depth of every strip (the cuts share these nodes). */
@@ -71,6 +80,8 @@ export interface Strip {
   piece: WallPiece;
   /** Map and metric at every node (i·(ny+1) + j). */
   geometry: Float64Array[];
+  /** A whole quarter-round wall whose geometry is that of polarGeometry (polar coordinates about the arc's centre). */
+  polar?: boolean;
   /**
    * Set for a strip with a side that is not the vertical line of its wall ends (curvedSection.ts):
    * its geometry is a general transfinite map, solved by dense LU, cached under this key.
@@ -81,7 +92,7 @@ export interface Strip {
 /** Joints closer than this share of the top width to the interface are taken as the interface. */
 const MERGE_CUT = 1e-9;
 
-function strips(profile: WallProfile, xI: number, muA: number, muB: number, degree: number): Strip[] {
+function strips(profile: WallProfile, xI: number, muA: number, muB: number, degree: number, polar: boolean): Strip[] {
   const joints = profile.pieces.slice(0, -1).map(pieceEnd);
   const cuts = [...joints];
   if (xI > 0 && xI < profile.topWidth) cuts.push(xI);
@@ -100,7 +111,49 @@ function strips(profile: WallProfile, xI: number, muA: number, muB: number, degr
     const phase = mid < xI ? 'A' : 'B';
     const width = xb - xa;
     const nx = Math.min(2 * degree, Math.max(degree, Math.ceil((degree * width) / profile.depth)));
-    out.push({ xa, xb, mu: phase === 'A' ? muA : muB, phase, nx, piece, geometry: stripGeometry(pieceCurve(piece, xa, xb), nx, degree) });
+    out.push({ xa, xb, mu: phase === 'A' ? muA : muB, phase, nx, piece, ...wallStrip(piece, xa, xb, nx, degree, polar) });
+  }
+  return out;
+}
+
+/**
+ * The geometry of the strip under wall piece p from xa to xb: in polar coordinates about the
+ * arc's centre for a whole quarter-round wall from the cover down to the vertical through its
+ * centre (where `polar` allows: polar nodes are not the transfinite ones a drawing reads), else
+ * the transfinite map.
+ */
+export function wallStrip(p: WallPiece, xa: number, xb: number, nx: number, ny: number, polar: boolean): { geometry: Float64Array[]; polar?: boolean } {
+  const quarter = p.kind === 'arc' && xa <= pieceStart(p) && xb >= pieceEnd(p) && ((p.phi0 === Math.PI && p.phi1 === Math.PI / 2) || (p.phi0 === Math.PI / 2 && p.phi1 === 0));
+  if (polar && quarter) return { geometry: polarGeometry(p, nx, ny), polar: true };
+  return { geometry: stripGeometry(pieceCurve(p, xa, xb), nx, ny) };
+}
+
+/**
+ * A quarter disc of radius r about (c, 0) on the cover as the rectangle φ = φ0 + (ξ + 1)(φ1 − φ0)/2,
+ * ρ = r(1 − η)/2 (the wall at η = −1, the centre at η = 1, the vertical through the centre at the
+ * side where φ = π/2, whose nodes ρ = y are those of the neighbouring strip's side). Per node
+ * as stripGeometry: x, y, |J| = ρ·r·(φ0 − φ1)/4 and the flux coefficients of
+ * ∂u/∂x = cos φ u_ρ − (sin φ/ρ) u_φ; the operator itself is in condense.
+ */
+function polarGeometry(p: Extract<WallPiece, { kind: 'arc' }>, nx: number, ny: number): Float64Array[] {
+  const gx = chebyshevGrid(nx).nodes;
+  const gy = chebyshevGrid(ny).nodes;
+  const span = p.phi0 - p.phi1;
+  const out: Float64Array[] = [];
+  for (let i = 0; i <= nx; i++) {
+    const phi = p.phi0 - 0.5 * (gx[i]! + 1) * span;
+    for (let j = 0; j <= ny; j++) {
+      const rho = 0.5 * p.radius * (1 - gy[j]!);
+      const g = new Float64Array(10);
+      g[0] = p.cx + rho * Math.cos(phi);
+      g[1] = rho * Math.sin(phi);
+      g[2] = (rho * p.radius * span) / 4;
+      if (rho > 0) {
+        g[8] = (2 * Math.sin(phi)) / (span * rho);
+        g[9] = (-2 * Math.cos(phi)) / p.radius;
+      }
+      out.push(g);
+    }
   }
   return out;
 }
@@ -153,7 +206,7 @@ export function stripGeometry(curve: ReturnType<typeof pieceCurve>, nx: number, 
  * at polynomial degree `degree` across the depth. `withField` also returns the nodal velocities.
  */
 export function spectralTwoLayer(profile: WallProfile, xI: number, muA: number, muB: number, degree = SPECTRAL_DEGREE, withField = false): SpectralFlow {
-  return solveStrips(strips(profile, xI, muA, muB, degree), degree, withField);
+  return solveStrips(strips(profile, xI, muA, muB, degree, !withField), degree, withField);
 }
 
 /**
@@ -235,20 +288,89 @@ interface Condensed {
 /**
  * Condensed strips by geometry: a strip that the interface does not bound is the same for every
  * holdup, and the condensation does not depend on the viscosity (the source column is −1 for
- * μ = 1 and scales as 1/μ), so it is made once per wall piece, span and degree.
+ * μ = 1 and scales as 1/μ), so it is made once per shape, degree and sides. An arc strip's
+ * collocation depends only on its two end angles and its radius (not on where its centre lies),
+ * so it is kept by the angles, for the radius of the first one made, and read for any other
+ * radius r by the scale s = r/r₀ (∇² scales as 1/s²: the source column as s², the flux rows'
+ * constants as s and their cut coefficients as 1/s) and for the mirror image (angles π − φ: the
+ * same strip read right to left, ∂u/∂x of opposite sign): the two quarter-round walls of an
+ * etched section, and those of every etched section on a chip, share one condensation.
  */
-const CONDENSED = new Map<string, Condensed>();
+const CONDENSED = new Map<string, { condensed: Condensed; radius: number }>();
 const CONDENSED_LIMIT = 256;
 
+/** Drops every kept condensation (what a fresh process starts from; for the benchmarks). */
+export function forgetCondensedStrips(): void {
+  CONDENSED.clear();
+}
+
 function condensedStrip(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean): Condensed {
-  const key = `${strip.mappedKey ?? ''}|${JSON.stringify(strip.piece)}|${strip.xa}|${strip.xb}|${strip.nx}|${ny}|${hasLeft}|${hasRight}`;
-  let c = CONDENSED.get(key);
-  if (!c) {
-    c = condense(strip, ny, hasLeft, hasRight);
-    if (CONDENSED.size >= CONDENSED_LIMIT) CONDENSED.clear();
-    CONDENSED.set(key, c);
+  const sides = (left: boolean, right: boolean) => `${strip.nx}|${ny}|${left}|${right}`;
+  const p = strip.piece;
+  let key: string;
+  let radius = 1;
+  let mirrored = false;
+  if (strip.mappedKey === undefined && p.kind === 'arc') {
+    const [fa, fb] = arcAngles(p, strip.xa, strip.xb);
+    // The orientation with the larger leading angle is the one kept (a strip that is its own mirror image keeps its own).
+    mirrored = Math.PI - fb > fa || (Math.PI - fb === fa && Math.PI - fa > fb);
+    const kind = strip.polar ? 'polar' : 'arc';
+    key = mirrored ? `${kind}|${Math.PI - fb}|${Math.PI - fa}|${sides(hasRight, hasLeft)}` : `${kind}|${fa}|${fb}|${sides(hasLeft, hasRight)}`;
+    radius = p.radius;
+  } else {
+    key = `${strip.mappedKey ?? ''}|${JSON.stringify(p)}|${strip.xa}|${strip.xb}|${sides(hasLeft, hasRight)}`;
   }
-  return c;
+  let kept = CONDENSED.get(key);
+  if (!kept) {
+    // Made in the kept orientation: the mirror image of a mirrored strip is condensed.
+    const made = mirrored ? condense(mirroredStrip(strip, ny), ny, hasRight, hasLeft) : condense(strip, ny, hasLeft, hasRight);
+    kept = { condensed: made, radius };
+    if (CONDENSED.size >= CONDENSED_LIMIT) CONDENSED.clear();
+    CONDENSED.set(key, kept);
+  }
+  const scale = radius / kept.radius;
+  return scale === 1 && !mirrored ? kept.condensed : transformed(kept.condensed, scale, mirrored, strip.nx, ny);
+}
+
+/** The end angles of an arc strip between abscissae xa < xb, as pieceCurve parametrises it. */
+function arcAngles(p: Extract<WallPiece, { kind: 'arc' }>, xa: number, xb: number): [number, number] {
+  const angle = (x: number) => Math.acos(Math.max(-1, Math.min(1, (x - p.cx) / p.radius)));
+  return [xa <= pieceStart(p) ? p.phi0 : angle(xa), xb >= pieceEnd(p) ? p.phi1 : angle(xb)];
+}
+
+/** The mirror image of an arc strip about the vertical through its centre (angles π − φ). */
+function mirroredStrip(strip: Strip, ny: number): Strip {
+  const p = strip.piece as Extract<WallPiece, { kind: 'arc' }>;
+  const [fa, fb] = arcAngles(p, strip.xa, strip.xb);
+  const piece: WallPiece = { kind: 'arc', cx: p.cx, radius: p.radius, phi0: Math.PI - fb, phi1: Math.PI - fa };
+  const xa = pieceStart(piece);
+  const xb = pieceEnd(piece);
+  return { ...strip, piece, xa, xb, ...wallStrip(piece, xa, xb, strip.nx, ny, strip.polar === true) };
+}
+
+/** A kept condensation read for a strip `scale` times as large, and mirrored (left and right sides exchanged) if asked. */
+function transformed(kept: Condensed, scale: number, mirrored: boolean, nx: number, ny: number): Condensed {
+  const sign = mirrored ? -1 : 1;
+  const row = (r: FluxRow): FluxRow => {
+    const [left, right] = mirrored ? [r.right, r.left] : [r.left, r.right];
+    const cut = (v?: Float64Array) => (v ? v.map((c) => (sign * c) / scale) : undefined);
+    return { constant: sign * scale * r.constant, left: cut(left), right: cut(right) };
+  };
+  const [fluxLeft, fluxRight] = mirrored ? [kept.fluxRight, kept.fluxLeft] : [kept.fluxLeft, kept.fluxRight];
+  const h = ny + 1;
+  return {
+    left: mirrored ? kept.right : kept.left,
+    right: mirrored ? kept.left : kept.right,
+    fluxLeft: fluxLeft?.map(row),
+    fluxRight: fluxRight?.map(row),
+    nodal(fluidity, left, right) {
+      const u = mirrored ? kept.nodal(fluidity * scale * scale, right, left) : kept.nodal(fluidity * scale * scale, left, right);
+      if (!mirrored) return u;
+      const out = new Float64Array(u.length);
+      for (let k = 0; k <= nx; k++) out.set(u.subarray((nx - k) * h, (nx - k + 1) * h), k * h);
+      return out;
+    },
+  };
 }
 
 /**
@@ -269,7 +391,7 @@ function condense(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean)
   const leftCol = 1;
   const rightCol = 1 + (hasLeft ? my : 0);
   const flat = strip.mappedKey === undefined && strip.piece.kind === 'line' && strip.piece.y0 === strip.piece.y1;
-  const A = flat ? undefined : new Float64Array(m * m);
+  const A = flat || strip.polar ? undefined : new Float64Array(m * m);
   const B = new Float64Array(m * cols);
   const Dx = gx.d1;
   const Dy = gy.d1;
@@ -286,25 +408,53 @@ function condense(strip: Strip, ny: number, hasLeft: boolean, hasRight: boolean)
       if (hasRight) B[row * cols + rightCol + l - 1] -= v;
     } else if (A) A[row * m + (k - 1) * my + (l - 1)] += v;
   };
-  for (let i = 1; i < nx; i++) {
-    for (let j = 1; j < ny; j++) {
-      const row = (i - 1) * my + (j - 1);
-      const g = strip.geometry[i * h + j]!;
-      const [cxx, cxy, cyy, cx, cyc] = [g[3]!, g[4]!, g[5]!, g[6]!, g[7]!];
-      for (let k = 0; k <= nx; k++) put(row, k, j, cxx * D2x[i * w + k]! + cx * Dx[i * w + k]!);
-      for (let l = 0; l <= ny; l++) put(row, i, l, cyy * D2y[j * h + l]! + cyc * Dy[j * h + l]!);
-      if (cxy !== 0) {
-        for (let k = 0; k <= nx; k++) {
-          const a = cxy * Dx[i * w + k]!;
-          if (a === 0) continue;
-          for (let l = 0; l <= ny; l++) put(row, k, l, a * Dy[j * h + l]!);
-        }
+  if (strip.polar) {
+    // ρ²∇²u = ρ²u_ρρ + ρu_ρ + u_φφ = −ρ² (Poisson in polar coordinates, multiplied by ρ²):
+    // a u_ξξ + p(η) u_ηη + q(η) u_η with a = (2/(φ0 − φ1))², p = (2ρ/r)², q = −2ρ/r.
+    const piece = strip.piece as Extract<WallPiece, { kind: 'arc' }>;
+    const a = (2 / (piece.phi0 - piece.phi1)) ** 2;
+    const rho = Float64Array.from(gy.nodes, (eta) => 0.5 * piece.radius * (1 - eta));
+    const solver = partlySeparableDirichlet(nx, ny, a, rho.map((r) => (2 * r / piece.radius) ** 2), rho.map((r) => (-2 * r) / piece.radius));
+    for (let i = 1; i < nx; i++) {
+      for (let j = 1; j < ny; j++) {
+        const row = (i - 1) * my + (j - 1);
+        B[row * cols] = -rho[j]! * rho[j]!;
+        if (hasLeft) B[row * cols + leftCol + j - 1] = -a * D2x[i * w]!;
+        if (hasRight) B[row * cols + rightCol + j - 1] = -a * D2x[i * w + nx]!;
       }
-      B[row * cols] = -1;
     }
+    solver.solveInPlace(B, cols);
+  } else if (flat) {
+    // ∇²u = a u_ξξ + c u_ηη with constant a, c: the source column by one separable solve, and a
+    // side's cut values (right-hand sides −a·D²_ξ(i, side)·e_l, one per cut node l) all at once.
+    const a = strip.geometry[h + 1]![3]!;
+    const separable = separableDirichlet(nx, ny, a, strip.geometry[h + 1]![5]!);
+    const source = new Float64Array(m).fill(-1);
+    separable.solveInPlace(source, 1);
+    for (let r = 0; r < m; r++) B[r * cols] = source[r]!;
+    const side = (k: number) => Float64Array.from({ length: mx }, (_, i) => -a * D2x[(i + 1) * w + k]!);
+    if (hasLeft) separable.solveSide(side(0), B, cols, leftCol);
+    if (hasRight) separable.solveSide(side(nx), B, cols, rightCol);
+  } else {
+    for (let i = 1; i < nx; i++) {
+      for (let j = 1; j < ny; j++) {
+        const row = (i - 1) * my + (j - 1);
+        const g = strip.geometry[i * h + j]!;
+        const [cxx, cxy, cyy, cx, cyc] = [g[3]!, g[4]!, g[5]!, g[6]!, g[7]!];
+        for (let k = 0; k <= nx; k++) put(row, k, j, cxx * D2x[i * w + k]! + cx * Dx[i * w + k]!);
+        for (let l = 0; l <= ny; l++) put(row, i, l, cyy * D2y[j * h + l]! + cyc * Dy[j * h + l]!);
+        if (cxy !== 0) {
+          for (let k = 0; k <= nx; k++) {
+            const a = cxy * Dx[i * w + k]!;
+            if (a === 0) continue;
+            for (let l = 0; l <= ny; l++) put(row, k, l, a * Dy[j * h + l]!);
+          }
+        }
+        B[row * cols] = -1;
+      }
+    }
+    new DenseLu(A!, m).solveInPlace(B, cols);
   }
-  if (!A) separableDirichlet(nx, ny, strip.geometry[h + 1]![3]!, strip.geometry[h + 1]![5]!).solveInPlace(B, cols);
-  else new DenseLu(A, m).solveInPlace(B, cols);
 
   // u at node (k, l) as constant + left·u_L + right·u_R.
   const interior = (k: number, l: number) => ((k - 1) * my + (l - 1)) * cols;

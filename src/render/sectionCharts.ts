@@ -1,6 +1,6 @@
 /**
  * Charts of one cross-section: flow fraction against holdup for several aspect ratios (with the
- * limit of infinitely deep plates), and the velocity map over the cross-section with the
+ * limit of infinitely deep plates, and with the interface an arc beside the flat one where asked), and the velocity map over the cross-section with the
  * interface. Exports `flowFractionChart`, `velocityFieldChart`. Pure: data in (from
  * analyses/sectionCurves.ts), SVG out.
  */
@@ -8,12 +8,13 @@ import type { FlowFractionCurves, SectionVelocity } from '../analyses/sectionCur
 import { DISPLAY } from '../units/format.js';
 import { heatmap, lineChart, type LineSeries } from './chart.js';
 
-/** The legend name of a curve: this channel, a comparison rectangle, or the plates. */
+/** The legend name of a curve: this channel (with the arc or flat, when the interface is curved), a comparison rectangle, or the plates. */
 function curveName(c: FlowFractionCurves['curves'][number], ratioName: string): string {
-  if (c.kind === 'etched' || c.kind === 'trapezoid') return `this ${c.kind} channel`;
+  const which = c.interface === 'arc' ? ', interface an arc' : c.interface === 'flat' ? ', flat interface' : '';
+  if (c.kind === 'etched' || c.kind === 'trapezoid') return `this ${c.kind} channel${which}`;
   if (c.kind === 'bottom-rectangle') return 'rectangle as wide as its bottom, as deep';
   if (c.aspect === undefined) return 'infinitely deep plates';
-  return c.given ? `this channel (${ratioName} ${Number(c.aspect.toPrecision(3))})` : `${ratioName} ${c.aspect}`;
+  return c.given || c.interface ? `this channel (${ratioName} ${Number(c.aspect.toPrecision(3))})${which}` : `${ratioName} ${c.aspect}`;
 }
 
 export function flowFractionChart(data: FlowFractionCurves): string {

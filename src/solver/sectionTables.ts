@@ -25,8 +25,8 @@ export class SectionTables {
    * The table that inverts flow fraction → holdup for this section and lane viscosities. For a
    * shaped section whose ratio has no table yet (a lane of mixed composition), the built table
    * nearest in log ratio stands in (the Picard start's inversions only; the lanes interpolate
-   * in the ratio): building one costs about a second, and mixed lanes ask for a new ratio at
-   * nearly every sweep.
+   * in the ratio): building one costs tenths of a second for a new shape, and mixed lanes ask
+   * for a new ratio at nearly every sweep.
    */
   holdup(section: TwoLayerSection, muNear: number, muFar: number): HoldupTable {
     if (section.shape !== 'rect') {

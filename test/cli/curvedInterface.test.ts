@@ -1,14 +1,17 @@
 /**
- * The curved interface as a user runs it: `section --delta --tension` for one channel, and
+ * The curved interface as a user runs it: `section --delta --tension` for one channel (and its
+ * flow-fraction chart with the arc), and
  * `solve` of a layout with `interface: curved` (the summary line with the largest shift, the
  * JSON rows with the flat holdup), with one clear line and exit status 2 for bad input.
  */
 import { describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { XMLValidator } from 'fast-xml-parser';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { runCli } from '../support/cli.js';
 import { curvedTwoLayerFlow } from '../../src/physics/curvedSection.js';
+import { flowFractionCurves } from '../../src/analyses/sectionCurves.js';
 
 const BASE = ['section', '--width', '60um', '--depth', '20um', '--mu-a', '5mPa.s', '--mu-b', '1mPa.s'];
 
@@ -33,11 +36,39 @@ describe('stratiflow section --delta', () => {
     expect(out).toMatch(/flat interface holdup +0\.\d+ \(shift [-−]?0\.\d+\)/);
   });
 
+  it('draws the flow-fraction chart with the arc beside the flat interface', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'stratiflow-arc-chart-'));
+    const { code, err } = await runCli([...BASE, '--holdup', '0.5', '--delta', '2Pa', '--tension', '0.1mN/m', '--plot', join(dir, 'p.svg')]);
+    expect(code, err).toBe(0);
+    const svg = readFileSync(join(dir, 'p.svg'), 'utf8');
+    expect(XMLValidator.validate(svg)).toBe(true);
+    expect(svg).toMatch(/this channel \(depth\/width 0\.333\), interface an arc/);
+    expect(svg).toMatch(/this channel \(depth\/width 0\.333\), flat interface/);
+  });
+
+  it('gives the chart the flow fractions of the solve with the arc, and the flat ones beside them', () => {
+    // The chart's data against the library's direct solve at the same holdups (same function,
+    // so equal to rounding of the chord: 1e-12) and against the flat curve it replaces.
+    const section = { shape: 'rect', width: 60e-6, depth: 20e-6, orientation: 'side' } as const;
+    const curved = flowFractionCurves(section, 5e-3, 1e-3, 0.5, 2e4);
+    const flat = flowFractionCurves(section, 5e-3, 1e-3, 0.5);
+    const arc = curved.curves.find((c) => c.interface === 'arc')!;
+    expect(arc.points).toHaveLength(11);
+    for (const [alpha, phi] of arc.points.filter((_, i) => i % 5 === 0)) {
+      const k = curvedTwoLayerFlow(section, alpha, 2e4, 5e-3, 1e-3);
+      expect(Math.abs(phi - k.kA / (k.kA + k.kB))).toBeLessThan(1e-12);
+    }
+    expect(curved.curves.find((c) => c.interface === 'flat')!.points).toEqual(flat.curves.find((c) => c.given)!.points);
+    const k = curvedTwoLayerFlow(section, 0.5, 2e4, 5e-3, 1e-3);
+    expect(Math.abs(curved.operatingPoint[1] - k.kA / (k.kA + k.kB))).toBeLessThan(1e-12);
+  });
+
   it('refuses bad input with one line and exit status 2', async () => {
     const cases: Array<[string[], RegExp]> = [
       [['--holdup', '0.5', '--delta', '2Pa'], /--tension: give the interfacial tension/],
       [['--holdup', '0.5', '--delta', '12Pa', '--tension', '0.1mN/m'], /--delta: the arc .* cannot span the depth/],
       [['--holdup', '0.5', '--delta', '2Pa', '--tension', '0.1mN/m', '--orientation', 'stacked'], /--delta: a curved interface is modelled for side-by-side layers only/],
+      [['--holdup', '0.5', '--delta', '2Pa', '--tension', '0.1mN/m', '--field', join(tmpdir(), 'never-written.svg')], /--field: the velocity map draws the flat interface only; leave out --delta to draw it/],
     ];
     for (const [extra, message] of cases) {
       const { code, err } = await runCli([...BASE, ...extra]);

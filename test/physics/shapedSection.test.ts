@@ -5,9 +5,9 @@
  * The independent finite-element reference is in freefemReference.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import { chebyshevGrid } from '../../src/physics/chebyshev.js';
+import { chebyshevGrid, DenseLu, partlySeparableDirichlet, separableDirichlet } from '../../src/physics/chebyshev.js';
 import { spectralTwoLayer } from '../../src/physics/spectralSection.js';
-import { shapedConductance, shapedTwoLayerFlow, wallProfileOf, type ShapedSection } from '../../src/physics/shapedSection.js';
+import { forgetShapedSolves, shapedConductance, shapedFlows, shapedTwoLayerFlow, wallProfileOf, type ShapedSection } from '../../src/physics/shapedSection.js';
 import { areaLeftOf, interfacePosition, type WallProfile } from '../../src/physics/wallProfile.js';
 import { twoLayerFlow } from '../../src/physics/twoLayer.js';
 import { rectConductance } from '../../src/physics/singlePhase.js';
@@ -49,6 +49,53 @@ describe('chebyshevGrid', () => {
   });
 });
 
+describe('the separable strip solvers', () => {
+  const [nx, ny] = [9, 7];
+  const [mx, my] = [nx - 1, ny - 1];
+  const gx = chebyshevGrid(nx);
+  const gy = chebyshevGrid(ny);
+  /** The collocated a·D²_ξ + p·D²_η + q·D_η on the interior nodes, row (i − 1)(ny − 1) + j − 1, as a dense matrix. */
+  function dense(a: number, p: ArrayLike<number>, q: ArrayLike<number>): Float64Array {
+    const m = mx * my;
+    const A = new Float64Array(m * m);
+    for (let i = 1; i < nx; i++) {
+      for (let j = 1; j < ny; j++) {
+        const row = (i - 1) * my + j - 1;
+        for (let k = 1; k < nx; k++) A[row * m + (k - 1) * my + j - 1] += a * gx.d2[i * (nx + 1) + k]!;
+        for (let l = 1; l < ny; l++) A[row * m + (i - 1) * my + l - 1] += p[j]! * gy.d2[j * (ny + 1) + l]! + q[j]! * gy.d1[j * (ny + 1) + l]!;
+      }
+    }
+    return A;
+  }
+  const rhs = (k: number) => Float64Array.from({ length: mx * my * k }, (_, e) => Math.sin(1 + 0.37 * e));
+
+  it('partlySeparableDirichlet solves the same system as dense LU of its collocation', () => {
+    // Two ways to one linear system (the partial diagonalisation is exact algebra); tolerance:
+    // rounding of a degree-9 collocation, whose condition number is about 1e4.
+    const p = Float64Array.from(gy.nodes, (t) => (1 - t) ** 2);
+    const q = Float64Array.from(gy.nodes, (t) => -(1 - t));
+    const b = rhs(3);
+    const want = b.slice();
+    new DenseLu(dense(0.8, p, q), mx * my).solveInPlace(want, 3);
+    partlySeparableDirichlet(nx, ny, 0.8, p, q).solveInPlace(b, 3);
+    b.forEach((v, e) => expect(Math.abs(v - want[e]!)).toBeLessThan(1e-10 * Math.max(1, Math.abs(want[e]!))));
+  });
+
+  it('separableDirichlet.solveSide gives the solutions of the right-hand sides g ⊗ e_l that solveInPlace gives one by one', () => {
+    // Two evaluations of the same fast diagonalisation; tolerance: rounding.
+    const solver = separableDirichlet(nx, ny, 1.3, 0.6);
+    const g = Float64Array.from({ length: mx }, (_, i) => Math.cos(0.5 + i));
+    const side = new Float64Array(mx * my * (my + 2));
+    solver.solveSide(g, side, my + 2, 1);
+    const each = new Float64Array(mx * my * my);
+    for (let i = 0; i < mx; i++) for (let l = 0; l < my; l++) each[(i * my + l) * my + l] = g[i]!;
+    solver.solveInPlace(each, my);
+    for (let r = 0; r < mx * my; r++) {
+      for (let l = 0; l < my; l++) expect(Math.abs(side[r * (my + 2) + 1 + l]! - each[r * my + l]!)).toBeLessThan(1e-12);
+    }
+  });
+});
+
 describe('spectralTwoLayer on rectangles', () => {
   // The exact Fourier series of the two-layer rectangle (twoLayer.ts; White, 2006, §3-3.3, with
   // the interface conditions of Bird, Stewart & Lightfoot, 2002, problem 2B.7), accurate to 1e-12.
@@ -87,6 +134,15 @@ describe('shaped sections in one phase', () => {
     // 15.767 (table value, from memory). Measured 15.76683; tolerance 3e-5: the table's five
     // significant digits (the solver's own error here is below 1e-7).
     expect(relativeError(fanningRe({ shape: 'etched', maskWidth: 0, depth: DEPTH }), 15.767)).toBeLessThan(3e-5);
+  });
+
+  it('converge in an etched section and a half-disc: degree 16 within 5e-8 of degree 40 in one phase', () => {
+    // Self-convergence of the collocation (the quarter-round walls as polar rectangles, whose
+    // corners are right-angled and at the Lobatto clusters): measured 1.8e-8 (100 × 50 µm) and
+    // 2.9e-8 (half-disc); the transfinite walls had 6.5e-8 and 3.4e-7.
+    for (const section of [{ shape: 'etched', maskWidth: 100e-6, depth: 50e-6 }, { shape: 'etched', maskWidth: 0, depth: 50e-6 }] as ShapedSection[]) {
+      expect(relativeError(shapedConductance(section, MU_B, 16), shapedConductance(section, MU_B, 40)), JSON.stringify(section)).toBeLessThan(5e-8);
+    }
   });
 
   it('give fRe = 40/3 for the equilateral triangle (trapezoid with no bottom and 60° walls)', () => {
@@ -177,7 +233,63 @@ describe('flowFractionAt and holdupForFlowFraction on shaped sections', () => {
   });
 });
 
+describe('kept strip condensations', () => {
+  it('give the flows of a solve from none when kept from a section of another size (scale) and the other wall (mirror)', () => {
+    // The quarter-round walls of a 30 × 70 µm section, kept, stand in scaled and mirrored for
+    // those of the 100 × 40 µm one; the same collocation either way, so they agree to rounding
+    // (measured 1.1e-14 of the total flow; bound 1e-12). A wrong scale of the flux rows or of the
+    // source, or a side mirrored wrongly, would be off at order one.
+    const other: ShapedSection = { shape: 'etched', maskWidth: 30e-6, depth: 70e-6 };
+    for (const holdup of [0.1, 0.5, 0.93]) {
+      forgetShapedSolves();
+      const fresh = shapedFlows(ETCHED, holdup, 3e-3, 1e-3);
+      forgetShapedSolves();
+      shapedFlows(other, 0.5, 1e-3, 1e-3);
+      const kept = shapedFlows(ETCHED, holdup, 3e-3, 1e-3);
+      const total = fresh.kA + fresh.kB;
+      expect(Math.abs(kept.kA - fresh.kA), `k_A at ${holdup}`).toBeLessThan(1e-12 * total);
+      expect(Math.abs(kept.kB - fresh.kB), `k_B at ${holdup}`).toBeLessThan(1e-12 * total);
+    }
+  });
+});
+
 describe('HoldupTable on shaped sections', () => {
+  it('builds only the stretches it is asked about, and answers there as the table built whole', () => {
+    // Holdups and flow fractions over the flat bottom (joints at 0.19 and 0.81 here) need the
+    // middle stretch alone; its nodes are the same solves either way, so the answers are equal
+    // to the bit.
+    const lazy = new HoldupTable(ETCHED, 6.5e-3, 1.9e-3);
+    const whole = new HoldupTable(ETCHED, 6.5e-3, 1.9e-3).complete();
+    for (const alpha of [0.3, 0.5, 0.7]) expect(lazy.flowsAt(alpha)).toEqual(whole.flowsAt(alpha));
+    expect(lazy.solve(0.5)).toEqual(whole.solve(0.5));
+    expect(lazy.stretches).toEqual({ count: 3, built: 1 });
+    expect(whole.stretches).toEqual({ count: 3, built: 3 });
+  });
+
+  it('holds the mirror image of its lower half in its upper half: k_A(α; μ_A, μ_B) = k_B(1 − α; μ_B, μ_A)', () => {
+    // Identity of a symmetric section (mirroring it exchanges the layers). The upper half of a
+    // table is solved that way, from the lower half's interfaces with the viscosities exchanged,
+    // so it is the lower half of the table of exchanged viscosities but for the node at α = 0.5,
+    // which each solves itself (the solver is mirror-symmetric to 3e-9 there, its rounding in the
+    // flat strips' eigenbases), and the rounding of the interpolation: measured 6.4e-12 of the
+    // total flow and 5.1e-10 of |dk_A| + |dk_B|; bounds 1e-10 and 1e-8. A mirrored node put in
+    // the wrong place would be off by the change of k from one node to the next (1e-2 or more).
+    for (const section of [ETCHED, TRAPEZOID]) {
+      const table = new HoldupTable(section, 0.56e-3, 0.89e-3);
+      const exchanged = new HoldupTable(section, 0.89e-3, 0.56e-3);
+      for (const alpha of [0.6, 0.8, 0.95, 0.999]) {
+        const k = table.flowsAt(alpha);
+        const m = exchanged.flowsAt(1 - alpha);
+        const total = k.kA + k.kB;
+        const slopes = Math.abs(k.dkA) + Math.abs(k.dkB);
+        expect(Math.abs(k.kA - m.kB), `${section.shape} k_A at ${alpha}`).toBeLessThan(1e-10 * total);
+        expect(Math.abs(k.kB - m.kA), `${section.shape} k_B at ${alpha}`).toBeLessThan(1e-10 * total);
+        expect(Math.abs(k.dkA + m.dkB), `${section.shape} dk_A at ${alpha}`).toBeLessThan(1e-8 * slopes);
+        expect(Math.abs(k.dkB + m.dkA), `${section.shape} dk_B at ${alpha}`).toBeLessThan(1e-8 * slopes);
+      }
+    }
+  });
+
   it('inverts flow fractions to within 2e-5 of the direct inversion, with flows to 1e-5', () => {
     // The table is the answer for shaped sections (no polish): its interpolation and its coarser
     // solver degree, measured at most 1e-5 in the holdup (at φ = 0.001) and 3e-6 in k elsewhere.
