@@ -75,6 +75,11 @@ const STAGNANT = 1e-14;
 const STALL_STEPS = 60;
 /** Rounds of split-branch prediction per step. */
 const ACTIVE_SET_ROUNDS = 4;
+/**
+ * A step may reuse the last factors when the whole Newton step before it cut the merit by this
+ * factor or more: Newton's quadratic phase, where the matrix hardly moves between steps.
+ */
+const NEAR_CONTRACTION = 1e-3;
 /** A row counts as settled within this multiple of its rounding floor. */
 const ROUNDING_FLOOR_FACTOR = 16;
 /**
@@ -319,11 +324,15 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     heldJacobian = withComposition ? undefined : freezeHoldup;
   };
   /** The linear step of (J − D/τ)·δ = −F at x; τ = Infinity is Newton's step. */
-  const linearised = (tau: number, freezeHoldup: boolean | 'open'): Float64Array => {
+  const linearised = (tau: number, freezeHoldup: boolean | 'open', near = false): Float64Array => {
     if (heldJacobian !== freezeHoldup) eq.evaluate(x, settings(true, freezeHoldup));
     heldJacobian = undefined;
     if (Number.isFinite(tau)) for (let i = 0; i < n; i++) if (eq.dynamic[i]! !== 0) eq.builder.add(i, i, eq.dynamic[i]! / tau);
     const matrix = eq.builder.toCsc();
+    if (near && scaled && opt.linear === 'sparse') {
+      const reused = workspace.factors.solveNear(matrix, negated(eq.F));
+      if (reused) return reused;
+    }
     if (scaled) return linearStep(matrix, negated(eq.F), opt.linear, workspace.factors);
     scaled = true;
     rowScale.fill(0);
@@ -354,10 +363,10 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * with the slopes of the piece it lands on; until the prediction agrees with the branches used
    * (a few rounds at most).
    */
-  const step = (tau: number, freeze: boolean | 'open' = false): Float64Array => {
+  const step = (tau: number, freeze: boolean | 'open' = false, near = false): Float64Array => {
     eq.splitBranch.fill(undefined);
     eq.mergeBranch.fill(undefined);
-    let delta = linearised(tau, freeze);
+    let delta = linearised(tau, freeze, near);
     iterations++;
     // Smoothed rows have one piece: their Jacobian is the exact one, nothing to predict.
     for (let round = 0; round < (smoothing > 0 ? 0 : ACTIVE_SET_ROUNDS); round++) {
@@ -594,6 +603,9 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     let improvedAt = 0;
     /** The line search's evaluation of the step taken holds F and J at x, anchored at x (`evaluateBeforeStep`'s). */
     let evaluatedHere = false;
+    /** The merit before the last step, and whether that step was a whole Newton step. */
+    let lastMerit = Infinity;
+    let lastWhole = false;
     while (iterations < opt.maxIterations) {
       if (!evaluatedHere) {
         anchor.set(x);
@@ -662,7 +674,11 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       const start = x.slice();
       const startF = eq.F.slice();
       const startNoise = eq.noise.slice();
-      const delta = step(tau);
+      // Near the solution (the last full Newton step cut the merit by NEAR_CONTRACTION or more)
+      // the step may come from the last factors (FactorCache.solveNear).
+      const now = merit();
+      const delta = step(tau, false, tau === Infinity && lastWhole && now <= NEAR_CONTRACTION * lastMerit);
+      lastMerit = now;
       if (picard !== 'off') {
         // From the Picard point, a holdup whose lanes carry almost nothing is weakly determined
         // and its Newton step can be tens of channel widths, far outside the lanes' linear
@@ -721,6 +737,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
           heldJacobian = false;
           evaluatedHere = true;
         }
+        lastWhole = t === 1 && descended && tau === Infinity;
         if (whole && !descended) anchor.set(start);
         if (descended || t <= opt.minStep) break;
         t /= 2;
