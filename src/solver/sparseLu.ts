@@ -79,11 +79,13 @@ export class SparseLuSymbolic {
   factor(a: SparseMatrix): SparseLuFactor {
     if (!samePattern(a, this.pattern)) throw new Error('matrix pattern differs from the analysed pattern');
     const scratch = (this.scratch ??= scratchOf(a.n));
+    let resume: Resume | undefined;
     if (this.pivots) {
       const refactored = refactor(a, this.pivots, this.pivotThreshold, this.singularTolerance, scratch);
-      if (refactored) return refactored;
+      if (refactored instanceof TriangularFactors) return refactored;
+      resume = { previous: this.pivots, partial: refactored };
     }
-    const factor = leftLookingLu(a, this.columnOrder, this.pivotThreshold, this.singularTolerance, this.capacity, scratch);
+    const factor = leftLookingLu(a, this.columnOrder, this.pivotThreshold, this.singularTolerance, this.capacity, scratch, resume);
     this.capacity = Math.max(factor.nnzL, factor.nnzU) + a.n;
     this.pivots = factor;
     return factor;
@@ -142,6 +144,25 @@ class ColumnStore {
   }
 }
 
+/** The columns a refactorisation completed before a kept pivot failed its test (L's rows as pivot steps). */
+interface PartialFactors {
+  columns: number;
+  L: ColumnStore;
+  U: ColumnStore;
+  uDiag: Float64Array;
+}
+
+/** Where a pivot search takes over from a refactorisation: the factorisation it refactored, and the columns it completed. */
+interface Resume {
+  previous: TriangularFactors;
+  partial: PartialFactors;
+}
+
+/**
+ * P·A·Q = L·U by pivot search, from the first column, or from the column where a
+ * refactorisation stopped (`resume`): the columns before it keep the refactorisation's pivots,
+ * which passed their tests, so their work is not done again.
+ */
 function leftLookingLu(
   a: SparseMatrix,
   q: Int32Array,
@@ -149,9 +170,11 @@ function leftLookingLu(
   singularTolerance: number,
   capacity: number,
   scratch: Scratch,
+  resume?: Resume,
 ): TriangularFactors {
   const work = new LeftLookingColumns(a, q, capacity, scratch);
-  const failedColumn = work.factorColumns(pivotThreshold, singularTolerance);
+  if (resume) work.preset(resume.previous, resume.partial);
+  const failedColumn = work.factorColumns(pivotThreshold, singularTolerance, resume?.partial.columns ?? 0);
   // A column without a usable pivot does not stop the factorisation: the rows still unpivoted
   // at the end tell which equation is redundant.
   if (failedColumn >= 0) throw SingularMatrixError.blame(a, failedColumn, work.pinv.indexOf(-1));
@@ -169,7 +192,7 @@ const OFF_DIAGONAL_KEPT = 0.5;
 
 /**
  * P·A·Q = L·U with the row pivots and the L and U patterns of `previous` (a factorisation of a
- * matrix with A's pattern), or undefined when a kept pivot fails its test: the column's
+ * matrix with A's pattern), or the columns completed before a kept pivot failed its test: the column's
  * diagonal at least `pivotThreshold` of the largest candidate (the search's own rule), another
  * row at least OFF_DIAGONAL_KEPT of it, and above its own cancellation noise. Each column is the same left-looking triangular solve as in the search,
  * in the topological order that the search stored in U, without the depth-first search, as
@@ -179,7 +202,7 @@ const OFF_DIAGONAL_KEPT = 0.5;
  * differ from the search's in rounding; both are threshold-pivoted LU factors of A, equally
  * stable. Hand-written: no maintained JavaScript library offers a sparse LU.
  */
-function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: number, singularTolerance: number, scratch: Scratch): TriangularFactors | undefined {
+function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: number, singularTolerance: number, scratch: Scratch): TriangularFactors | PartialFactors {
   const { n, colPtr: Ap, rowIdx: Ai, values: Ax } = a;
   const { q, pinv } = previous;
   const { start: Lp, index: Li } = previous.L;
@@ -231,7 +254,7 @@ function refactor(a: SparseMatrix, previous: TriangularFactors, pivotThreshold: 
       x[i] = 0;
       magnitude[i] = 0;
     }
-    if (!kept) return undefined;
+    if (!kept) return { columns: k, L, U, uDiag };
     uDiag[k] = pivot;
   }
   return new TriangularFactors(n, q, pinv, L, U, uDiag, previous.pivotAt, true);
@@ -316,10 +339,35 @@ class LeftLookingColumns {
     this.visited.fill(-1);
   }
 
-  /** Computes all columns; returns the first column without a usable pivot, or −1. */
-  factorColumns(pivotThreshold: number, singularTolerance: number): number {
+  /**
+   * Takes the first `partial.columns` columns from a refactorisation of `previous`'s pivots:
+   * their pivot rows, L with its rows back in the original numbering, U and the diagonal.
+   */
+  preset(previous: TriangularFactors, partial: PartialFactors): void {
+    const k = partial.columns;
+    const rowAt = new Int32Array(this.a.n);
+    previous.pinv.forEach((step, row) => (rowAt[step] = row));
+    for (let j = 0; j < k; j++) this.pinv[rowAt[j]] = j;
+    const lEnd = partial.L.start[k];
+    const uEnd = partial.U.start[k];
+    this.L.reserve(lEnd);
+    this.U.reserve(uEnd);
+    for (let p = 0; p < lEnd; p++) this.L.index[p] = rowAt[partial.L.index[p]];
+    this.L.value.set(partial.L.value.subarray(0, lEnd));
+    this.L.start.set(partial.L.start.subarray(0, k + 1));
+    this.L.size = lEnd;
+    this.U.index.set(partial.U.index.subarray(0, uEnd));
+    this.U.value.set(partial.U.value.subarray(0, uEnd));
+    this.U.start.set(partial.U.start.subarray(0, k + 1));
+    this.U.size = uEnd;
+    this.uDiag.set(partial.uDiag.subarray(0, k));
+    this.pivotAt.set(previous.pivotAt.subarray(0, k));
+  }
+
+  /** Computes the columns from `first` on; returns the first column without a usable pivot, or −1. */
+  factorColumns(pivotThreshold: number, singularTolerance: number, first = 0): number {
     let failedColumn = -1;
-    for (let k = 0; k < this.a.n; k++) {
+    for (let k = first; k < this.a.n; k++) {
       if (!this.factorColumn(k, pivotThreshold, singularTolerance) && failedColumn < 0) failedColumn = this.q[k];
     }
     return failedColumn;
