@@ -632,6 +632,20 @@ describe('robustness of the solve', () => {
     expectStatedStates(result, raw);
   });
 
+  // Regression: at f9e7a19 (and still after the first solver-cost changes of the next stop) this
+  // 1024-contactor Z-type ladder ended "did not settle" after 1167 steps from 6 starts, its best
+  // residual 1.8e-12 of the throughput; it settles since the composition stage starts once the
+  // flows settle to 1e-8 and near-solution steps reuse the last factors (574 steps, measured).
+  it('settles the badly distributed 1024-contactor Z-type ladder of the benchmark family', { timeout: 180_000 }, () => {
+    const chip = badlyDistributedLadder(1024, 'pressure', 'opposite');
+    const { result, raw } = solveChip(chip);
+    expect(result.converged, `${result.message ?? ''} ${result.unsettled.join(', ')}`).toBe(true);
+    expectConservation(chip, result, 1e-9, true);
+    expect(raw.feedStates.filter((f) => f !== 'open').length).toBeGreaterThan(0);
+    expect(result.splits.some((s) => s.state !== 'pinned')).toBe(true);
+    expectStatedStates(result, raw);
+  });
+
   // Regression: letting the last stage of the composition homotopy fall back in every attempt
   // sent the generator's default 16-contactor ladder through all attempts (2000 steps) without
   // settling; it settles in the first.
