@@ -11,11 +11,8 @@
  * worker thread runs it: one realisation drawn, its chip realised, solved from the nominal
  * solution and recorded (`runJob`), on one thread, after warm-up.
  */
-import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
-import { availableParallelism, tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { buildDist, ROOT } from './built.js';
+import { availableParallelism } from 'node:os';
+import { buildDist, builtPath, runBuilt } from './built.js';
 import type { ToleranceSpec, Variation } from '../src/analyses/tolerance.js';
 import type { Row } from './report.js';
 
@@ -45,15 +42,14 @@ const SPEC: ToleranceSpec = {
  * bench's own tsx loader the built modules are transformed again when imported, and a realisation
  * solve took 1.4–1.5 times as long (3.3 against 4.9 ms, measured).
  */
-function childScript(dist: string, workers: number): string {
-  const load = (path: string) => JSON.stringify(join(dist, `${path}.js`));
+function childScript(workers: number): string {
   return `
-import { ladderLayout } from ${load('layout/generate')};
-import { layoutToChip } from ${load('layout/load')};
-import { runTolerance } from ${load('analyses/tolerance')};
-import { planTolerance, runJob, observableLayout } from ${load('analyses/toleranceModel')};
-import { solveChip, warmStartFrom } from ${load('analyses/chip')};
-import { SolverWorkspace } from ${load('solver/newton')};
+import { ladderLayout } from ${builtPath('layout/generate')};
+import { layoutToChip } from ${builtPath('layout/load')};
+import { runTolerance } from ${builtPath('analyses/tolerance')};
+import { planTolerance, runJob, observableLayout } from ${builtPath('analyses/toleranceModel')};
+import { solveChip, warmStartFrom } from ${builtPath('analyses/chip')};
+import { SolverWorkspace } from ${builtPath('solver/newton')};
 const SPEC = ${JSON.stringify(SPEC)};
 const chip = layoutToChip(ladderLayout({ contactors: ${CONTACTORS}, manifold: { width: 2000e-6, depth: 200e-6 }, drive: { A: { pressure: 3000 }, B: { pressure: 2700 } }, outletPressure: { A: 200, B: 20 } }), 'bench ladder');
 const nominal = solveChip(chip);
@@ -76,15 +72,7 @@ console.log(JSON.stringify({ soloMs: (solo.user + solo.system) / 1e3 / ${TIMED},
 export function benchTolerance(): Row[] {
   buildDist();
   const workers = availableParallelism();
-  // A script file rather than --eval: the study's worker threads inherit the child's exec
-  // arguments, and --input-type would refuse their files.
-  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-tolerance-'));
-  const script = join(dir, 'study.mjs');
-  writeFileSync(script, childScript(join(ROOT, 'dist'), workers));
-  const run = spawnSync(process.execPath, [script], { encoding: 'utf8', maxBuffer: 1 << 26 });
-  rmSync(dir, { recursive: true, force: true });
-  if (run.status !== 0) throw new Error(`the tolerance study did not run: ${(run.stderr ?? '').trim().split('\n').find((line) => /Error/.test(line)) ?? run.stderr}`);
-  const m = JSON.parse(run.stdout.trim().split('\n').pop()!) as { soloMs: number; unsolved: number; wall: number; cpuS: number; firstOrderSolves: number; notSolved: number; pinned: number | null; firstOrderPinned: number | null };
+  const m = JSON.parse(runBuilt(childScript(workers), 'the tolerance study')) as { soloMs: number; unsolved: number; wall: number; cpuS: number; firstOrderSolves: number; notSolved: number; pinned: number | null; firstOrderPinned: number | null };
   const solves = SAMPLES + m.firstOrderSolves;
   return [
     { name: `${SAMPLES} realisations × ${CONTACTORS} contactors, ${workers} threads, with first-order estimate (${m.firstOrderSolves} more solves)`, value: m.wall, unit: 's', target: WALL_TARGET_S },
