@@ -276,6 +276,8 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
   const muA = net.chip.phases.A.viscosity;
   const muB = net.chip.phases.B.viscosity;
   const mix = (x: number) => x * muA + (1 - x) * muB;
+  /** Every plain element joins two ports of one pure nominal phase (no junction mixes A and B). */
+  const pureNetwork = net.plains.every((el) => ports[el.from]!.nominal === ports[el.to]!.nominal && (ports[el.from]!.nominal === 0 || ports[el.from]!.nominal === 1));
 
   let x = new Float64Array(n);
   const anchor = new Float64Array(n);
@@ -457,6 +459,11 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
    * nominal ones still hold: every split pinned, every feed open, nothing mixed.
    */
   const carriedCompositions = (): Float64Array | undefined => {
+    // Every plain element joins ports of one pure phase, every split pinned and every feed open,
+    // and the compositions at their nominal values: no port can receive the other phase (a lane
+    // carries its own phase, leaks and crossovers are zero), so the transport solve would give
+    // the nominal compositions back.
+    if (pureNetwork && eq.splitStates.every((st) => st === 'pinned') && eq.feedStates.every((st) => st === 'open') && unknownOf.every((u, i) => u < 0 || x[compAt + u] === ports[i]!.nominal)) return undefined;
     const carried = propagatedCompositions(net, {
       pressure: (p) => eq.pressureOf(x, p),
       plainFlow: eq.plainFlow,
