@@ -122,3 +122,23 @@ describe('stratiflow solve with interface: curved on deep contactors at low tens
     expect(out).not.toMatch(/NaN|Infinity/);
   });
 });
+
+describe('stratiflow solve with interface: curved, etched contactors beyond what the strips map', () => {
+  // 100 × 40 µm etched contactors at γ = 0.01 mN/m: the arc reaches |κ|·depth/2 ≈ 0.9, where the
+  // strips next to an arc over the round wall's joint fold (a known limit, README). Before, the
+  // solve ended in "internal error: the transfinite map … folds over" (exit 70).
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-curved-etched-'));
+  const text = readFileSync(new URL('../../layouts/enzyme-atps-16.yaml', import.meta.url), 'utf8')
+    .replace(/^interfacialTension: .*$/m, 'interfacialTension: 0.00001\ninterface: curved')
+    .replace(/shape: rect\n(\s+)width: 0\.00015\n(\s+)depth: 0\.00002/g, 'shape: etched\n$1maskWidth: 0.0001\n$2depth: 0.00004');
+  const file = join(dir, 'enzyme-curved-etched.yaml');
+  writeFileSync(file, text);
+
+  it('stops with one line naming the contactor and exit status 6, no internal error', async () => {
+    const { code, err } = await runCli(['solve', file]);
+    expect(err).not.toMatch(/internal error/);
+    expect(code).toBe(6);
+    expect(err.trim().split('\n')).toHaveLength(1);
+    expect(err).toMatch(/^stratiflow: .*k\d+: interface: curved cannot represent this contactor's arc/);
+  });
+});
