@@ -86,11 +86,12 @@ export function sagitta(depth: number, curvature: number): number {
  * The holdup share e_b over which the curvature is blended to zero from either side: the area
  * left of the taper width w_t = CURVATURE_LIMIT·D (D the depth) as a share of the section's
  * area, or w_t/W when the section is narrower than w_t (W the top width; then e_b > 1).
- * Why w_t: over a flat stretch the blended arc's sagitta is (d/2)·tan(θ/2) ≤ (3/4)(κD/2)·D/w_t
- * of the layer's width x near the edge (factor ≈ 3x/w_t, sin θ = κd/2, tan(θ/2) ≤ sin θ), so at
- * the tables' limit κD/2 = CURVATURE_LIMIT the bulge stays within 3/4 of the layer it bulges
- * into, for a rectangle of any aspect ratio (the factors of both sides multiply where the two
- * tapers overlap, W < 2w_t, and each is at most 1).
+ * Why w_t: in a rectangle the blended arc's sagitta (D/2)·tan(θ/2), sin θ = f·κD/2, over the
+ * layer's width x = r·w_t tends to (3/4)(κD/2)·D/w_t at the edge (f ≈ 3r, tan(θ/2) ≈ sin θ/2),
+ * which is 3/4 at the tables' limit κD/2 = CURVATURE_LIMIT; further in it is smaller (computed
+ * at κD/2 = 0.9: 0.72, 0.64, 0.54, 0.35 at r = 0.05, 0.2, 0.5, 1). So the bulge stays within
+ * 3/4 of the layer it bulges into for a rectangle of any aspect ratio (the factors of both
+ * sides multiply where the two tapers overlap, W < 2w_t, and each is at most 1).
  */
 export function taperHoldup(profile: WallProfile): number {
   let share = TAPER_HOLDUPS.get(profile);
