@@ -11,7 +11,8 @@ export type ErrorCode =
   | 'bad-file' // a file cannot be read or parsed
   | 'bad-output' // an output file or folder cannot be written
   | 'no-convergence' // the network solve did not settle
-  | 'infeasible'; // a target cannot be met
+  | 'infeasible' // a target cannot be met
+  | 'out-of-model'; // the solve reached a state the model cannot represent (a curved interface's arc its strips cannot map)
 
 const EXIT_STATUS: Record<ErrorCode, number> = {
   'bad-option': 2,
@@ -21,6 +22,7 @@ const EXIT_STATUS: Record<ErrorCode, number> = {
   'bad-output': 5,
   'no-convergence': 4,
   infeasible: 3,
+  'out-of-model': 6,
 };
 
 export interface ErrorPlace {

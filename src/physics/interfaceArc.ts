@@ -16,10 +16,14 @@
  * of the arc: α·A = areaLeftOf(x_e) − sign(κ)·segmentArea.
  *
  * Near a starved edge the layer is thinner than the arc's sagitta and a single arc from cover
- * to bottom no longer fits; there the curvature is blended to zero (curvatureTaper): within
- * taperHoldup of either edge κ is scaled by 1 − (1 − e/e_b)³, e the share of the area between
- * the chord and the near side, which joins the full curvature with two continuous derivatives. This is a rule of the model, not of
- * the physics (a real interface there breaks into corner films); contactors run at mid holdups.
+ * to bottom no longer fits; there the curvature is blended to zero (curvatureTaper), the taper
+ * rule of the model: within the taper width w_t = CURVATURE_LIMIT·D (0.9 depths) of either side
+ * κ is scaled by 1 − (1 − e/e_b)³, e the share of the area between the chord and that side and
+ * e_b the share of the first w_t (taperHoldup), which joins the full curvature with two
+ * continuous derivatives; where the tapers of both sides overlap (top width below 2w_t) the two
+ * factors multiply. In a rectangle the arc's bulge then stays within 3/4 of the layer's width
+ * up to κD/2 = 0.9, at any aspect ratio. This is a rule of the model, not of the physics (a
+ * real interface there breaks into corner films); contactors run at mid holdups.
  */
 import { areaLeftOf, depthAt, type Curve, type WallProfile } from './wallProfile.js';
 
@@ -79,14 +83,21 @@ export function sagitta(depth: number, curvature: number): number {
 }
 
 /**
- * The holdup share within which the curvature is blended to zero: the area left of
- * x = min(D, W/4) (W the top width, D the depth), where a layer is at least as wide as the
- * largest sagitta (D/2) in any section that is at least as wide as deep.
+ * The holdup share e_b over which the curvature is blended to zero from either side: the area
+ * left of the taper width w_t = CURVATURE_LIMIT·D (D the depth) as a share of the section's
+ * area, or w_t/W when the section is narrower than w_t (W the top width; then e_b > 1).
+ * Why w_t: in a rectangle the blended arc's sagitta (D/2)·tan(θ/2), sin θ = f·κD/2, over the
+ * layer's width x = r·w_t tends to (3/4)(κD/2)·D/w_t at the edge (f ≈ 3r, tan(θ/2) ≈ sin θ/2),
+ * which is 3/4 at the tables' limit κD/2 = CURVATURE_LIMIT; further in it is smaller (computed
+ * at κD/2 = 0.9: 0.72, 0.64, 0.54, 0.35 at r = 0.05, 0.2, 0.5, 1). So the bulge stays within
+ * 3/4 of the layer it bulges into for a rectangle of any aspect ratio (the factors of both
+ * sides multiply where the two tapers overlap, W < 2w_t, and each is at most 1).
  */
 export function taperHoldup(profile: WallProfile): number {
   let share = TAPER_HOLDUPS.get(profile);
   if (share === undefined) {
-    share = areaLeftOf(profile, Math.min(profile.depth, 0.25 * profile.topWidth)) / profile.area;
+    const width = CURVATURE_LIMIT * profile.depth;
+    share = width <= profile.topWidth ? areaLeftOf(profile, width) / profile.area : width / profile.topWidth;
     TAPER_HOLDUPS.set(profile, share);
   }
   return share;
@@ -95,18 +106,24 @@ export function taperHoldup(profile: WallProfile): number {
 /** taperHoldup by profile (a table asks for it at every evaluation). */
 const TAPER_HOLDUPS = new WeakMap<WallProfile, number>();
 
+/** The cubic blend 1 − (1 − r)³ on r = e/e_b ∈ [0, 1] (1 beyond) and its derivative in e. */
+function blend(e: number, eb: number): { f: number; df: number } {
+  if (e >= eb) return { f: 1, df: 0 };
+  const r = 1 - Math.max(0, e) / eb;
+  return { f: 1 - r * r * r, df: (3 * r * r) / eb };
+}
+
 /**
  * The factor on κ for a chord whose flat holdup (the area share left of x_e) is α_c (see the
- * module comment), and its derivative in α_c. The taper is a function of the chord, not of the
- * holdup, so that the flows are smooth in (x_e, κ) between wall joints (curvedTable.ts).
+ * module comment): the blends from both sides multiplied, f(α_c)·f(1 − α_c), and its
+ * derivative in α_c. The taper is a function of the chord, not of the holdup, so that the
+ * flows are smooth in (x_e, κ) between wall joints (curvedTable.ts).
  */
 export function curvatureTaper(profile: WallProfile, chordHoldup: number): { factor: number; dFactor: number } {
   const eb = taperHoldup(profile);
-  const e = Math.min(chordHoldup, 1 - chordHoldup);
-  if (e >= eb) return { factor: 1, dFactor: 0 };
-  const r = 1 - Math.max(0, e) / eb;
-  const sign = chordHoldup <= 0.5 ? 1 : -1;
-  return { factor: 1 - r * r * r, dFactor: (sign * 3 * r * r) / eb };
+  const left = blend(chordHoldup, eb);
+  const right = blend(1 - chordHoldup, eb);
+  return { factor: left.f * right.f, dFactor: left.df * right.f - left.f * right.df };
 }
 
 /** The curvature the arc of chord x_e takes at the contactor's curvature κ: κ times the taper. */

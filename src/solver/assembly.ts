@@ -16,6 +16,7 @@
 import { laneConductances, type LaneConductances } from '../physics/lanes.js';
 import { curvedLaneConductances, type CurvedLaneConductances } from '../physics/curvedLanes.js';
 import { SectionTables } from './sectionTables.js';
+import { StratiflowError } from '../errors.js';
 import type { ContactorElement, Network } from '../network/assemble.js';
 import { TripletBuilder } from './sparseMatrix.js';
 import { laneLaw, mergeState, plainLaw, splitLaw, type FeedBranch, type SplitBranch } from './elements.js';
@@ -190,9 +191,19 @@ export class NetworkEquations {
     // A curved interface: the flat lanes times the arc's factor, at the phases' own viscosities.
     const nearIsA = this.net.ports[el.nearIn]!.nominal >= 0.5;
     const coupled = this.net.curvedTension !== undefined;
-    const k = curvature === 0 && !coupled ? flat : curvedLaneConductances(flat, this.tables.curved(section, nearIsA ? this.muA : this.muB, nearIsA ? this.muB : this.muA), alpha, curvature);
+    const k = curvature === 0 && !coupled ? flat : this.curvedLanes(el, flat, nearIsA, alpha, curvature);
     this.laneMemo[c] = { alpha, muN, muF, curvature, slopes, k };
     return k;
+  }
+
+  /** The lanes with the arc; a state the curved strips cannot map is the user's one line naming the contactor (exit 6). */
+  private curvedLanes(el: ContactorElement, flat: LaneConductances, nearIsA: boolean, alpha: number, curvature: number): CurvedLaneConductances {
+    try {
+      return curvedLaneConductances(flat, this.tables.curved(el.section, nearIsA ? this.muA : this.muB, nearIsA ? this.muB : this.muA), alpha, curvature);
+    } catch (error) {
+      if (!(error instanceof RangeError)) throw error;
+      throw new StratiflowError('out-of-model', `interface: curved cannot represent this contactor's arc (${error.message}); solve it with the flat interface or a lower curvature`, { element: el.segment.id });
+    }
   }
 
   evaluate(v: Float64Array, o: EvaluateOptions): void {

@@ -101,3 +101,44 @@ describe('stratiflow solve with interface: curved', () => {
     expect(json.contactors.map((r: { id: string }) => r.id)).toContain(json.summary.curvedInterface.largestShift.contactor);
   });
 });
+
+describe('stratiflow solve with interface: curved on deep contactors at low tension', () => {
+  // Regression: the bundled chip with 100 × 50 µm contactors and γ = 0.02 mN/m ended in
+  // "internal error: the arc … leaves the section" (exit 70): the old taper, min(D, W/4) wide,
+  // let the arc's bulge outgrow the thin layer next to a wall once |κ|·D/2 passed about 2/3.
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-curved-deep-'));
+  const text = readFileSync(new URL('../../layouts/enzyme-atps-16.yaml', import.meta.url), 'utf8')
+    .replace(/^interfacialTension: .*$/m, 'interfacialTension: 0.00002\ninterface: curved')
+    .replace(/width: 0\.00015\n(\s+)depth: 0\.00002/g, 'width: 0.0001\n$1depth: 0.00005');
+  const file = join(dir, 'enzyme-curved-deep.yaml');
+  writeFileSync(file, text);
+
+  it('solves and settles, every number finite', async () => {
+    const { code, out, err } = await runCli(['solve', file, '--json']);
+    expect(err).not.toMatch(/internal error/);
+    expect(code).toBe(0);
+    const json = JSON.parse(out);
+    expect(json.summary.curvedInterface.settled).toBe(true);
+    expect(out).not.toMatch(/NaN|Infinity/);
+  });
+});
+
+describe('stratiflow solve with interface: curved, etched contactors beyond what the strips map', () => {
+  // 100 × 40 µm etched contactors at γ = 0.01 mN/m: the arc reaches |κ|·depth/2 ≈ 0.9, where the
+  // strips next to an arc over the round wall's joint fold (a known limit, README). Before, the
+  // solve ended in "internal error: the transfinite map … folds over" (exit 70).
+  const dir = mkdtempSync(join(tmpdir(), 'stratiflow-curved-etched-'));
+  const text = readFileSync(new URL('../../layouts/enzyme-atps-16.yaml', import.meta.url), 'utf8')
+    .replace(/^interfacialTension: .*$/m, 'interfacialTension: 0.00001\ninterface: curved')
+    .replace(/shape: rect\n(\s+)width: 0\.00015\n(\s+)depth: 0\.00002/g, 'shape: etched\n$1maskWidth: 0.0001\n$2depth: 0.00004');
+  const file = join(dir, 'enzyme-curved-etched.yaml');
+  writeFileSync(file, text);
+
+  it('stops with one line naming the contactor and exit status 6, no internal error', async () => {
+    const { code, err } = await runCli(['solve', file]);
+    expect(err).not.toMatch(/internal error/);
+    expect(code).toBe(6);
+    expect(err.trim().split('\n')).toHaveLength(1);
+    expect(err).toMatch(/^stratiflow: .*k\d+: interface: curved cannot represent this contactor's arc/);
+  });
+});

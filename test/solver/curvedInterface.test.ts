@@ -10,7 +10,7 @@ import { readFileSync } from 'node:fs';
 import { parseLayout } from '../../src/layout/load.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { curvedTwoLayerFlow } from '../../src/physics/curvedSection.js';
-import { CurvedTable } from '../../src/physics/curvedTable.js';
+import { CurvedTable, CURVED_TABLE } from '../../src/physics/curvedTable.js';
 import { assembleNetwork } from '../../src/network/assemble.js';
 import { solveCurvedInterface } from '../../src/solver/curvedInterface.js';
 import { NetworkEquations } from '../../src/solver/assembly.js';
@@ -178,4 +178,23 @@ describe('NetworkEquations with a curved interface coupled into Newton', () => {
       }
     }
   });
+});
+
+describe('CurvedTable over its whole stated range (|κ|·depth/2 ≤ 0.9)', () => {
+  // Regression: with the old taper (min(D, W/4) wide) a table stretch beyond |κ|·D/2 ≈ 0.5 threw
+  // "the arc … leaves the section" in a rectangle less than four times as wide as deep. The
+  // values are checked finite and positive at θ nodes and between them in every stretch.
+  for (const [width, depth] of [[100e-6, 50e-6], [60e-6, 50e-6]] as const) {
+    it(`builds every stretch for a ${width * 1e6} × ${depth * 1e6} µm rectangle, side by side`, () => {
+      const table = new CurvedTable({ shape: 'rect', width, depth, orientation: 'side' }, 5e-3, 1e-3);
+      for (let q = -0.9; q <= 0.9 + 1e-12; q += 0.05) {
+        for (const alpha of [0.02, 0.2, 0.5, 0.8, 0.98]) {
+          const r = table.flowsAt(alpha, (2 * q) / depth);
+          for (const v of [r.kA, r.kB]) expect(v).toBeGreaterThan(0);
+          for (const v of [r.dkA, r.dkB, r.dkADCurvature, r.dkBDCurvature]) expect(Number.isFinite(v)).toBe(true);
+        }
+      }
+      expect(table.stretchesBuilt).toBe(CURVED_TABLE.angleStretches);
+    });
+  }
 });
