@@ -87,7 +87,16 @@ export function analyseSection(query: SectionQuery): SectionSummary {
   if (query.holdup !== undefined) check(query.holdup > 0 && query.holdup < 1, 'holdup', 'must lie strictly between 0 and 1');
   if (query.flowFraction !== undefined) check(query.flowFraction > 0 && query.flowFraction < 1, 'flowFraction', 'must lie strictly between 0 and 1');
   if (query.totalFlow !== undefined) check(query.totalFlow > 0, 'totalFlow', 'must be a positive flow');
-  if (query.delta !== undefined) return analyseCurvedSection(query);
+  if (query.delta !== undefined) {
+    try {
+      return analyseCurvedSection(query);
+    } catch (error) {
+      // The strips next to the arc cannot be mapped (an etched or trapezoidal wall joint near the
+      // chord at a high curvature): a limit of the model, said in one line (exit 6).
+      if (!(error instanceof RangeError)) throw error;
+      throw new StratiflowError('out-of-model', `the curved interface cannot represent this arc (${error.message}); give a lower --delta or a higher --tension, or leave them out for the flat interface`, { field: 'delta' });
+    }
+  }
 
   const state: TwoPhaseState =
     query.holdup !== undefined

@@ -202,7 +202,7 @@ export class NetworkEquations {
       return curvedLaneConductances(flat, this.tables.curved(el.section, nearIsA ? this.muA : this.muB, nearIsA ? this.muB : this.muA), alpha, curvature);
     } catch (error) {
       if (!(error instanceof RangeError)) throw error;
-      throw new StratiflowError('out-of-model', `interface: curved cannot represent this contactor's arc (${error.message}); solve it with the flat interface or a lower curvature`, { element: el.segment.id });
+      throw new StratiflowError('out-of-model', `interface: curved cannot represent this contactor's arc (${error.message}); solve it with the flat interface or a lower curvature`, { file: this.net.chip.source, element: el.segment.id });
     }
   }
 

@@ -139,6 +139,18 @@ describe('stratiflow solve with interface: curved, etched contactors beyond what
     expect(err).not.toMatch(/internal error/);
     expect(code).toBe(6);
     expect(err.trim().split('\n')).toHaveLength(1);
-    expect(err).toMatch(/^stratiflow: .*k\d+: interface: curved cannot represent this contactor's arc/);
+    expect(err).toMatch(/^stratiflow: .*enzyme-curved-etched\.yaml.*k\d+: interface: curved cannot represent this contactor's arc/);
+  });
+});
+
+describe('stratiflow section --delta beyond what the strips map', () => {
+  // The same limit for one channel: an etched 100 × 40 µm section at holdup 0.1 with
+  // |κ|·depth/2 = 0.8 (Δ = 0.4 Pa, γ = 0.01 mN/m). Before, "internal error" (exit 70).
+  it('stops with one line naming --delta and exit status 6', async () => {
+    const { code, err } = await runCli(['section', '--shape', 'etched', '--mask-width', '100um', '--depth', '40um', '--mu-a', '5mPa.s', '--mu-b', '1mPa.s', '--holdup', '0.1', '--delta', '0.4Pa', '--tension', '0.01mN/m']);
+    expect(err).not.toMatch(/internal error/);
+    expect(code).toBe(6);
+    expect(err.trim().split('\n')).toHaveLength(1);
+    expect(err).toMatch(/^stratiflow: --delta: the curved interface cannot represent this arc/);
   });
 });
