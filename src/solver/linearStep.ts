@@ -12,6 +12,7 @@
  * a 4096-contactor solve cost as much or more with them, measured).
  */
 import { factorize, SparseLuSymbolic, type LinearFactor, type SparseMatrix } from './linear.js';
+import { approximateMinimumDegree, normalEquationsPattern } from './ordering.js';
 
 /** The symbolic analyses (by pattern) of a sequence of solves, with the pivots of the current one. */
 export class FactorCache {
@@ -71,6 +72,17 @@ export class FactorCache {
     for (const { symbolic } of this.symbolics) symbolic.keepPivotsForRestart();
   }
 
+  /**
+   * Patterns met from now on are ordered for a sweep: minimum degree on AᵀA (ordering.ts
+   * `normalEquationsPattern`), less fill for the unsymmetric composition rows at twice the
+   * ordering time, which the many solves of a sweep win back and a single solve does not.
+   */
+  orderForSweeps(): void {
+    this.sweep = true;
+  }
+
+  private sweep = false;
+
   solve(matrix: SparseMatrix, rhs: Float64Array): Float64Array {
     // One sweep of iterative refinement (Wilkinson; Higham, Accuracy and Stability of Numerical
     // Algorithms, 2nd ed., 2002, §12.1): chips whose feeds are far more conductive than their
@@ -93,7 +105,7 @@ export class FactorCache {
   private symbolicFor(matrix: SparseMatrix): SparseLuSymbolic {
     const found = this.symbolics.find((s) => samePattern(s.pattern, matrix));
     if (found) return found.symbolic;
-    const symbolic = new SparseLuSymbolic(matrix);
+    const symbolic = new SparseLuSymbolic(matrix, this.sweep ? { ordering: approximateMinimumDegree(normalEquationsPattern(matrix)) } : {});
     this.symbolics.unshift({ pattern: matrix, symbolic });
     const unprimed = this.symbolics.filter((s) => !s.symbolic.hasRestartPivots);
     if (unprimed.length > FactorCache.PATTERNS) this.symbolics.splice(this.symbolics.indexOf(unprimed[unprimed.length - 1]!), 1);

@@ -172,7 +172,8 @@ export class SolverWorkspace {
  * with this workspace starts from those pivots (FactorCache.keepPivotsAsStart). The matrices of
  * a nearby chip mostly keep them, so its first factorisation of each pattern is a refactorisation
  * instead of a search (in a 64-contactor tolerance study, a third of the factorisation cost;
- * measured). Deterministic: two threads primed from one solution start every solve alike.
+ * measured); its patterns are ordered for sweeps (FactorCache.orderForSweeps). Deterministic:
+ * two threads primed from one solution start every solve alike.
  */
 export function primeWorkspace(net: Network, solution: WarmStart, workspace: SolverWorkspace): void {
   const map = new UnknownMap(net);
@@ -180,6 +181,7 @@ export function primeWorkspace(net: Network, solution: WarmStart, workspace: Sol
   const { x } = unknownsOf(eq, solution);
   eq.evaluate(x, { jacobian: false, freezeHoldup: false, withComposition: false, anchor: x, compositionPull: 0 });
   const reference = eq.flowReference();
+  workspace.factors.orderForSweeps();
   for (const withComposition of [false, true]) {
     eq.evaluate(x, { jacobian: true, freezeHoldup: false, withComposition, anchor: x, compositionPull: COMPOSITION_PULL * reference });
     try {

@@ -7,7 +7,8 @@
  * variables with identical adjacency merge into supervariables, and each variable's external
  * degree is replaced by the cheap upper bound of the paper.
  *
- * Exports `approximateMinimumDegree`. Looks at the pattern only, never at values.
+ * Exports `approximateMinimumDegree` and `normalEquationsPattern` (the pattern of AᵀA, for
+ * ordering the columns of unsymmetric matrices). Looks at the pattern only, never at values.
  */
 
 import type { SparseMatrix } from './sparseMatrix.js';
@@ -345,4 +346,48 @@ class DegreeBuckets {
     this.remove(v);
     return v;
   }
+}
+
+/**
+ * The pattern of AᵀA: columns i and j joined where some row of A holds both, rows with more than
+ * denseDegree(n) entries left out. The Cholesky factor of AᵀA holds the fill of LU with any row
+ * pivoting (George & Ng, 1987, SIAM J. Sci. Stat. Comput. 8(6):877, from memory), so minimum
+ * degree on it orders the columns of an unsymmetric matrix, as COLAMD does without forming it
+ * (Davis, Gilbert, Larimore & Ng, 2004, ACM TOMS 30(3):353, from memory). Formed here: on the
+ * composition Jacobian of a 64-contactor chip it brings the fill from 1.40 to 1.15 times
+ * SuperLU's with COLAMD (measured), at twice the ordering time.
+ */
+export function normalEquationsPattern(a: SparseMatrix): SparseMatrix {
+  const { n, colPtr, rowIdx } = a;
+  const rowPtr = new Int32Array(n + 1);
+  for (let p = 0; p < colPtr[n]; p++) rowPtr[rowIdx[p] + 1]++;
+  for (let i = 0; i < n; i++) rowPtr[i + 1] += rowPtr[i];
+  const fill = rowPtr.slice(0, n);
+  const columns = new Int32Array(colPtr[n]);
+  for (let j = 0; j < n; j++) for (let p = colPtr[j]; p < colPtr[j + 1]; p++) columns[fill[rowIdx[p]]++] = j;
+  const dense = denseDegree(n);
+  const mark = new Int32Array(n);
+  // Two passes: the count of each column's neighbours, then the neighbours.
+  const start = new Int32Array(n + 1);
+  let entries: Int32Array | undefined;
+  for (let pass = 0; pass < 2; pass++) {
+    mark.fill(-1);
+    let size = 0;
+    for (let j = 0; j < n; j++) {
+      for (let p = colPtr[j]; p < colPtr[j + 1]; p++) {
+        const r = rowIdx[p];
+        if (rowPtr[r + 1] - rowPtr[r] > dense) continue;
+        for (let q = rowPtr[r]; q < rowPtr[r + 1]; q++) {
+          const k = columns[q];
+          if (mark[k] === j) continue;
+          mark[k] = j;
+          if (entries) entries[size] = k;
+          size++;
+        }
+      }
+      if (!entries) start[j + 1] = size;
+    }
+    if (!entries) entries = new Int32Array(size);
+  }
+  return { n, colPtr: start, rowIdx: entries!, values: new Float64Array(entries!.length) };
 }

@@ -10,6 +10,7 @@ import {
   type LinearFactor,
   type SparseMatrix,
 } from '../../src/solver/linear.js';
+import { normalEquationsPattern } from '../../src/solver/ordering.js';
 
 // Tolerances (infinity norms): both factorisations are backward stable and the test matrices are
 // well enough conditioned that their solutions agree, and residuals vanish, to this accuracy.
@@ -495,5 +496,23 @@ describe('factorize', () => {
     const a = saddle(60, 20, [1], 51);
     const b = rightHandSide(a.n, 52);
     expect(relativeDifference(factorize(a, 'sparse').solve(b), factorize(a, 'dense').solve(b))).toBeLessThanOrEqual(AGREEMENT);
+  });
+});
+
+describe('normalEquationsPattern', () => {
+  it('is the pattern of AᵀA (columns joined where a row holds both), and orders a factorisation as accurate as the default', () => {
+    const a = randomUnsymmetric(60, 3, 17);
+    const p = normalEquationsPattern(a);
+    const n = a.n;
+    // AᵀA's pattern by brute force: columns i and j share a row.
+    const rows = Array.from({ length: n }, (_, j) => new Set(Array.from(a.rowIdx.subarray(a.colPtr[j], a.colPtr[j + 1]))));
+    for (let j = 0; j < n; j++) {
+      const expected = [...Array(n).keys()].filter((i) => [...rows[i]!].some((r) => rows[j]!.has(r)));
+      expect(Array.from(p.rowIdx.subarray(p.colPtr[j], p.colPtr[j + 1])).sort((x, y) => x - y)).toEqual(expected);
+    }
+    const b = rightHandSide(n, 18);
+    const x = factorizeSparse(a, { ordering: approximateMinimumDegree(p) }).solve(b);
+    expect(relativeResidual(a, x, b)).toBeLessThanOrEqual(RESIDUAL);
+    expect(relativeDifference(x, factorizeDense(a).solve(b))).toBeLessThanOrEqual(AGREEMENT);
   });
 });
