@@ -83,11 +83,12 @@ export class FactorCache {
 
   private sweep = false;
 
-  solve(matrix: SparseMatrix, rhs: Float64Array): Float64Array {
+  /** `unsymmetric`: a new pattern is ordered as for sweeps (see `orderForSweeps`). */
+  solve(matrix: SparseMatrix, rhs: Float64Array, unsymmetric = false): Float64Array {
     // One sweep of iterative refinement (Wilkinson; Higham, Accuracy and Stability of Numerical
     // Algorithms, 2nd ed., 2002, §12.1): chips whose feeds are far more conductive than their
     // contactors give badly scaled systems, and the refined step is markedly better there.
-    return refinedSolve(matrix, this.factor(matrix), rhs);
+    return refinedSolve(matrix, this.factor(matrix, unsymmetric), rhs);
   }
 
   /**
@@ -96,16 +97,16 @@ export class FactorCache {
    * right-hand sides at a settled state (sensitivities), where the solve that settled it has
    * already ordered the same pattern.
    */
-  factor(matrix: SparseMatrix): LinearFactor {
-    const factor = this.symbolicFor(matrix).factor(matrix);
+  factor(matrix: SparseMatrix, unsymmetric = false): LinearFactor {
+    const factor = this.symbolicFor(matrix, unsymmetric).factor(matrix);
     this.last = { factor, n: matrix.n };
     return factor;
   }
 
-  private symbolicFor(matrix: SparseMatrix): SparseLuSymbolic {
+  private symbolicFor(matrix: SparseMatrix, unsymmetric: boolean): SparseLuSymbolic {
     const found = this.symbolics.find((s) => samePattern(s.pattern, matrix));
     if (found) return found.symbolic;
-    const symbolic = new SparseLuSymbolic(matrix, this.sweep ? { ordering: approximateMinimumDegree(normalEquationsPattern(matrix)) } : {});
+    const symbolic = new SparseLuSymbolic(matrix, this.sweep || unsymmetric ? { ordering: approximateMinimumDegree(normalEquationsPattern(matrix)) } : {});
     this.symbolics.unshift({ pattern: matrix, symbolic });
     const unprimed = this.symbolics.filter((s) => !s.symbolic.hasRestartPivots);
     if (unprimed.length > FactorCache.PATTERNS) this.symbolics.splice(this.symbolics.indexOf(unprimed[unprimed.length - 1]!), 1);
@@ -113,10 +114,14 @@ export class FactorCache {
   }
 }
 
-/** The Newton step for `matrix`·step = `rhs`. */
-export function linearStep(matrix: SparseMatrix, rhs: Float64Array, linear: 'sparse' | 'dense', cache: FactorCache): Float64Array {
+/**
+ * The Newton step for `matrix`·step = `rhs`. `unsymmetric`: the matrix has the composition rows
+ * (transport, far from symmetric, and factored at every step of the composition stage), so a new
+ * pattern is ordered on AᵀA (FactorCache.orderForSweeps).
+ */
+export function linearStep(matrix: SparseMatrix, rhs: Float64Array, linear: 'sparse' | 'dense', cache: FactorCache, unsymmetric = false): Float64Array {
   if (linear === 'dense') return refinedSolve(matrix, factorize(matrix, 'dense'), rhs);
-  return cache.solve(matrix, rhs);
+  return cache.solve(matrix, rhs, unsymmetric);
 }
 
 /**

@@ -344,7 +344,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
       const reused = workspace.factors.solveNear(matrix, negated(eq.F));
       if (reused) return reused;
     }
-    if (scaled) return linearStep(matrix, negated(eq.F), opt.linear, workspace.factors);
+    if (scaled) return linearStep(matrix, negated(eq.F), opt.linear, workspace.factors, withComposition);
     scaled = true;
     rowScale.fill(0);
     for (let j = 0; j < alphaAt; j++) {
@@ -364,7 +364,7 @@ function solveFrom(net: Network, opt: Required<SolverOptions>, warm: WarmStart |
     splits.forEach((sp, s) => (rowScale[leakAt + s] = sp.contactor.scale));
     const rhs = new Float64Array(n);
     for (let i = 0; i < n; i++) rhs[i] = -eq.F[i]!;
-    return linearStep(matrix, rhs, opt.linear, workspace.factors);
+    return linearStep(matrix, rhs, opt.linear, workspace.factors, withComposition);
   };
   /**
    * The step, with split and merge branches predicted from it (primal–dual active sets,
