@@ -55,6 +55,7 @@ export function findManifolds(solved: SolvedChip): Manifold[] {
     else linksOf.set(c, [s]);
   }
 
+  const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
   const manifolds: Manifold[] = [];
   components.forEach((nodes, c) => {
     const inlet = nodes.find((id) => kind.get(id) === 'inlet');
@@ -66,7 +67,6 @@ export function findManifolds(solved: SolvedChip): Manifold[] {
     const joining = tubes.filter((t) => members.has(t.from) !== members.has(t.to));
     const port = joining.map((t) => (members.has(t.from) ? t.from : t.to)).find(Boolean);
     const entry = port ?? (role === 'distribution' ? inlet : outlet) ?? (role === 'distribution' ? byPressure[0]! : byPressure[byPressure.length - 1]!);
-    const segmentResult = new Map(result.segments.map((r) => [r.id, r]));
     const tubing = joining.map((t) => ({ segment: t.id, length: t.length, pressureDrop: Math.abs(segmentResult.get(t.id)!.pressureDrop) }));
     // Channels are undirected here; parallel channels between two nodes are separate edges.
     const g = new Graph({ directed: false, multigraph: true });
@@ -75,7 +75,7 @@ export function findManifolds(solved: SolvedChip): Manifold[] {
     const paths = alg.dijkstra(g, entry, (e) => g.edge(e) as number, (v) => g.nodeEdges(v) ?? []);
     const profile = nodes
       .map((node) => ({ node, distance: paths[node]!.distance, pressure: pressure.get(node)! }))
-      .sort((a, b) => a.distance - b.distance || a.node.localeCompare(b.node));
+      .sort((a, b) => a.distance - b.distance || (a.node < b.node ? -1 : a.node > b.node ? 1 : 0));
     const phase: PhaseName = nominal(entry) >= 0.5 ? 'A' : 'B';
     manifolds.push({ role, phase, entry, profile, branched: nodes.some((id) => degree.get(id)! > 2), tubing });
   });

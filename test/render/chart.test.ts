@@ -232,6 +232,25 @@ describe('barChart and dotChart', () => {
     expect(runs[0]!.split('M').length - 1).toBe(n);
     expect(group(svg, 'markers')).not.toMatch(/class="marker"/);
   });
+  it('draws a series denser than the pixels as its min–max envelope, which keeps a lone outlier, and drops the per-index ticks', () => {
+    // Regression of scale: 16 384 contactors drew 16 384 tick marks and a marker each, 1 s of the report's charts.
+    const n = 16384;
+    const index = Array.from({ length: n }, (_, i) => i + 1);
+    const values = index.map((i) => (i === 9000 ? 0 : 1 + 0.1 * Math.sin(i / 2000)));
+    const svg = dotChart({ title: 'many', width: 760, x: { label: 'contactor' }, y: { label: 'value', domain: [0, 1.2] }, index, groups: [{ name: 'one', values }] });
+    const paths = [...group(svg, 'markers').matchAll(/<path class="envelope"[^>]* d="([^"]+)"/g)].map((m) => m[1]!);
+    expect(paths).toHaveLength(1);
+    const columns = [...paths[0]!.matchAll(/M([-\d.]+),([-\d.]+)V([-\d.]+)/g)].map((m) => [Number(m[1]), Number(m[2]), Number(m[3])]);
+    // At most one stroke per pixel column of the 760 px chart.
+    expect(columns.length).toBeLessThanOrEqual(760);
+    expect(new Set(columns.map((c) => c[0])).size).toBe(columns.length);
+    // The outlier reaches the bottom of the plot: the value 0 at the axis, within the stroke's half width (1.5 px).
+    const bottom = Math.max(...columns.map((c) => c[2]!));
+    const axisY = Number(/<line class="domain" x1="[-\d.]+" y1="([-\d.]+)"/.exec(group(svg, 'axis x'))![1]);
+    expect(Math.abs(bottom - axisY)).toBeLessThanOrEqual(1.5 + 0.01);
+    expect(group(svg, 'axis x').match(/class="tick"/g)!.length).toBeLessThan(30);
+    expect(texts(svg)).toContain('Too many points to mark one by one: each pixel column spans the smallest to the largest value that falls in it.');
+  });
 });
 
 describe('axes of data uniform up to rounding', () => {

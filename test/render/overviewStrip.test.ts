@@ -56,12 +56,28 @@ describe('overviewStrip', () => {
     expect(textOf(strips[0]!)).toMatch(/every contactor [\d.]+ µL\/min, within 2\.4e-12 of it/);
   });
 
-  it('fits 4096 contactors in its fixed width', () => {
-    // Only the renderer is exercised: the rows of a 64-contactor ladder repeated (not a solved chip of that size).
-    const rows = Array.from({ length: 4096 }, (_, i) => ({ ...ladder.result.contactors[i % 64]!, index: i + 1, id: `k${i + 1}` }));
+  it('fits 16 384 contactors in its fixed width, each cell at least a pixel, and a lone starved contactor still shows', () => {
+    // Only the renderer is exercised: the rows of a 64-contactor ladder repeated (not a solved chip of that size),
+    // with contactor 9000 starved of A. Regression of scale: one cell per contactor (0.05 px wide, blended
+    // by the browser) drew 65 536 links, 1.7 s of the 16 384-contactor report.
+    const rows = Array.from({ length: 16384 }, (_, i) => ({ ...ladder.result.contactors[i % 64]!, index: i + 1, id: `k${i + 1}` }));
+    rows[8999] = { ...rows[8999]!, flowA: 0 };
     const big = { ...ladder, result: { ...ladder.result, contactors: rows, splits: [] } };
     const root = parse(overviewStrip(big));
     expect(Number(root.attrs.width)).toBe(1100);
-    expect(all(all(root, hasClass('strip'))[0]!, (e) => e.name === 'a')).toHaveLength(4096);
+    const cells = all(all(root, hasClass('strip'))[0]!, (e) => e.name === 'rect' && e.attrs['data-index'] !== undefined);
+    // Every cell but the last (the remainder of the runs) is at least the 1 px minimum, to the 0.01 px of the written digits.
+    const widths = cells.slice(0, -1).map((c) => Number(c.attrs.width));
+    expect(Math.min(...widths)).toBeGreaterThanOrEqual(0.99);
+    // The runs cover every contactor once, in order.
+    const runs = cells.map((c) => c.attrs['data-contactors']!.split('-').map(Number));
+    expect(runs[0]![0]).toBe(1);
+    expect(runs.at(-1)![1]).toBe(16384);
+    for (let k = 1; k < runs.length; k++) expect(runs[k]![0]).toBe(runs[k - 1]![1]! + 1);
+    // The starved contactor is its cell's pick (farthest from the mean), at the bottom of the colour scale, linked.
+    const starved = cells.find((c) => c.attrs['data-index'] === '9000')!;
+    expect(starved.attrs.fill).toBe(viridis(0));
+    expect(all(root, (e) => e.name === 'a' && e.attrs.href === '#contactor-9000')).toHaveLength(1);
+    expect(textOf(root)).toMatch(/16384 contactors in \d+ cells of up to \d+: each cell shows \(and links to\) its contactor farthest from the row's mean/);
   });
 });
