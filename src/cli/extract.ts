@@ -90,14 +90,16 @@ export function registerExtract(program: Command, context: CommandContext): void
       const files: Output[] = [];
       if (csv) files.push({ path: csv, option: '--csv', content: extractionCsv(extraction) });
       // The live page solves the flows again; it redoes the extraction only where the layout names the solute.
-      const report = () => chipReport(solved, findManifolds(solved), { extraction, live: liveReport({ file }, { ...solved.result, extraction }) });
-      if (reportFile) files.push({ path: reportFile, option: '--report', content: report() });
+      // Drawn once and reported once, whether --report, --out or both ask for them.
+      const drawingSvg = reportFile || out ? chipDrawing(solved, { extraction: extractionColouring(extraction) }) : '';
+      const report = reportFile || out ? chipReport(solved, findManifolds(solved), { extraction, drawingSvg, live: liveReport({ file }, { ...solved.result, extraction }) }) : '';
+      if (reportFile) files.push({ path: reportFile, option: '--report', content: report });
       if (out) {
         const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
         into(OUT_FILES.along, extractionAlongChart(extraction));
         into(OUT_FILES.perContactor, contactorExtractionChart(extraction));
-        into(OUT_FILES.drawing, chipDrawing(solved, { extraction: extractionColouring(extraction) }));
-        into(OUT_FILES.report, report());
+        into(OUT_FILES.drawing, drawingSvg);
+        into(OUT_FILES.report, report);
       }
       writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       context.out(options.json ? JSON.stringify({ ...solved.result, extraction }, jsonNumbers, 2) + '\n' : extractionText(chip.name, extraction));

@@ -46,7 +46,8 @@ export function registerSolve(program: Command, context: CommandContext): void {
       const { result } = solved;
       const extraction = options.out || options.json ? layoutExtraction(solved, context) : undefined;
       const hold = result.converged ? holdTolerances(solved) : undefined;
-      const json = JSON.stringify({ ...result, ...(hold && { hold }), ...(extraction && { extraction }) }, jsonNumbers, 2) + '\n';
+      const solution = { ...result, ...(hold && { hold }), ...(extraction && { extraction }) };
+      const json = JSON.stringify(solution, jsonNumbers, 2) + '\n';
       if (result.converged) {
         // Everything is rendered before the first file is written.
         const files: Output[] = [];
@@ -56,8 +57,9 @@ export function registerSolve(program: Command, context: CommandContext): void {
           const into = (name: string, content: string) => files.push({ path: join(out, name), option: '--out', content });
           into('result.json', json);
           into('contactors.csv', contactorCsv(result));
-          into('chip.svg', chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {}));
-          into('report.html', chipReport(solved, findManifolds(solved), { extraction, live: liveReport({ file }, JSON.parse(json)) }));
+          const drawingSvg = chipDrawing(solved, extraction ? { extraction: extractionColouring(extraction) } : {});
+          into('chip.svg', drawingSvg);
+          into('report.html', chipReport(solved, findManifolds(solved), { extraction, drawingSvg, live: liveReport({ file }, solution) }));
         }
         writeOutputs(files, out ? [{ path: out, option: '--out' }] : []);
       }

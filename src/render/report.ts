@@ -28,10 +28,16 @@ import {
 import { escapeXml } from './svg.js';
 import { LIVE_IDS, liveControls, liveData } from './liveReport.js';
 import { CONTACTOR_COLUMNS, SAFETY_NOTES } from './text.js';
-import { min as minOf } from 'd3-array';
+import { group as groupBy, max as maxOf, min as minOf } from 'd3-array';
 
 export interface ReportOptions {
   drawing?: ChipDrawingOptions;
+  /**
+   * The chip drawing already drawn with these options (`chipDrawing(solved, drawing)`, with the
+   * extraction's colours where there is one), so that a command that writes the drawing as a
+   * file too does not draw it twice (3–4 s at 16 384 contactors).
+   */
+  drawingSvg?: string;
   /** The extraction of a solute on this solved chip: adds its section, warnings and drawing colours. */
   extraction?: ExtractionResult;
   /**
@@ -151,6 +157,83 @@ function sectionText(s: ChipSegment): string[] {
   }
 }
 
+/**
+ * More rows than this in the node or segment list and the report lists them by kind and by group
+ * instead (the layout file holds every one): 16 384 contactors have 147 456 segments, 34 MB of
+ * table that no reader scrolls and a browser lays out slowly.
+ */
+const FULL_INPUT_ROWS = 10_000;
+
+/** Smallest … largest of some values (non-finite ones left out) in a unit, the one value where they agree, or – where there is none. */
+function rangeText(values: readonly number[], format: (v: number) => string): string {
+  const low = minOf(values.filter(Number.isFinite));
+  const high = maxOf(values.filter(Number.isFinite));
+  if (low === undefined || high === undefined) return '–';
+  return format(low) === format(high) ? format(low) : `${format(low)} … ${format(high)}`;
+}
+
+/** A section's width (a tube's diameter, an etched channel's mask width, a trapezoid's bottom) and depth (NaN for a tube), m. */
+function sectionSize(s: ChipSegment): { width: number; depth: number } {
+  const sec = s.section;
+  switch (sec.shape) {
+    case 'rect':
+      return { width: sec.width, depth: sec.depth };
+    case 'tube':
+      return { width: sec.diameter, depth: Number.NaN };
+    case 'etched':
+      return { width: sec.maskWidth, depth: sec.depth };
+    case 'trapezoid':
+      return { width: sec.bottomWidth, depth: sec.depth };
+  }
+}
+
+/** The nodes and segments as read: every one, or for a large chip a table by node kind and by segment group, the ports in full. */
+export function inputTables(chip: SolvedChip['chip']): string[] {
+  const out: string[] = [];
+  const nodeRow = (n: ChipNode) => [n.id, n.kind, mm(n.x), mm(n.y), nodeSetting(n), n.note ?? ''];
+  const nodeHeader = ['node', 'kind', 'x mm', 'y mm', 'setting', 'note'];
+  out.push(`<details><summary>Nodes (${chip.nodes.length})</summary>`);
+  if (chip.nodes.length <= FULL_INPUT_ROWS) {
+    out.push(table(nodeHeader, chip.nodes.map(nodeRow), { textColumns: [0, 1, 4, 5] }));
+  } else {
+    const kinds = groupBy(chip.nodes, (n) => n.kind);
+    out.push(`<p>${chip.nodes.length} nodes, more than ${FULL_INPUT_ROWS} to list: by kind here, every one in the layout file.</p>`);
+    out.push(table(['kind', 'nodes'], [...kinds].map(([kind, list]) => [kind, String(list.length)]), { textColumns: [0] }));
+    out.push('<p>Inlets and outlets:</p>');
+    out.push(table(nodeHeader, chip.nodes.filter((n) => n.kind === 'inlet' || n.kind === 'outlet').map(nodeRow), { textColumns: [0, 1, 4, 5] }));
+  }
+  out.push('</details>');
+  out.push(`<details><summary>Segments (${chip.segments.length})</summary>`);
+  if (chip.segments.length <= FULL_INPUT_ROWS) {
+    out.push(
+      table(
+        ['segment', 'from', 'to', 'shape', 'width or diameter µm', 'depth µm', 'layers', 'length mm', 'group', 'note'],
+        chip.segments.map((s) => [s.id, s.from, s.to, ...sectionText(s), mm(s.length), s.group ?? '', s.note ?? '']),
+        { textColumns: [0, 1, 2, 3, 6, 8, 9] },
+      ),
+    );
+  } else {
+    const groups = groupBy(chip.segments, (s) => `${s.group ?? '(no group)'}\u0000${s.section.shape}`);
+    out.push(`<p>${chip.segments.length} segments, more than ${FULL_INPUT_ROWS} to list: by group and shape here, every one in the layout file.</p>`);
+    out.push(
+      table(
+        ['group', 'shape', 'segments', 'width, diameter, mask or bottom µm', 'depth µm', 'length mm'],
+        [...groups].map(([key, list]) => {
+          const [group, shape] = key.split('\u0000') as [string, string];
+          const sizes = list.map(sectionSize);
+          return [
+            group, shape, String(list.length), rangeText(sizes.map((z) => z.width), um), rangeText(sizes.map((z) => z.depth), um), rangeText(list.map((x) => x.length), mm),
+          ];
+        }),
+        { textColumns: [0, 1, 3, 4] },
+      ),
+    );
+  }
+  out.push('</details>');
+  return out;
+}
+
+
 /** The section of the analysis a report belongs to: its text as printed, its charts and its note. */
 function analysisSection(analysis: NonNullable<ReportOptions['analysis']>): string[] {
   const out = [`<h2>${esc(analysis.title)}</h2>`];
@@ -244,7 +327,7 @@ export function reportResults(solved: SolvedChip, manifolds: Manifold[], options
   }
 
   out.push('<h2>Chip drawing</h2>');
-  out.push(`<figure><div class="drawing">${chipDrawing(solved, drawing)}</div>`);
+  out.push(`<figure><div class="drawing">${options.drawingSvg ?? chipDrawing(solved, drawing)}</div>`);
   const colouredBy = extraction ? ' The contactors are coloured by their approach to equilibrium (see Extraction).' : '';
   out.push(`<figcaption>The solved chip in plan view; scale, width factor and conventions are stated under the drawing.${colouredBy}</figcaption></figure>`);
 
@@ -314,18 +397,7 @@ export function chipReport(solved: SolvedChip, manifolds: Manifold[], options: R
   if (chip.solute) inputs.push(['solute', `${chip.solute.label}: partition ${fmt(chip.solute.partition)}, fed in ${chip.solute.feedPhase} at ${fmt(chip.solute.feedConcentration)}`]);
   inputs.push(['nodes, segments', `${chip.nodes.length}, ${chip.segments.length}`]);
   out.push(definitionList(inputs));
-  out.push(`<details><summary>Nodes (${chip.nodes.length})</summary>`);
-  out.push(table(['node', 'kind', 'x mm', 'y mm', 'setting', 'note'], chip.nodes.map((n) => [n.id, n.kind, mm(n.x), mm(n.y), nodeSetting(n), n.note ?? '']), { textColumns: [0, 1, 4, 5] }));
-  out.push('</details>');
-  out.push(`<details><summary>Segments (${chip.segments.length})</summary>`);
-  out.push(
-    table(
-      ['segment', 'from', 'to', 'shape', 'width or diameter µm', 'depth µm', 'layers', 'length mm', 'group', 'note'],
-      chip.segments.map((s) => [s.id, s.from, s.to, ...sectionText(s), mm(s.length), s.group ?? '', s.note ?? '']),
-      { textColumns: [0, 1, 2, 3, 6, 8, 9] },
-    ),
-  );
-  out.push('</details>');
+  out.push(...inputTables(chip));
   out.push('<p><small>Made by stratiflow. Model predictions for planning; check them against the running chip.</small></p>');
   if (live) {
     out.push(liveData(solved, live.layout, live.solution));

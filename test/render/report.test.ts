@@ -1,12 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { XMLValidator } from 'fast-xml-parser';
+import { Graph, alg } from '@dagrejs/graphlib';
 import { ladderLayout, treeLayout } from '../../src/layout/generate.js';
 import { layoutToChip } from '../../src/layout/load.js';
 import type { LayoutFile } from '../../src/layout/schema.js';
 import { solveChip } from '../../src/analyses/chip.js';
 import { chipCharts } from '../../src/render/chipCharts.js';
 import { findManifolds } from '../../src/analyses/manifolds.js';
-import { chipReport } from '../../src/render/report.js';
+import { chipReport, inputTables } from '../../src/render/report.js';
 import { SAFETY_NOTES } from '../../src/render/text.js';
 import { analyseExtraction, type SoluteSetup } from '../../src/analyses/extraction.js';
 import { EXTRACTION_MODEL_NOTES, extractionColouring, extractionSummaryItems, soluteLine } from '../../src/render/extractionCharts.js';
@@ -60,6 +61,63 @@ describe('findManifolds', () => {
     const manifolds = findManifolds(tree);
     expect(manifolds).toHaveLength(4);
     expect(manifolds.every((m) => m.branched)).toBe(true);
+  });
+});
+
+describe('findManifolds distances', () => {
+  // Reference: graphlib's Dijkstra (a general-purpose graph library from the npm registry) over the
+  // same channels; the manifolds of a ladder and of a tree have no loops, and findManifolds walks them.
+  const dijkstra = (solved: typeof ladder, m: ReturnType<typeof findManifolds>[number]) => {
+    const members = new Set(m.profile.map((p) => p.node));
+    const g = new Graph({ directed: false, multigraph: true });
+    for (const id of members) g.setNode(id);
+    for (const s of solved.chip.segments) if (members.has(s.from) && members.has(s.to) && s.section.shape !== 'tube') g.setEdge(s.from, s.to, s.length, s.id);
+    return alg.dijkstra(g, m.entry, (e) => g.edge(e) as number, (v) => g.nodeEdges(v) ?? []);
+  };
+
+  it('walks a chain and a tree to the distances Dijkstra gives, to rounding (1e-15 m on sums of metres)', () => {
+    for (const solved of [ladder, tree]) {
+      for (const m of findManifolds(solved)) {
+        const reference = dijkstra(solved, m);
+        for (const p of m.profile) expect(Math.abs(p.distance - reference[p.node]!.distance)).toBeLessThan(1e-15);
+      }
+    }
+  });
+
+  it('takes the shorter way round a manifold whose channels close a loop', () => {
+    // The 16-contactor ladder with a bypass from dA1 straight to dA16 of 2 pitches: dA16 is then 2.5 pitches from the inlet, not 15.5.
+    const layout = ladderLayout({ contactors: 16, pitch: PITCH, drive: { A: { pressure: 10e3 }, B: { pressure: 8e3 } } });
+    const bypass = { ...layout.segments.find((s) => s.id === 'mdA1')!, id: 'bypassA', from: 'dA1', to: 'dA16', length: 2 * PITCH };
+    const looped = solveChip(layoutToChip({ ...layout, segments: [...layout.segments, bypass] }, 'looped.yaml'));
+    const a = findManifolds(looped).find((m) => m.entry === 'inA')!;
+    expect(a.profile.find((p) => p.node === 'dA16')!.distance).toBeCloseTo(2.5 * PITCH, 12);
+    const reference = dijkstra(looped, a);
+    for (const p of a.profile) expect(p.distance).toBeCloseTo(reference[p.node]!.distance, 12);
+  });
+});
+
+describe('inputTables of a large chip', () => {
+  it('lists nodes by kind and segments by group above 10 000 rows, with every port in full', () => {
+    // A generated 1700-contactor ladder (invented demo values), not solved: 15 300 segments, 10 204 nodes.
+    // Regression of scale: 16 384 contactors wrote 147 456 segment rows, 34 MB of the report.
+    const chip = layoutToChip(ladderLayout({ contactors: 1700 }), 'big.yaml');
+    const html = inputTables(chip).join('\n');
+    const segments = html.slice(html.indexOf('<details><summary>Segments'));
+    expect(segments).toContain('15300 segments, more than 10000 to list: by group and shape here, every one in the layout file.');
+    const rows = [...segments.matchAll(/<tr><td class="text">(\w+)<\/td><td class="text">rect<\/td><td>(\d+)<\/td>/g)].map((m) => [m[1], Number(m[2])]);
+    // The generator's groups: 2 feeds, 1 contactor and 2 drains per contactor; 4 manifolds of 1699 segments plus an entry or exit each.
+    expect(Object.fromEntries(rows)).toEqual({ feed: 3400, contactor: 1700, drain: 3400, manifold: 4 * 1700 });
+    const nodes = html.slice(html.indexOf('<details><summary>Nodes'), html.indexOf('<details><summary>Segments'));
+    expect(nodes).toContain('10204 nodes, more than 10000 to list');
+    expect(nodes).toContain('<td class="text">inA</td>');
+    expect(nodes).toContain('<td class="text">outB</td>');
+    expect(nodes).not.toContain('<td class="text">dA600</td>');
+  });
+
+  it('lists every node and segment of a chip below that', () => {
+    const html = inputTables(ladder.chip).join('\n');
+    expect(html).toContain('<td class="text">dA7</td>');
+    expect(html).toContain('<td class="text">mcB3</td>');
   });
 });
 
