@@ -12,6 +12,7 @@
 import { describe, expect, it } from 'vitest';
 import { fileURLToPath } from 'node:url';
 import { layoutToChip, loadLayout, parseLayout } from '../../src/layout/load.js';
+import { ladderLayout, LADDER_DEFAULTS } from '../../src/layout/generate.js';
 import { dyeLadder } from '../../bench/design.js';
 import { solveChip, warmStartFrom } from '../../src/analyses/chip.js';
 import { designChip, designTangents, type DesignSpec } from '../../src/analyses/design.js';
@@ -236,5 +237,49 @@ describe('designChip against a closed form', () => {
     for (const phase of ['A', 'B']) expect(Math.abs(r0(`f${phase}1`) - (r0(`f${phase}2`) + r0(`m${phase}`))) / r0(`f${phase}1`)).toBeLessThan(1e-6);
     // Narrower than the far feed, as a feed must be to add the manifold segment's resistance.
     expect(result.variables[0]!.sizes[0]!.after).toBeLessThan(100 * um);
+  });
+
+  /**
+   * A 16-contactor Z-type ladder (make ladder's default: both inlets at contactor 1's end, both
+   * outlets at contactor 16's), every manifold segment alike (R_m, per unit viscosity), feeds
+   * designed. Derivation (Kirchhoff's laws for a dividing/combining manifold pair): with equal
+   * flows q_p per contactor in phase p, distribution segment i (junction i to i + 1) carries
+   * (N − i)·q_p and collection segment i carries i·q_p, so
+   *   p_d(i) − p_d(i+1) = μ_p R_md,i (N − i) q_p  and  p_c(i) − p_c(i+1) = μ_p R_mc,i · i · q_p.
+   * Every contactor then has the same drops along contactor and arms, so along phase p's path
+   * p_d(i) − μ_p R_f,i q_p − p_c(i) is the same for all i, which gives
+   *   R_f,i − R_f,i+1 = R_md,i (N − i) − R_mc,i · i   (per unit viscosity, each phase).
+   * The split Δ = p_B − p_A is the same in every contactor when μ_A Q_A = μ_B Q_B and both phases'
+   * manifolds are alike (their pressures then drop alike), so the B path needs the same feeds and
+   * no split pressure enters the balance: the inlet flows are set so. Resistances of the rectangular
+   * ducts from their series solution (White, Viscous Fluid Flow, 2006, eq. 3-48).
+   */
+  it('tapers the feeds of a 16-contactor Z ladder as Kirchhoff\'s laws for a dividing/combining manifold pair say', () => {
+    const N = 16;
+    const q = 2e-9 / 60;
+    const { phaseA, phaseB } = LADDER_DEFAULTS;
+    const layout = ladderLayout({ contactors: N, manifold: { width: 300e-6, depth: 50e-6 }, drive: { A: { flow: N * q }, B: { flow: (N * q * phaseA.viscosity) / phaseB.viscosity } } });
+    // A window wide enough that the splits stay pinned whatever the feeds: the closed form is about the feeds.
+    const chip = layoutToChip({ ...layout, splitWindow: { low: -5000, high: 5000 } }, 'z16');
+    const result = designChip(chip, specOf(chip, ['feed.widths'], [], 1e-9));
+    expect(result.met).toBe(true);
+    // The Z ladder's middle starves as laid out (measured: CV 16 % in each phase).
+    expect(result.flowCv.before.A).toBeGreaterThan(0.1);
+    const r0 = (id: string) => {
+      const s = result.chip.segments.find((x) => x.id === id)!;
+      return s.length / conductance(s.section, 1);
+    };
+    for (const p of ['A', 'B']) {
+      for (let i = 1; i < N; i++) {
+        const designed = r0(`f${p}${i}`) - r0(`f${p}${i + 1}`);
+        const kirchhoff = r0(`md${p}${i}`) * (N - i) - r0(`mc${p}${i}`) * i;
+        // The design's CV of 1e-9 moves each feed's balance by about as much of the branch resistance (measured: 3.5e-10 at most).
+        expect(Math.abs(designed - kirchhoff) / r0(`f${p}${N}`)).toBeLessThan(1e-8);
+      }
+      // With equal manifold segments the closed form sums to R_f,i = R_f,N − R_m (i − 1)(N − i): the ends most resistive, the middle least.
+      const feeds = Array.from({ length: N }, (_, i) => r0(`f${p}${i + 1}`));
+      expect(feeds.indexOf(Math.min(...feeds)) + 1).toBeGreaterThanOrEqual(8);
+      expect(feeds.indexOf(Math.min(...feeds)) + 1).toBeLessThanOrEqual(9);
+    }
   });
 });
